@@ -1,0 +1,613 @@
+"""Read and validate a site case folder.
+
+A case folder holds ``site.toml`` (the scalar inputs, each with its unit) and the
+CSV tables it names (route profile, flow record, optional tailwater rating).
+:func:`load_case` checks every field, converts everything to SI floats and
+returns a :class:`Case`.  Any problem raises :class:`CaseError`, whose text names
+the file, the key or the CSV row, what is wrong and what is expected.
+
+The keys themselves are declared once, in :mod:`penstock.schema`.
+"""
+
+from __future__ import annotations
+
+import difflib
+import math
+import re
+import tomllib
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from . import fittings, friction, route, units
+from .schema import CASE_FILE, SECTIONS, SECTIONS_BY_NAME, Field, Section
+
+
+class CaseError(ValueError):
+    """A case folder that cannot be run.  The message is one line for the user."""
+
+    def __init__(self, file: str, where: str, problem: str):
+        self.file = file
+        self.where = where
+        self.problem = problem
+        super().__init__(f"{file}: {where}: {problem}" if where else f"{file}: {problem}")
+
+
+# --------------------------------------------------------------------------- case objects
+@dataclass(frozen=True)
+class Segment:
+    """A uniform pipe segment between two chainages. SI units."""
+
+    start: float
+    end: float
+    diameter: float
+    material: str
+    roughness: float
+    wall_thickness: float | None = None
+
+    @property
+    def area(self) -> float:
+        return math.pi * self.diameter**2 / 4.0
+
+
+@dataclass(frozen=True)
+class LocalLoss:
+    """One local loss at a chainage, with its kind-specific parameters (SI)."""
+
+    kind: str
+    at: float
+    label: str
+    k: float | None
+    params: dict
+
+
+@dataclass
+class Case:
+    """A validated site case, everything in SI floats and pandas objects."""
+
+    folder: Path
+    name: str
+    note: str
+    unit_system: str
+    temperature: float
+    altitude: float
+    headwater: float
+    headwater_min: float
+    tailwater: float | None
+    tailwater_rating: pd.DataFrame | None
+    profile: pd.DataFrame          # columns: chainage, elevation (+ ground)
+    pressure_margin: float
+    intake_approach: str
+    segments: list[Segment]
+    losses: list[LocalLoss]
+    flow_record: pd.Series | None  # river flow [m^3/s] on a DatetimeIndex
+    design_flow: float
+    maximum_flow: float
+    minimum_flow: float | None
+    extra_flows: list[float]
+    residual_flow: float
+    gap_method: str
+    turbine: dict
+    economics: dict
+    surge: dict
+    echo: list[dict] = field(default_factory=list)
+
+    @property
+    def slug(self) -> str:
+        """File-system name of the case (its folder name)."""
+        return self.folder.name
+
+    def tailwater_at(self, river_flow):
+        """Tailwater level for a river flow [m]; constant when no rating is given."""
+        q = np.asarray(river_flow, dtype=float)
+        if self.tailwater_rating is None:
+            return np.full_like(q, self.tailwater, dtype=float) if q.ndim else float(self.tailwater)
+        r = self.tailwater_rating
+        out = np.interp(q, r["flow"].to_numpy(), r["level"].to_numpy())
+        return out if q.ndim else float(out)
+
+
+# --------------------------------------------------------------------------- helpers
+_HEADER = re.compile(r"^\s*([^\[\]]+?)\s*(?:\[\s*([^\[\]]*?)\s*\])?\s*$")
+_DIMENSIONLESS_UNITS = {"-", "1", "", "%"}
+
+
+def _did_you_mean(word: str, options) -> str:
+    close = difflib.get_close_matches(word, list(options), n=1, cutoff=0.6)
+    return f"; did you mean '{close[0]}'?" if close else ""
+
+
+def _fmt_si(value: float, kind: str) -> str:
+    unit = units.SI_UNITS.get(kind, "")
+    return f"{value:g} {unit}".strip()
+
+
+class _Reader:
+    """Reads one case folder, accumulating the inputs echo."""
+
+    def __init__(self, folder: Path):
+        self.folder = folder
+        self.file = CASE_FILE
+        self.echo: list[dict] = []
+
+    # ---------------------------------------------------------------- scalar fields
+    def value(self, section: str, table: dict, f: Field, where: str):
+        """Validate and convert one field of a TOML table."""
+        key = f"{where}{f.name}"
+        if f.name in table:
+            raw = table[f.name]
+            given = True
+        else:
+            if f.required:
+                raise CaseError(self.file, key, f"is missing; expected {self._expect(f)}")
+            if f.default is None:
+                return None
+            raw = f.default
+            given = False
+        val = self._convert(raw, f, key)
+        if f.kind != "file":
+            self.echo.append({
+                "section": section, "key": key, "as written": _as_written(raw),
+                "value (SI)": _echo_value(val), "SI unit": units.SI_UNITS.get(f.kind, ""),
+                "source": self.file if given else "default",
+            })
+        return val
+
+    def _expect(self, f: Field) -> str:
+        if f.kind == "choice":
+            return "one of " + ", ".join(f"'{c}'" for c in f.choices)
+        if f.kind == "text":
+            return "text"
+        if f.kind == "file":
+            return "the name of a CSV file inside the case folder"
+        if f.kind == "integer":
+            return "a whole number"
+        if f.kind == "flow_list":
+            return 'a list of flows, e.g. ["1.0 m^3/s", "2.0 m^3/s"]'
+        return f"a {units._describe(f.kind)} with its unit, e.g. {units._example(f.kind)}"
+
+    def _convert(self, raw, f: Field, key: str):
+        kind = f.kind
+        if kind == "text":
+            if not isinstance(raw, str):
+                raise CaseError(self.file, key, f"{raw!r} is not text; expected text in quotes")
+            return raw
+        if kind == "choice":
+            if not isinstance(raw, str) or raw.strip().lower() not in f.choices:
+                hint = _did_you_mean(str(raw), f.choices)
+                raise CaseError(self.file, key, f"{raw!r} is not allowed; expected "
+                                f"{self._expect(f)}{hint}")
+            return raw.strip().lower()
+        if kind == "file":
+            return self._path(raw, key)
+        if kind == "integer":
+            if isinstance(raw, bool) or not isinstance(raw, int):
+                raise CaseError(self.file, key, f"{raw!r} is not a whole number")
+            self._range(float(raw), f, key)
+            return int(raw)
+        if kind == "flow_list":
+            if not isinstance(raw, list):
+                raise CaseError(self.file, key, f"{raw!r} is not a list; expected "
+                                f"{self._expect(f)}")
+            out = []
+            for i, item in enumerate(raw):
+                try:
+                    q = units.parse_quantity(item, "flow")
+                except units.UnitError as exc:
+                    raise CaseError(self.file, f"{key}[{i + 1}]", str(exc)) from None
+                if not q > 0:
+                    raise CaseError(self.file, f"{key}[{i + 1}]", f"{item!r} must be above zero")
+                out.append(q)
+            return out
+        try:
+            val = units.parse_quantity(raw, kind)
+        except units.UnitError as exc:
+            raise CaseError(self.file, key, str(exc)) from None
+        if not math.isfinite(val):
+            raise CaseError(self.file, key, f"{raw!r} is not a finite number")
+        self._range(val, f, key, raw)
+        return val
+
+    def _range(self, val: float, f: Field, key: str, raw=None):
+        shown = raw if raw is not None else val
+        lo, hi = f.minimum, f.maximum
+        if lo is not None and (val < lo or (f.exclusive_minimum and val <= lo)):
+            op = "above" if f.exclusive_minimum else "at least"
+            raise CaseError(self.file, key, f"{shown!r} is out of range; expected {op} "
+                            f"{_fmt_si(lo, f.kind)}")
+        if hi is not None and val > hi:
+            raise CaseError(self.file, key, f"{shown!r} is out of range; expected at most "
+                            f"{_fmt_si(hi, f.kind)}")
+
+    def _path(self, raw, key: str) -> Path:
+        if not isinstance(raw, str) or not raw.strip():
+            raise CaseError(self.file, key, f"{raw!r} is not a file name; expected the name of "
+                            "a CSV file inside the case folder")
+        root = self.folder.resolve()
+        path = (self.folder / raw).resolve()
+        if root != path and root not in path.parents:
+            raise CaseError(self.file, key, f"'{raw}' lies outside the case folder; expected a "
+                            "file inside it")
+        if not path.is_file():
+            raise CaseError(self.file, key, f"file '{raw}' does not exist in the case folder")
+        return path
+
+    def check_keys(self, table: dict, section: Section, where: str, allowed=None):
+        names = set(section.fields_by_name) | set(allowed or ())
+        for key in table:
+            if key not in names:
+                raise CaseError(self.file, f"{where}{key}", "unknown key" +
+                                (_did_you_mean(key, names) or
+                                 "; expected one of " + ", ".join(sorted(names))))
+
+    # ---------------------------------------------------------------- CSV tables
+    def table(self, path: Path, columns: tuple[tuple[str, str], ...], optional=()) -> pd.DataFrame:
+        """Read a CSV whose headers carry units, e.g. ``chainage [m]``; return SI columns."""
+        name = path.name
+        try:
+            raw = pd.read_csv(path, dtype=str, skipinitialspace=True, comment="#")
+        except pd.errors.EmptyDataError:
+            raise CaseError(name, "", "the file is empty; expected a header row and data rows")
+        except (pd.errors.ParserError, UnicodeDecodeError) as exc:
+            raise CaseError(name, "", f"cannot be read as CSV ({str(exc).splitlines()[0]})")
+        if raw.empty:
+            raise CaseError(name, "", "has a header but no data rows")
+        headers = {}
+        for col in raw.columns:
+            m = _HEADER.match(str(col))
+            if not m:
+                raise CaseError(name, f"column '{col}'", "cannot read the header; expected "
+                                "'name [unit]', e.g. 'chainage [m]'")
+            headers[m.group(1).strip().lower()] = (col, m.group(2))
+        out = {}
+        wanted = list(columns) + [(c, k) for c, k in optional]
+        for cname, kind in wanted:
+            if cname not in headers:
+                if (cname, kind) in optional:
+                    continue
+                raise CaseError(name, f"column '{cname}'", "is missing; expected a column "
+                                f"headed '{cname}" + ("'" if kind == "date" else
+                                                       f" [unit]', e.g. '{cname} [{units.SI_UNITS[kind] or '-'}]'"))
+            col, unit = headers[cname]
+            series = raw[col]
+            if kind == "date":
+                out[cname] = self._dates(series, name, col)
+                continue
+            out[cname] = self._numbers(series, name, col, unit, kind)
+        return pd.DataFrame(out)
+
+    def _numbers(self, series: pd.Series, name: str, col: str, unit, kind: str) -> np.ndarray:
+        if unit is None:
+            raise CaseError(name, f"column '{col}'", "has no unit; expected e.g. "
+                            f"'{col} [{units.SI_UNITS[kind] or '-'}]'")
+        values = pd.to_numeric(series.str.strip(), errors="coerce")
+        bad = values.isna()
+        if bad.any():
+            row = int(np.flatnonzero(bad.to_numpy())[0])
+            raise CaseError(name, f"row {row + 2}, column '{col}'",
+                            f"{series.iloc[row]!r} is not a number")
+        arr = values.to_numpy(dtype=float)
+        if not np.all(np.isfinite(arr)):
+            row = int(np.flatnonzero(~np.isfinite(arr))[0])
+            raise CaseError(name, f"row {row + 2}, column '{col}'", "is not a finite number")
+        si = units.SI_UNITS[kind]
+        if si == "":
+            if unit not in _DIMENSIONLESS_UNITS:
+                raise CaseError(name, f"column '{col}'", f"unit '{unit}' is not dimensionless; "
+                                "expected '[-]' or '[%]'")
+            return arr / 100.0 if unit == "%" else arr
+        try:
+            units.parse_unit(unit, kind)
+        except units.UnitError as exc:
+            raise CaseError(name, f"column '{col}'", str(exc)) from None
+        return np.asarray(units.to_si(arr, unit, kind), dtype=float)
+
+    def _dates(self, series: pd.Series, name: str, col: str) -> pd.DatetimeIndex:
+        parsed = pd.to_datetime(series.str.strip(), errors="coerce", format="ISO8601")
+        bad = parsed.isna()
+        if bad.any():
+            row = int(np.flatnonzero(bad.to_numpy())[0])
+            raise CaseError(name, f"row {row + 2}, column '{col}'",
+                            f"{series.iloc[row]!r} is not a date; expected ISO form "
+                            "YYYY-MM-DD or YYYY-MM-DD HH:MM")
+        return pd.DatetimeIndex(parsed)
+
+
+def _as_written(raw) -> str:
+    if isinstance(raw, list):
+        return ", ".join(str(x) for x in raw) if raw else "(none)"
+    return str(raw)
+
+
+def _echo_value(val):
+    if isinstance(val, list):
+        return ", ".join(f"{v:.6g}" for v in val) if val else ""
+    return val
+
+
+# --------------------------------------------------------------------------- loading
+def load_case(path) -> Case:
+    """Read and validate a case folder.
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        The case folder (holding ``site.toml``), or the ``site.toml`` file itself.
+
+    Returns
+    -------
+    Case
+        Every input in SI units.
+
+    Raises
+    ------
+    CaseError
+        On the first problem found, naming the file and the key or row.
+    """
+    folder = Path(path)
+    if folder.is_file() and folder.name == CASE_FILE:
+        folder = folder.parent
+    if not folder.is_dir():
+        raise CaseError(str(path), "", "is not a case folder; expected a folder holding "
+                        f"{CASE_FILE}")
+    toml_path = folder / CASE_FILE
+    if not toml_path.is_file():
+        raise CaseError(CASE_FILE, "", f"not found in '{folder}'; expected a case folder "
+                        f"holding {CASE_FILE} (write one with 'penstock new')")
+    try:
+        doc = tomllib.loads(toml_path.read_text(encoding="utf-8"))
+    except tomllib.TOMLDecodeError as exc:
+        raise CaseError(CASE_FILE, "", f"TOML syntax error: {exc}") from None
+    except UnicodeDecodeError:
+        raise CaseError(CASE_FILE, "", "is not UTF-8 text") from None
+
+    rd = _Reader(folder)
+    for key in doc:
+        if key not in SECTIONS_BY_NAME:
+            raise CaseError(CASE_FILE, f"[{key}]", "unknown section" +
+                            (_did_you_mean(key, SECTIONS_BY_NAME) or
+                             "; expected one of " + ", ".join(SECTIONS_BY_NAME)))
+    values: dict[str, dict] = {}
+    for sec in SECTIONS:
+        if sec.array:
+            continue
+        table = doc.get(sec.name)
+        if table is None:
+            if sec.required:
+                raise CaseError(CASE_FILE, f"[{sec.name}]", "section is missing")
+            table = {}
+        if not isinstance(table, dict):
+            raise CaseError(CASE_FILE, f"[{sec.name}]", "must be a table ([name]), not a list "
+                            "or a value")
+        rd.check_keys(table, sec, f"{sec.name}.")
+        values[sec.name] = {f.name: rd.value(sec.name, table, f, f"{sec.name}.")
+                            for f in sec.fields}
+
+    site, water, levels, route = (values[k] for k in ("site", "water", "levels", "route"))
+    flows, turbine = values["flows"], values["turbine"]
+
+    # ---- profile
+    profile = rd.table(route["profile"], SECTIONS_BY_NAME["route"].fields_by_name["profile"].columns,
+                       optional=(("ground", "length"),))
+    pname = route["profile"].name
+    ch = profile["chainage"].to_numpy()
+    if len(ch) < 2:
+        raise CaseError(pname, "", "needs at least two points")
+    steps = np.diff(ch)
+    if np.any(steps <= 0):
+        row = int(np.flatnonzero(steps <= 0)[0]) + 1
+        raise CaseError(pname, f"row {row + 2}, column 'chainage'",
+                        f"chainage {ch[row]:g} m does not increase from {ch[row - 1]:g} m; "
+                        "expected strictly increasing chainage")
+    rd.echo.append({"section": "route", "key": "route.profile", "as written": pname,
+                    "value (SI)": f"{len(ch)} points, {ch[0]:g} to {ch[-1]:g}",
+                    "SI unit": "m", "source": pname})
+
+    # ---- pipe segments
+    segments = _segments(doc, rd, ch)
+    # ---- local losses
+    losses = _losses(doc, rd, ch)
+
+    # ---- levels
+    hw = levels["headwater"]
+    hw_min = levels["headwater_min"] if levels["headwater_min"] is not None else hw
+    if hw_min > hw:
+        raise CaseError(CASE_FILE, "levels.headwater_min", f"{hw_min:g} m is above the "
+                        f"headwater level {hw:g} m; expected at most the normal level")
+    rating = None
+    if levels["tailwater_rating"] is not None:
+        rating = rd.table(levels["tailwater_rating"],
+                          SECTIONS_BY_NAME["levels"].fields_by_name["tailwater_rating"].columns)
+        rname = levels["tailwater_rating"].name
+        if np.any(rating["flow"].to_numpy() < 0):
+            row = int(np.flatnonzero(rating["flow"].to_numpy() < 0)[0])
+            raise CaseError(rname, f"row {row + 2}, column 'flow'", "flow is negative")
+        for col in ("flow", "level"):
+            d = np.diff(rating[col].to_numpy())
+            if np.any(d <= 0):
+                row = int(np.flatnonzero(d <= 0)[0]) + 1
+                raise CaseError(rname, f"row {row + 2}, column '{col}'",
+                                f"{col} does not increase; expected a monotone rating "
+                                "(level rising with flow)")
+        rd.echo.append({"section": "levels", "key": "levels.tailwater_rating",
+                        "as written": rname, "value (SI)": f"{len(rating)} points",
+                        "SI unit": "m^3/s, m", "source": rname})
+    elif levels["tailwater"] is None:
+        raise CaseError(CASE_FILE, "levels.tailwater", "is missing; expected a tailwater "
+                        "level, e.g. \"1180 m\", or a tailwater_rating file")
+    tw_ref = levels["tailwater"] if levels["tailwater"] is not None else float(
+        rating["level"].iloc[0])
+    tw_top = tw_ref if rating is None else max(tw_ref, float(rating["level"].max()))
+    if tw_top >= hw_min:
+        raise CaseError(CASE_FILE, "levels", f"tailwater {tw_top:g} m is not below the "
+                        f"headwater {hw_min:g} m; expected headwater above tailwater")
+    if levels["tailwater"] is None:
+        levels["tailwater"] = tw_ref
+
+    # ---- flows
+    q_design = flows["design"]
+    q_max = flows["maximum"] if flows["maximum"] is not None else q_design
+    if q_max < q_design:
+        raise CaseError(CASE_FILE, "flows.maximum", f"{q_max:g} m^3/s is below the design "
+                        f"flow {q_design:g} m^3/s; expected at least the design flow")
+    q_min = flows["minimum"]
+    if q_min is not None and q_min >= q_design:
+        raise CaseError(CASE_FILE, "flows.minimum", f"{q_min:g} m^3/s is not below the design "
+                        f"flow {q_design:g} m^3/s")
+    record = None
+    if flows["record"] is not None:
+        record = _flow_record(rd, flows["record"], flows["gaps"])
+
+    return Case(
+        folder=folder, name=site["name"], note=site["note"], unit_system=site["units"],
+        temperature=water["temperature"], altitude=water["altitude"],
+        headwater=hw, headwater_min=hw_min, tailwater=levels["tailwater"],
+        tailwater_rating=rating, profile=profile, pressure_margin=route["pressure_margin"],
+        intake_approach=route["intake_approach"], segments=segments, losses=losses,
+        flow_record=record, design_flow=q_design, maximum_flow=q_max, minimum_flow=q_min,
+        extra_flows=list(flows["extra"]), residual_flow=flows["residual"],
+        gap_method=flows["gaps"], turbine=turbine, economics=values["economics"],
+        surge=values["surge"], echo=rd.echo,
+    )
+
+
+def _segments(doc: dict, rd: _Reader, chainage: np.ndarray) -> list[Segment]:
+    sec = SECTIONS_BY_NAME["pipe"]
+    tables = doc.get("pipe")
+    if not tables:
+        raise CaseError(CASE_FILE, "[[pipe]]", "no pipe segment given; expected at least one "
+                        "[[pipe]] table")
+    if not isinstance(tables, list):
+        raise CaseError(CASE_FILE, "[[pipe]]", "must be written as [[pipe]] tables")
+    segs = []
+    for i, t in enumerate(tables, start=1):
+        where = f"pipe {i}."
+        rd.check_keys(t, sec, where)
+        v = {f.name: rd.value("pipe", t, f, where) for f in sec.fields}
+        if v["to"] <= v["from"]:
+            raise CaseError(CASE_FILE, f"pipe {i}.to", f"chainage {v['to']:g} m is not beyond "
+                            f"'from' {v['from']:g} m; expected to > from")
+        if v["roughness"] is None:
+            try:
+                v["roughness"] = friction.material_roughness(v["material"], v["condition"])
+            except ValueError as exc:
+                raise CaseError(CASE_FILE, f"pipe {i}.material", str(exc)) from None
+            rd.echo.append({"section": "pipe", "key": f"pipe {i}.roughness",
+                            "as written": f"({v['material']}, {v['condition']})",
+                            "value (SI)": v["roughness"], "SI unit": "m",
+                            "source": "material table"})
+        segs.append(Segment(v["from"], v["to"], v["diameter"], v["material"], v["roughness"],
+                            v["wall_thickness"]))
+    tol = 1e-6
+    if abs(segs[0].start - chainage[0]) > tol:
+        raise CaseError(CASE_FILE, "pipe 1.from", f"starts at {segs[0].start:g} m but the "
+                        f"profile starts at {chainage[0]:g} m; expected the segments to cover "
+                        "the whole profile")
+    for i in range(1, len(segs)):
+        gap = segs[i].start - segs[i - 1].end
+        if abs(gap) > tol:
+            what = "a gap" if gap > 0 else "an overlap"
+            raise CaseError(CASE_FILE, f"pipe {i + 1}.from", f"{what} between {segs[i - 1].end:g}"
+                            f" m and {segs[i].start:g} m; expected pipe {i + 1} to start where "
+                            f"pipe {i} ends")
+    if abs(segs[-1].end - chainage[-1]) > tol:
+        raise CaseError(CASE_FILE, f"pipe {len(segs)}.to", f"ends at {segs[-1].end:g} m but "
+                        f"the profile ends at {chainage[-1]:g} m; expected the segments to "
+                        "cover the whole profile")
+    return segs
+
+
+def _losses(doc: dict, rd: _Reader, chainage: np.ndarray) -> list[LocalLoss]:
+    sec = SECTIONS_BY_NAME["loss"]
+    tables = doc.get("loss", [])
+    if not isinstance(tables, list):
+        raise CaseError(CASE_FILE, "[[loss]]", "must be written as [[loss]] tables")
+    out = []
+    for i, t in enumerate(tables, start=1):
+        where = f"loss {i}."
+        kind = t.get("kind")
+        if not isinstance(kind, str) or kind not in fittings.LOSS_KINDS:
+            raise CaseError(CASE_FILE, f"{where}kind", f"{kind!r} is not a loss kind" +
+                            (_did_you_mean(str(kind), fittings.LOSS_KINDS) or
+                             "; expected one of " + ", ".join(fittings.LOSS_KINDS)))
+        extra = {name: (Field(name, dim, desc), default)
+                 for name, (dim, default, desc) in route.case_parameters(kind).items()}
+        rd.check_keys(t, sec, where, allowed=extra)
+        v = {f.name: rd.value("loss", t, f, where) for f in sec.fields}
+        if kind == "custom" and v["k"] is None:
+            raise CaseError(CASE_FILE, f"{where}k", "is missing; a custom loss needs its "
+                            "coefficient k")
+        params = {}
+        for name, (f, default) in extra.items():
+            if name in t:
+                params[name] = rd.value("loss", t, f, where)
+            elif default is not None:
+                params[name] = default
+            elif v["k"] is None or name == "rack_area":
+                raise CaseError(CASE_FILE, f"{where}{name}", f"is missing for a {kind} loss; "
+                                f"expected {rd._expect(f)}" +
+                                ("" if name == "rack_area" else " (or give k)"))
+        at = v["at"]
+        if at < chainage[0] - 1e-9 or at > chainage[-1] + 1e-9:
+            raise CaseError(CASE_FILE, f"{where}at", f"chainage {at:g} m is off the route "
+                            f"({chainage[0]:g} to {chainage[-1]:g} m); expected a chainage on it")
+        if v["k"] is None:
+            # validate the parameters now, on stand-in diameters in the right order
+            d_up, d_down = {"contraction": (1.0, 0.8), "expansion": (0.8, 1.0)}.get(kind, (1.0, 1.0))
+            try:
+                route.loss_k_and_area(kind, params, d_up, d_down)
+            except (ValueError, TypeError) as exc:
+                raise CaseError(CASE_FILE, f"loss {i}", f"{exc}") from None
+        out.append(LocalLoss(kind, at, v["label"] or f"{kind} at {at:g} m", v["k"], params))
+    return out
+
+
+def _flow_record(rd: _Reader, path: Path, gap_method: str) -> pd.Series:
+    fname = path.name
+    cols = SECTIONS_BY_NAME["flows"].fields_by_name["record"].columns
+    df = rd.table(path, cols)
+    idx = pd.DatetimeIndex(df["date"])
+    q = df["flow"].to_numpy()
+    neg = q < 0
+    if neg.any():
+        row = int(np.flatnonzero(neg)[0])
+        raise CaseError(fname, f"row {row + 2}, column 'flow'", f"flow {q[row]:g} m^3/s on "
+                        f"{idx[row]:%Y-%m-%d %H:%M} is negative; expected a flow of zero or more")
+    dup = idx.duplicated()
+    if dup.any():
+        row = int(np.flatnonzero(dup)[0])
+        raise CaseError(fname, f"row {row + 2}, column 'date'", f"date {idx[row]} appears "
+                        "twice; expected each date once")
+    ns = idx.values.astype("datetime64[ns]").astype(np.int64)
+    back = np.diff(ns) <= 0
+    if back.any():
+        row = int(np.flatnonzero(back)[0]) + 1
+        raise CaseError(fname, f"row {row + 2}, column 'date'", f"date {idx[row]} comes before "
+                        f"{idx[row - 1]}; expected dates in order")
+    if len(idx) < 2:
+        raise CaseError(fname, "", "needs at least two dated flows")
+    series = pd.Series(q, index=idx, name="flow")
+    step = pd.Timedelta(int(np.median(np.diff(ns))), "ns")
+    if step not in (pd.Timedelta(hours=1), pd.Timedelta(days=1)):
+        raise CaseError(fname, "column 'date'", f"the time step is {step}; expected a daily or "
+                        "hourly record")
+    full = pd.date_range(idx[0], idx[-1], freq=step)
+    if len(full) != len(idx) or not full.equals(idx):
+        missing = full.difference(idx)
+        if gap_method == "refuse":
+            raise CaseError(fname, "column 'date'", f"{len(missing)} time steps are missing, the "
+                            f"first at {missing[0]}; fill the record or set "
+                            "flows.gaps = \"linear\" in site.toml")
+        series = series.reindex(full).interpolate(method="time")
+        rd.echo.append({"section": "flows", "key": "flows.record gaps",
+                        "as written": f"{len(missing)} missing steps",
+                        "value (SI)": "filled by linear interpolation", "SI unit": "",
+                        "source": fname})
+    rd.echo.append({"section": "flows", "key": "flows.record", "as written": fname,
+                    "value (SI)": f"{len(series)} steps of {step}, {series.index[0]:%Y-%m-%d} "
+                    f"to {series.index[-1]:%Y-%m-%d}, mean {series.mean():.4g}",
+                    "SI unit": "m^3/s", "source": fname})
+    series.attrs["step_hours"] = step / pd.Timedelta(hours=1)
+    return series

@@ -1,0 +1,478 @@
+"""Power and energy over a flow record.
+
+Pure functions. Power in [W], energy in [J] (convert to kWh/GWh at the output
+edge: 1 kWh = 3.6e6 J). The time step comes from the record's DatetimeIndex and
+each step's power is held over the step that starts at its timestamp, so
+:math:`E = \\sum_i P_i \\Delta t`. A step belongs to the calendar year and
+month of its timestamp.
+"""
+
+from __future__ import annotations
+
+from typing import NamedTuple
+
+import numpy as np
+import pandas as pd
+
+from penstock.constants import GRAVITY, HOURS_PER_YEAR, SECONDS_PER_HOUR
+from penstock.hydrology import (
+    FlowDurationCurve,
+    _check_non_negative,
+    _check_record,
+    _same_kind,
+    available_flow,
+    exceedance_curve,
+    flow_at_exceedance,
+)
+from penstock.turbines import TURBINE_TYPES, dispatch, efficiency_function
+
+__all__ = [
+    "PlantOperation",
+    "EnergySummary",
+    "hydraulic_power",
+    "electrical_power",
+    "simulate_plant",
+    "energy_summary",
+    "design_flow_study",
+]
+
+
+def hydraulic_power(flow, net_head, density):
+    """Hydraulic power of a flow under a head.
+
+    Parameters
+    ----------
+    flow : numeric or pandas.Series
+        Flow. [m^3/s]
+    net_head : numeric
+        Head (net or gross). [m]
+    density : numeric
+        Water density. [kg/m^3]
+
+    Returns
+    -------
+    power : numeric
+        Hydraulic power. [W]
+
+    Notes
+    -----
+    .. math:: P_h = \\rho g Q H
+    """
+    q = np.asarray(flow, dtype=float)
+    return _same_kind(flow, density * GRAVITY * q * np.asarray(net_head, dtype=float), "power")
+
+
+def _efficiency_product(**factors):
+    """Product of efficiency-like factors, each checked to lie in [0, 1]."""
+    product = 1.0
+    for name, value in factors.items():
+        v = np.asarray(value, dtype=float)
+        if np.any(~np.isfinite(v)) or np.any((v < 0.0) | (v > 1.0)):
+            raise ValueError(f"{name}: expected a fraction in [0, 1], got {value}")
+        product = product * v
+    return product
+
+
+def electrical_power(flow, net_head, density, turbine_efficiency, gearbox_efficiency=1.0,
+                     generator_efficiency=1.0, transformer_efficiency=1.0, availability=1.0):
+    """Electrical power delivered at the high-voltage side of the step-up transformer.
+
+    Parameters
+    ----------
+    flow : numeric or pandas.Series
+        Turbined flow. [m^3/s]
+    net_head : numeric
+        Net head. [m]
+    density : numeric
+        Water density. [kg/m^3]
+    turbine_efficiency : numeric
+        Turbine efficiency. [-]
+    gearbox_efficiency : numeric, default 1.0
+        Speed increaser efficiency (1.0 for direct drive). [-]
+    generator_efficiency : numeric, default 1.0
+        Generator efficiency. [-]
+    transformer_efficiency : numeric, default 1.0
+        Step-up transformer efficiency. [-]
+    availability : numeric, default 1.0
+        Fraction of time the plant is available (outages for maintenance and
+        faults); applied as an expected-value factor. [-]
+
+    Returns
+    -------
+    power : numeric
+        Expected electrical power. [W]
+
+    Notes
+    -----
+    .. math:: P_e = \\rho g Q H_n \\eta_t \\eta_{gb} \\eta_g \\eta_{tr} A
+    """
+    factor = _efficiency_product(turbine_efficiency=turbine_efficiency,
+                                 gearbox_efficiency=gearbox_efficiency,
+                                 generator_efficiency=generator_efficiency,
+                                 transformer_efficiency=transformer_efficiency,
+                                 availability=availability)
+    return _same_kind(flow, np.asarray(hydraulic_power(flow, net_head, density)) * factor,
+                      "power")
+
+
+class PlantOperation(NamedTuple):
+    """Step-by-step operation of a plant over a flow record (same kind as the river flow)."""
+
+    #: Flow through the turbines. [m^3/s]
+    turbined_flow: object
+    #: River flow above the residual release that is not turbined. [m^3/s]
+    spill_flow: object
+    #: Residual flow released, min(requirement, river). [m^3/s]
+    residual_flow: object
+    #: Units running. [-]
+    n_running: np.ndarray
+    #: Net head at the turbined flow. [m]
+    net_head: object
+    #: Turbine efficiency. [-]
+    turbine_efficiency: object
+    #: Expected electrical power. [W]
+    power: object
+    #: Expected electrical power the same plant would give with no penstock head loss. [W]
+    power_without_friction: object
+
+
+def _net_head(gross, head_loss):
+    if head_loss is None:
+        return gross
+    if callable(head_loss):
+        return lambda total_flow: gross - np.asarray(head_loss(total_flow), dtype=float)
+    return gross - np.asarray(head_loss, dtype=float)
+
+
+def simulate_plant(river_flow, gross_head, rated_flow_per_unit, *, density, n_units=1,
+                   turbine_type="francis", efficiency_table=None, head_loss=None, residual=0.0,
+                   minimum_relative_flow=None, gearbox_efficiency=1.0, generator_efficiency=1.0,
+                   transformer_efficiency=1.0, availability=1.0):
+    """Operate a plant of identical units over a flow record.
+
+    Parameters
+    ----------
+    river_flow : array_like or pandas.Series
+        River flow at the intake at each step. [m^3/s]
+    gross_head : numeric or array_like
+        Headwater minus tailwater level, scalar or aligned with the steps. [m]
+    rated_flow_per_unit : float
+        Rated (design) flow of one unit. [m^3/s]
+    density : float
+        Water density. [kg/m^3]
+    n_units : int, default 1
+        Number of identical units on the common penstock. [-]
+    turbine_type : str, default "francis"
+        Key of :data:`penstock.turbines.TURBINE_TYPES`. [-]
+    efficiency_table : array_like of shape (n, 2), optional
+        User part-load curve of (Q/Q_rated, efficiency) replacing the type's. [-]
+    head_loss : callable or array_like, optional
+        Penstock head loss: ``head_loss(total_flow)`` (vectorized, e.g. an
+        interpolation in a precomputed table) or an array aligned with the
+        steps. None means no loss. [m]
+    residual : numeric or array_like, default 0.0
+        Residual flow requirement, released before the turbines. [m^3/s]
+    minimum_relative_flow : float, optional
+        Stop a unit below this Q/Q_rated; the type's value by default. [-]
+    gearbox_efficiency, generator_efficiency, transformer_efficiency : float, default 1.0
+        Drive-train efficiencies. [-]
+    availability : float, default 1.0
+        Availability factor. [-]
+
+    Returns
+    -------
+    operation : PlantOperation
+        Flows, units running, net head, efficiency, power and power without
+        friction at each step. [-]
+
+    Notes
+    -----
+    1. :func:`penstock.hydrology.available_flow` releases the residual flow
+       and offers :math:`\\min(Q - R, n Q_r)` to the plant, nothing below one
+       unit's minimum flow.
+    2. :func:`penstock.turbines.dispatch` picks the number of units giving the
+       most power with :math:`H_n = H_g - h_f(Q_t)`; flow the chosen units do
+       not take is added to the spill.
+    3. :func:`electrical_power` applies the drive-train factors.
+
+    ``power_without_friction`` repeats step 2 with :math:`h_f = 0`.
+    """
+    entry = TURBINE_TYPES.get(turbine_type)
+    if entry is None:
+        raise ValueError(f"turbine_type: unknown type {turbine_type!r}; expected one of "
+                         f"{sorted(TURBINE_TYPES)}")
+    eta_fn = efficiency_function(turbine_type, efficiency_table, minimum_relative_flow)
+    river = _check_non_negative(river_flow, "river_flow")
+    gross = np.asarray(gross_head, dtype=float)
+    rated = float(rated_flow_per_unit)
+    if rated <= 0:
+        raise ValueError(f"rated_flow_per_unit: expected a positive flow, got {rated}")
+    allocation = available_flow(river, residual, n_units * rated,
+                                eta_fn.minimum_relative_flow * rated)
+    drive = dict(gearbox_efficiency=gearbox_efficiency,
+                 generator_efficiency=generator_efficiency,
+                 transformer_efficiency=transformer_efficiency, availability=availability)
+    actual = dispatch(allocation.turbined, n_units, rated, eta_fn, _net_head(gross, head_loss),
+                      density)
+    ideal = dispatch(allocation.turbined, n_units, rated, eta_fn, gross, density)
+    factor = float(_efficiency_product(**drive))  # electrical W per W of shaft power
+    spill = allocation.spill + (allocation.turbined - actual.turbined_flow)
+    kind = lambda values, name: _same_kind(river_flow, values, name)  # noqa: E731
+    return PlantOperation(
+        turbined_flow=kind(actual.turbined_flow, "turbined_flow"),
+        spill_flow=kind(spill, "spill_flow"),
+        residual_flow=kind(allocation.residual, "residual_flow"),
+        n_running=actual.n_running,
+        net_head=kind(actual.net_head, "net_head"),
+        turbine_efficiency=kind(actual.efficiency, "turbine_efficiency"),
+        power=kind(actual.power * factor, "power"),
+        power_without_friction=kind(ideal.power * factor, "power_without_friction"),
+    )
+
+
+class EnergySummary(NamedTuple):
+    """Energy figures of a power record. Energies in [J], powers in [W]."""
+
+    #: Time step of the record. [-]
+    time_step: pd.Timedelta
+    #: Per calendar year: energy, steps, expected_steps, complete, and when the
+    #: inputs were given friction_loss, spill_energy, residual_energy. [J]
+    annual: pd.DataFrame
+    #: Energy per calendar year (rows) and month 1..12 (columns). [J]
+    monthly: pd.DataFrame
+    #: Mean annual energy (see mean_annual_basis). [J]
+    mean_annual_energy: float
+    #: "complete calendar years" or "annualised record" (no complete year). [-]
+    mean_annual_basis: str
+    #: Mean energy of each calendar month on the same basis. [J]
+    mean_monthly_energy: pd.Series
+    #: Energy over the whole record. [J]
+    total_energy: float
+    #: Total energy / (installed capacity x record duration); NaN without capacity. [-]
+    capacity_factor: float
+    #: Power exceeded with probability firm_exceedance (Weibull position). [W]
+    firm_power: float
+    #: Exceedance probability used for firm_power. [-]
+    firm_exceedance: float
+    #: Power-duration curve (``exceedance``, ``flow`` field holds the power). [W]
+    power_duration: FlowDurationCurve
+    #: Mean annual energy lost to penstock friction (NaN when not given). [J]
+    mean_annual_friction_loss: float
+    #: Mean annual gross hydraulic energy of the spill (NaN when not given). [J]
+    mean_annual_spill_energy: float
+    #: Mean annual gross hydraulic energy of the residual flow (NaN when not given). [J]
+    mean_annual_residual_energy: float
+
+
+def energy_summary(index, power, installed_capacity=None, firm_exceedance=0.95,
+                   power_without_friction=None, spill_flow=None, residual_flow=None,
+                   gross_head=None, density=None):
+    """Annual, monthly and mean annual energy, capacity factor, firm power, losses.
+
+    Parameters
+    ----------
+    index : pandas.DatetimeIndex
+        Timestamps of a regular record without gaps or duplicates. [-]
+    power : array_like or pandas.Series
+        Electrical power at each step, held over the step. [W]
+    installed_capacity : float, optional
+        Installed electrical capacity for the capacity factor. [W]
+    firm_exceedance : float, default 0.95
+        Exceedance probability of the firm power. [-]
+    power_without_friction : array_like, optional
+        Power the same plant would give with no penstock head loss. [W]
+    spill_flow : array_like, optional
+        Flow spilled at the intake. [m^3/s]
+    residual_flow : array_like, optional
+        Residual flow released. [m^3/s]
+    gross_head : numeric or array_like, optional
+        Gross head, needed with ``spill_flow`` or ``residual_flow``. [m]
+    density : float, optional
+        Water density, needed with ``spill_flow`` or ``residual_flow``. [kg/m^3]
+
+    Returns
+    -------
+    summary : EnergySummary
+        See the fields of :class:`EnergySummary`. [-]
+
+    Notes
+    -----
+    * Step energy :math:`E_i = P_i \\Delta t`; a calendar year is *complete*
+      when it holds every step of that year; incomplete years are flagged in
+      ``annual["complete"]`` and left out of the means. With no complete year
+      the mean annual energy is the total scaled to 8760 h.
+    * Monthly energies of a year add up to its annual energy.
+    * Capacity factor :math:`CF = \\sum E_i / (P_{inst} \\, n \\Delta t)`.
+    * Energy lost to friction :math:`\\sum (P^{h_f=0}_i - P_i) \\Delta t`: the
+      energy the plant would have produced with a loss-free penstock minus the
+      actual energy (same units, same dispatch rule).
+    * Energy of the spill and of the residual flow: their *gross hydraulic*
+      energy :math:`\\sum \\rho g Q_i H_g \\Delta t` (efficiency 1, no friction),
+      an upper bound on what they could have produced.
+    """
+    step = _check_record(power, index, None, "power")
+    index = power.index if index is None else pd.DatetimeIndex(index)
+    dt = step.total_seconds()
+    columns = {"energy": np.asarray(power, dtype=float) * dt}
+    if power_without_friction is not None:
+        ideal = _check_non_negative(power_without_friction, "power_without_friction")
+        columns["friction_loss"] = (ideal - columns["energy"] / dt) * dt
+    for name, flow in (("spill_energy", spill_flow), ("residual_energy", residual_flow)):
+        if flow is None:
+            continue
+        if gross_head is None or density is None:
+            raise ValueError(f"gross_head, density: required to value the {name[:-7]} flow")
+        q = _check_non_negative(flow, name[:-7] + "_flow")
+        columns[name] = np.asarray(hydraulic_power(q, gross_head, density)) * dt
+
+    years = np.asarray(index.year)
+    months = np.asarray(index.month)
+    unique_years, year_pos = np.unique(years, return_inverse=True)
+    ny = unique_years.size
+    counts = np.bincount(year_pos, minlength=ny)
+    tz = index.tz
+    expected = np.array([(pd.Timestamp(year=int(y) + 1, month=1, day=1, tz=tz)
+                          - pd.Timestamp(year=int(y), month=1, day=1, tz=tz)) / step
+                         for y in unique_years])
+    annual = pd.DataFrame({name: np.bincount(year_pos, weights=values, minlength=ny)
+                           for name, values in columns.items()},
+                          index=pd.Index(unique_years, name="year"))
+    annual.insert(1, "steps", counts)
+    annual.insert(2, "expected_steps", np.rint(expected).astype(np.int64))
+    annual.insert(3, "complete", counts >= np.rint(expected))
+    monthly_values = np.bincount(year_pos * 12 + months - 1, weights=columns["energy"],
+                                 minlength=ny * 12).reshape(ny, 12)
+    monthly = pd.DataFrame(monthly_values, index=annual.index,
+                           columns=pd.Index(range(1, 13), name="month"))
+
+    total = float(columns["energy"].sum())
+    duration = len(index) * dt
+    complete = annual["complete"].to_numpy()
+    if complete.any():
+        basis = "complete calendar years"
+
+        def mean_annual(name):
+            return float(annual.loc[complete, name].mean()) if name in annual else float("nan")
+
+        mean_monthly = monthly.loc[complete].mean(axis=0)
+    else:
+        basis = "annualised record"
+        scale = HOURS_PER_YEAR * SECONDS_PER_HOUR / duration
+
+        def mean_annual(name):
+            return float(annual[name].sum() * scale) if name in annual else float("nan")
+
+        mean_monthly = monthly.sum(axis=0) * scale
+    capacity_factor = float("nan")
+    if installed_capacity is not None:
+        if installed_capacity <= 0:
+            raise ValueError(f"installed_capacity: expected a positive power, got "
+                             f"{installed_capacity}")
+        capacity_factor = total / (installed_capacity * duration)
+    return EnergySummary(
+        time_step=step, annual=annual, monthly=monthly,
+        mean_annual_energy=mean_annual("energy"), mean_annual_basis=basis,
+        mean_monthly_energy=mean_monthly.rename("energy"), total_energy=total,
+        capacity_factor=capacity_factor,
+        firm_power=float(flow_at_exceedance(np.asarray(power, dtype=float), firm_exceedance)),
+        firm_exceedance=float(firm_exceedance),
+        power_duration=exceedance_curve(np.asarray(power, dtype=float)),
+        mean_annual_friction_loss=mean_annual("friction_loss"),
+        mean_annual_spill_energy=mean_annual("spill_energy"),
+        mean_annual_residual_energy=mean_annual("residual_energy"),
+    )
+
+
+def design_flow_study(index, river_flow, gross_head, *, density, head_loss=None, residual=0.0,
+                      n_units=1, turbine_type="francis", efficiency_table=None,
+                      minimum_relative_flow=None, design_exceedances=None, design_flows=None,
+                      gearbox_efficiency=1.0, generator_efficiency=1.0,
+                      transformer_efficiency=1.0, availability=1.0):
+    """Installed capacity, mean annual energy and capacity factor against design flow.
+
+    Parameters
+    ----------
+    index : pandas.DatetimeIndex
+        Timestamps of a regular record. [-]
+    river_flow : array_like or pandas.Series
+        River flow at the intake. [m^3/s]
+    gross_head : numeric or array_like
+        Gross head, scalar or aligned with the steps. [m]
+    density : float
+        Water density. [kg/m^3]
+    head_loss : callable or array_like, optional
+        Penstock head loss as in :func:`simulate_plant`. [m]
+    residual : numeric or array_like, default 0.0
+        Residual flow requirement. [m^3/s]
+    n_units : int, default 1
+        Identical units; each is rated at design flow / n_units. [-]
+    turbine_type : str, default "francis"
+        Key of :data:`penstock.turbines.TURBINE_TYPES`. [-]
+    efficiency_table : array_like of shape (n, 2), optional
+        User part-load curve. [-]
+    minimum_relative_flow : float, optional
+        Stop a unit below this Q/Q_rated. [-]
+    design_exceedances : array_like, optional
+        Exceedance probabilities of the design flows on the duration curve of
+        the flow available after the residual release; default 0.10, 0.15, ...,
+        0.60 (Q10 to Q60). Ignored when ``design_flows`` is given. [-]
+    design_flows : array_like, optional
+        Plant design flows to study instead. [m^3/s]
+    gearbox_efficiency, generator_efficiency, transformer_efficiency : float, default 1.0
+        Drive-train efficiencies. [-]
+    availability : float, default 1.0
+        Availability factor (reduces energy, not installed capacity). [-]
+
+    Returns
+    -------
+    study : pandas.DataFrame
+        One row per design flow: ``design_exceedance`` [-] (NaN for given
+        flows), ``design_flow`` [m^3/s], ``installed_capacity`` [W],
+        ``mean_annual_energy`` [J], ``capacity_factor`` [-],
+        ``mean_annual_friction_loss`` [J], ``mean_annual_spill_energy`` [J].
+
+    Notes
+    -----
+    Installed capacity is the electrical output with all units at rated flow
+    (availability 1) under the largest gross head in ``gross_head``. Each design flow runs :func:`simulate_plant`, vectorized
+    over the time steps; the few design flows are looped over, which keeps
+    memory at O(number of steps).
+    """
+    river = _check_non_negative(river_flow, "river_flow")
+    if design_flows is None:
+        p = np.arange(0.10, 0.601, 0.05) if design_exceedances is None \
+            else np.asarray(design_exceedances, dtype=float)
+        usable = np.maximum(river - np.asarray(residual, dtype=float), 0.0)
+        flows = np.atleast_1d(flow_at_exceedance(usable, p))
+        p = np.atleast_1d(p)
+    else:
+        flows = np.atleast_1d(np.asarray(design_flows, dtype=float))
+        p = np.full(flows.shape, np.nan)
+    if np.any(flows <= 0):
+        raise ValueError(f"design flows: expected positive flows, got {flows}")
+    drive = dict(gearbox_efficiency=gearbox_efficiency,
+                 generator_efficiency=generator_efficiency,
+                 transformer_efficiency=transformer_efficiency)
+    common = dict(density=density, n_units=n_units, turbine_type=turbine_type,
+                  efficiency_table=efficiency_table, head_loss=head_loss,
+                  minimum_relative_flow=minimum_relative_flow, **drive)
+    rows = []
+    gross_at_rated = float(np.max(gross_head))
+    for design_p, design_q in zip(p, flows):
+        rated = design_q / n_units
+        capacity = simulate_plant(np.array([design_q]), gross_at_rated, rated, **common)
+        operation = simulate_plant(river, gross_head, rated, residual=residual,
+                                   availability=availability, **common)
+        capacity_w = float(capacity.power[0])
+        summary = energy_summary(index, operation.power,
+                                 installed_capacity=capacity_w if capacity_w > 0 else None,
+                                 power_without_friction=operation.power_without_friction,
+                                 spill_flow=operation.spill_flow, gross_head=gross_head,
+                                 density=density)
+        rows.append({"design_exceedance": design_p, "design_flow": design_q,
+                     "installed_capacity": capacity_w,
+                     "mean_annual_energy": summary.mean_annual_energy,
+                     "capacity_factor": summary.capacity_factor,
+                     "mean_annual_friction_loss": summary.mean_annual_friction_loss,
+                     "mean_annual_spill_energy": summary.mean_annual_spill_energy})
+    return pd.DataFrame(rows)

@@ -1,0 +1,189 @@
+"""Low-level helpers for writing sheets with openpyxl: safe text, tables, styles, charts."""
+
+from __future__ import annotations
+
+import math
+import numbers
+
+import numpy as np
+import pandas as pd
+from openpyxl.chart import BarChart, Reference, ScatterChart, Series
+from openpyxl.styles import Alignment, Border, Font, PatternFill, Side
+from openpyxl.utils import get_column_letter
+from openpyxl.worksheet.properties import PageSetupProperties
+
+from .units import split_header
+
+FONT = "Calibri"
+TITLE = Font(name=FONT, bold=True, size=14)
+SUBTITLE = Font(name=FONT, bold=True, size=11)
+HEADER = Font(name=FONT, bold=True, size=10, color="FFFFFF")
+BODY = Font(name=FONT, size=10)
+NOTE = Font(name=FONT, size=10, italic=True)
+CAUTION = Font(name=FONT, size=10, bold=True, color="7F1D1D")
+HEADER_FILL = PatternFill("solid", fgColor="2F4858")
+INPUT_FILL = PatternFill("solid", fgColor="EEF3F6")
+THIN = Side(style="thin", color="B0BEC5")
+BOX = Border(top=THIN, bottom=THIN, left=THIN, right=THIN)
+WRAP = Alignment(wrap_text=True, vertical="top")
+
+#: Number formats by the unit in a column header.
+FORMATS = {
+    "m": "0.00", "ft": "0.00", "mm": "0.0", "in": "0.00", "m³/s": "0.000", "ft³/s": "0.00",
+    "m/s": "0.00", "ft/s": "0.00", "%": "0.0", "kW": "#,##0", "MW": "0.00", "MWh": "#,##0",
+    "GWh": "0.000", "kPa": "0.0", "psi": "0.0", "s": "0.00", "-": "0.000", "°C": "0.0",
+    "°F": "0.0", "t": "#,##0.0", "kg/m³": "0.0",
+}
+
+
+def put(ws, row: int, col: int, value, font=BODY, fmt: str | None = None):
+    """Write one value; text always lands as text, never as a formula."""
+    cell = ws.cell(row=row, column=col)
+    if value is None or (isinstance(value, float) and not math.isfinite(value)):
+        cell.value = None
+    elif isinstance(value, (bool, np.bool_)):
+        cell.value = "yes" if value else "no"
+        cell.data_type = "s"
+    elif isinstance(value, numbers.Number):
+        cell.value = float(value) if isinstance(value, (np.floating, float)) else int(value)
+        if fmt:
+            cell.number_format = fmt
+    else:
+        cell.value = str(value)
+        cell.data_type = "s"   # text beginning with '=', '+', '-' or '@' stays text
+    cell.font = font
+    return cell
+
+
+def formula(ws, row: int, col: int, text: str, fmt: str | None = None, font=BODY):
+    """Write a live formula (our own, never text taken from a case)."""
+    cell = ws.cell(row=row, column=col)
+    cell.value = text
+    cell.font = font
+    if fmt:
+        cell.number_format = fmt
+    return cell
+
+
+def write_table(ws, df: pd.DataFrame, row: int = 1, col: int = 1, widths=None,
+                wrap_cols=()) -> tuple[int, int]:
+    """Write a table with a styled header row. Returns (first data row, last data row)."""
+    for j, name in enumerate(df.columns):
+        c = put(ws, row, col + j, name, font=HEADER)
+        c.fill = HEADER_FILL
+        c.alignment = Alignment(wrap_text=True, vertical="center")
+        c.border = BOX
+    fmts = [_format_for(name) for name in df.columns]
+    values = df.to_numpy(dtype=object)
+    for i, rec in enumerate(values):
+        for j, v in enumerate(rec):
+            c = put(ws, row + 1 + i, col + j, v, fmt=fmts[j])
+            if df.columns[j] in wrap_cols:
+                c.alignment = WRAP
+    for j, name in enumerate(df.columns):
+        letter = get_column_letter(col + j)
+        if widths and name in widths:
+            w = widths[name]
+        else:
+            longest = max([len(str(name)) * 0.8] + [len(_shown(v)) for v in values[:200, j]]
+                          if len(values) else [len(str(name))])
+            w = min(max(10, longest + 2), 60)
+        ws.column_dimensions[letter].width = max(ws.column_dimensions[letter].width or 0, w)
+    ws.row_dimensions[row].height = 30
+    return row + 1, row + len(df)
+
+
+def _shown(v) -> str:
+    if isinstance(v, float):
+        return f"{v:.3f}"
+    return "" if v is None else str(v)
+
+
+def _format_for(header: str) -> str | None:
+    _, unit = split_header(header)
+    return FORMATS.get(unit, "0.000") if unit else None
+
+
+def page_setup(ws, case_name: str, version: str, run_date: str, title_rows: str | None = None):
+    """Landscape, one page wide, repeated header rows, footer with case, version and date."""
+    ws.sheet_properties.pageSetUpPr = PageSetupProperties(fitToPage=True)
+    ws.page_setup.orientation = "landscape"
+    ws.page_setup.paperSize = ws.PAPERSIZE_A4
+    ws.page_setup.fitToWidth = 1
+    ws.page_setup.fitToHeight = 0
+    if title_rows:
+        ws.print_title_rows = title_rows
+    safe = case_name.replace("&", "&&")
+    ws.oddFooter.left.text = safe
+    ws.oddFooter.center.text = f"penstock {version} - planning-level results"
+    ws.oddFooter.right.text = f"run {run_date} - page &P of &N"
+    ws.page_margins.left = ws.page_margins.right = 0.5
+
+
+def scatter_chart(title: str, x_title: str, y_title: str, x_format="0", y_format="0",
+                  x_major=None, y_major=None, width=24, height=12) -> ScatterChart:
+    ch = ScatterChart()
+    ch.title = title
+    ch.style = 13
+    ch.height, ch.width = height, width
+    ch.x_axis.title = x_title
+    ch.y_axis.title = y_title
+    ch.x_axis.number_format = x_format
+    ch.y_axis.number_format = y_format
+    if x_major:
+        ch.x_axis.majorUnit = x_major
+    if y_major:
+        ch.y_axis.majorUnit = y_major
+    ch.x_axis.delete = False
+    ch.y_axis.delete = False
+    ch.legend.position = "b"
+    return ch
+
+
+def add_line(chart, ws, x_col: int, y_col: int, first: int, last: int, name: str,
+             color: str, dash: str | None = None, width: int = 19050, markers=False):
+    xs = Reference(ws, min_col=x_col, min_row=first, max_row=last)
+    ys = Reference(ws, min_col=y_col, min_row=first, max_row=last)
+    s = Series(ys, xs, title=name)
+    s.smooth = False
+    if markers:
+        s.marker.symbol = "circle"
+        s.marker.size = 6
+        s.marker.graphicalProperties.solidFill = color
+        s.marker.graphicalProperties.line.solidFill = color
+        s.graphicalProperties.line.noFill = True
+    else:
+        s.marker.symbol = "none"
+        s.graphicalProperties.line.solidFill = color
+        s.graphicalProperties.line.width = width
+        if dash:
+            s.graphicalProperties.line.dashStyle = dash
+    chart.series.append(s)
+    return s
+
+
+def bar_chart(title: str, x_title: str, y_title: str, y_format="0.00", width=24,
+              height=12) -> BarChart:
+    ch = BarChart()
+    ch.type = "bar"
+    ch.title = title
+    ch.height, ch.width = height, width
+    ch.x_axis.title = x_title
+    ch.y_axis.title = y_title
+    ch.y_axis.number_format = y_format
+    ch.x_axis.delete = False
+    ch.y_axis.delete = False
+    ch.legend = None
+    return ch
+
+
+def nice_step(span: float, target: int = 8) -> float:
+    """A round axis step giving about ``target`` ticks over ``span``."""
+    if not span > 0:
+        return 1.0
+    raw = span / target
+    mag = 10 ** math.floor(math.log10(raw))
+    for m in (1, 2, 2.5, 5, 10):
+        if raw <= m * mag:
+            return m * mag
+    return 10 * mag

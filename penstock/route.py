@@ -1,0 +1,210 @@
+"""The penstock route as a chain of nodes and elements, built from a case.
+
+This is the light-object layer between the case and the grade-line functions: it
+places the profile points, the segment boundaries and the local losses in order
+of chainage, and gives each element its length, diameter, roughness and loss
+coefficient.  See :mod:`penstock.gradeline` for the conventions.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from . import fittings
+
+#: Parameters a case gives for a loss beyond the fittings registry's own.
+EXTRA_PARAMETERS = {
+    "trashrack": {"rack_area": ("area", None, "gross area of the rack face")},
+}
+
+#: Cone angle assumed for a diameter change the case gives no loss for (common practice
+#: for penstock reducers: a 10–15 degree total cone).
+DEFAULT_TRANSITION_ANGLE = math.radians(15.0)
+
+
+def case_parameters(kind: str) -> dict[str, tuple[str, object, str]]:
+    """The keys a ``[[loss]]`` table of this kind may hold, beyond kind, at, label and k."""
+    spec = fittings.LOSS_KINDS[kind]
+    params = {n: p for n, p in spec.parameters.items() if not (kind == "custom" and n == "k")}
+    params.update(EXTRA_PARAMETERS.get(kind, {}))
+    return params
+
+
+def loss_k_and_area(kind: str, params: dict, upstream_diameter: float,
+                    downstream_diameter: float, k: float | None = None):
+    """Loss coefficient and the area its velocity refers to, for a loss on the route.
+
+    Parameters
+    ----------
+    kind : str
+        Loss kind (a key of :data:`penstock.fittings.LOSS_KINDS`).
+    params : dict
+        The case's parameters for the loss, SI units.
+    upstream_diameter, downstream_diameter : float
+        Pipe diameters just upstream and downstream of the loss. [m]
+    k : float, optional
+        A user-given coefficient, which overrides the published method. [-]
+
+    Returns
+    -------
+    k : float
+        Loss coefficient. [-]
+    reference_area : float
+        Area whose velocity ``k`` refers to. [m^2]
+    """
+    spec = fittings.LOSS_KINDS[kind]
+    if spec.reference_velocity == "approach":
+        area = params["rack_area"]
+    else:
+        d = {"pipe": upstream_diameter, "upstream": upstream_diameter,
+             "downstream": downstream_diameter}[spec.reference_velocity]
+        area = math.pi * d**2 / 4.0
+    if k is None:
+        own = {n: v for n, v in params.items() if n in spec.parameters}
+        args = fittings.complete_parameters(kind, own, diameter=upstream_diameter,
+                                            upstream_diameter=upstream_diameter,
+                                            downstream_diameter=downstream_diameter)
+        k = float(spec.function(**args))
+    return k, area
+
+
+@dataclass
+class Route:
+    """Nodes and elements of a route, SI units."""
+
+    chainage: np.ndarray       # (n_node,)
+    elevation: np.ndarray      # (n_node,)
+    node_area: np.ndarray      # (n_node,), inf at the reservoir
+    node_label: np.ndarray     # (n_node,) text
+    is_reservoir: np.ndarray   # (n_node,) bool
+    length: np.ndarray         # (n_element,)
+    diameter: np.ndarray
+    roughness: np.ndarray
+    k: np.ndarray
+    reference_area: np.ndarray
+    element_group: list        # (n_element,) breakdown component of each element
+    group_kind: dict           # component -> "friction" or "local"
+    intake_diameter: float
+    intake_elevation: float
+
+
+def build_route(case, warns=None, methods=None) -> Route:
+    """Build the node/element chain of a case's penstock.
+
+    Parameters
+    ----------
+    case : penstock.case.Case
+    warns : list, optional
+        Notes about assumptions (e.g. automatic transitions) are appended here.
+    methods : object with ``add(topic, method, reference)``, optional
+        Collects the local-loss methods used.
+
+    Returns
+    -------
+    Route
+    """
+    from .model import Warning_  # local import: model imports this module
+
+    prof = case.profile
+    px, pz = prof["chainage"].to_numpy(float), prof["elevation"].to_numpy(float)
+    segs = case.segments
+    xs = np.unique(np.concatenate([px, [s.start for s in segs[1:]],
+                                   [ls.at for ls in case.losses]]))
+    zs = np.interp(xs, px, pz)
+    starts = np.array([s.start for s in segs])
+
+    def downstream_segment(x):
+        return int(np.clip(np.searchsorted(starts, x, side="right") - 1, 0, len(segs) - 1))
+
+    def upstream_segment(x):
+        return int(np.clip(np.searchsorted(starts, x, side="left") - 1, 0, len(segs) - 1))
+
+    losses_at: dict[int, list] = {}
+    for ls in case.losses:
+        losses_at.setdefault(int(np.argmin(np.abs(xs - ls.at))), []).append(ls)
+    changes = {segs[i + 1].start: (segs[i].diameter, segs[i + 1].diameter)
+               for i in range(len(segs) - 1) if segs[i + 1].diameter != segs[i].diameter}
+
+    nodes = [(xs[0], zs[0], math.inf, "reservoir", True)]
+    elems = []      # (length, diameter, roughness, k, reference area, group)
+    group_kind: dict[str, str] = {}
+
+    def step(j, k, ref_area, name, new_area, diameter):
+        elems.append((0.0, diameter, 0.0, k, ref_area, name))
+        nodes.append((xs[j], zs[j], new_area, name, False))
+        group_kind.setdefault(name, "local")
+
+    for j, x in enumerate(xs):
+        down = downstream_segment(x)
+        up = upstream_segment(x) if j > 0 else down
+        here = losses_at.get(j, [])
+        if j == 0 and not any(ls.kind in ("entrance", "trashrack") for ls in here):
+            step(0, 0.0, segs[down].area, "entrance (none given)", segs[down].area,
+                 segs[down].diameter)
+            if warns is not None:
+                warns.append(Warning_("losses", "no entrance or trashrack loss is given at the "
+                                      "intake; none is counted", chainage=float(x),
+                                      severity="note"))
+        for ls in here:
+            d_up, d_down = segs[up].diameter, segs[down].diameter
+            if ls.kind == "exit":
+                d_down = d_up
+            k, ref_area = loss_k_and_area(ls.kind, ls.params, d_up, d_down, ls.k)
+            step(j, k, ref_area, ls.label,
+                 math.inf if ls.kind == "exit" else segs[down].area, d_up)
+            if methods is not None:
+                methods.add("Local losses", *_method_of(ls))
+        if x in changes and not any(ls.kind in ("contraction", "expansion") for ls in here):
+            d1, d2 = changes[x]
+            kind = "contraction" if d2 < d1 else "expansion"
+            k, ref_area = loss_k_and_area(kind, {"angle": DEFAULT_TRANSITION_ANGLE}, d1, d2)
+            name = f"{kind} at {x:g} m (assumed 15° cone)"
+            step(j, k, ref_area, name, segs[down].area, d1)
+            if warns is not None:
+                warns.append(Warning_("losses", f"diameter changes from {d1:g} to {d2:g} m at "
+                                      f"{x:g} m with no transition loss given; a 15° conical "
+                                      f"{kind} is assumed (K = {k:.3f})", chainage=float(x),
+                                      severity="note"))
+        if j < len(xs) - 1:
+            s = downstream_segment(0.5 * (x + xs[j + 1]))
+            seg = segs[s]
+            name = f"friction, pipe {s + 1} ({seg.start:g}–{seg.end:g} m, D {seg.diameter:g} m)"
+            elems.append((math.hypot(xs[j + 1] - x, zs[j + 1] - zs[j]), seg.diameter,
+                          seg.roughness, 0.0, seg.area, name))
+            nodes.append((xs[j + 1], zs[j + 1], seg.area, "profile", False))
+            group_kind.setdefault(name, "friction")
+
+    x_n, z_n, a_n, lab_n, _ = nodes[-1]
+    nodes[-1] = (x_n, z_n, a_n, "penstock end" if lab_n == "profile" else lab_n, False)
+    nx, nz, na, nl, nr = zip(*nodes)
+    el, ed, er, ek, ea, eg = zip(*elems)
+    first = downstream_segment(xs[0])
+    return Route(
+        chainage=np.array(nx), elevation=np.array(nz), node_area=np.array(na),
+        node_label=np.array(nl, dtype=object), is_reservoir=np.array(nr),
+        length=np.array(el), diameter=np.array(ed), roughness=np.array(er), k=np.array(ek),
+        reference_area=np.array(ea), element_group=list(eg), group_kind=group_kind,
+        intake_diameter=segs[first].diameter, intake_elevation=float(zs[0]),
+    )
+
+
+def _method_of(ls) -> tuple[str, str]:
+    if ls.k is not None:
+        return (f"{ls.kind}: coefficient given by the user", "case input")
+    fn = fittings.LOSS_KINDS[ls.kind].function
+    doc = (fn.__doc__ or "").strip().splitlines()[0]
+    refs = _references(fn)
+    return (f"{ls.kind}: {doc}", refs)
+
+
+def _references(fn) -> str:
+    doc = fn.__doc__ or ""
+    if "References" not in doc:
+        return "see penstock.fittings"
+    block = doc.split("References", 1)[1].split("Examples", 1)[0].split("\n\n", 2)
+    text = " ".join(line.strip() for line in "\n\n".join(block[:2]).splitlines()
+                    if line.strip() and not set(line.strip()) <= {"-"})
+    return text[:400]

@@ -1,0 +1,159 @@
+"""The case-folder schema: every key of ``site.toml``, its unit kind, default and range.
+
+This table is the single source of truth for the loader (:mod:`penstock.case`),
+the template written by ``penstock new`` and the reference in the README.
+Defaults are written the way a user would write them, with their unit.
+
+Kinds are those of :data:`penstock.units.SI_UNITS`, plus ``text``, ``choice``,
+``file``, ``integer``, ``boolean`` and ``flow_list``.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+
+@dataclass(frozen=True)
+class Field:
+    """One key of the case file."""
+
+    name: str
+    kind: str
+    description: str
+    default: object = None          # None: required, unless `optional`
+    optional: bool = False          # may be absent, with no default
+    minimum: float | None = None    # in SI units of the kind
+    maximum: float | None = None
+    exclusive_minimum: bool = False
+    choices: tuple[str, ...] = ()
+    columns: tuple[tuple[str, str], ...] = ()  # for files: (column name, unit kind)
+
+    @property
+    def required(self) -> bool:
+        return self.default is None and not self.optional
+
+
+@dataclass(frozen=True)
+class Section:
+    """A TOML table (``[name]``) or array of tables (``[[name]]``)."""
+
+    name: str
+    description: str
+    fields: tuple[Field, ...]
+    array: bool = False
+    required: bool = True
+    extra_from_registry: bool = False   # [[loss]]: per-kind keys come from fittings.LOSS_KINDS
+    fields_by_name: dict = field(init=False, repr=False, compare=False, default=None)
+
+    def __post_init__(self):
+        object.__setattr__(self, "fields_by_name", {f.name: f for f in self.fields})
+
+
+TURBINE_TYPE_CHOICES = ("pelton", "turgo", "crossflow", "francis", "kaplan", "propeller")
+
+SECTIONS: tuple[Section, ...] = (
+    Section("site", "Who and where.", (
+        Field("name", "text", "Site name, printed on every report page."),
+        Field("note", "text", "Free text shown on the summary sheet.", default=""),
+        Field("units", "choice", "Unit system of the reports.", default="si", choices=("si", "us")),
+    )),
+    Section("water", "The water and the air at the site.", (
+        Field("temperature", "temperature", "Water temperature.", default="10 degC",
+              minimum=0.0, maximum=40.0),
+        Field("altitude", "length", "Site altitude above mean sea level, for the atmospheric "
+              "pressure (ISO 2533 standard atmosphere).", default="0 m", minimum=-400.0,
+              maximum=5000.0),
+    )),
+    Section("levels", "Water levels.", (
+        Field("headwater", "length", "Normal headwater (intake pond or forebay) level."),
+        Field("headwater_min", "length", "Minimum operating headwater level; used for the "
+              "pressure and submergence checks. Defaults to the normal level.", optional=True),
+        Field("tailwater", "length", "Tailwater level when no rating is given; also the level "
+              "used for the grade lines.", optional=True),
+        Field("tailwater_rating", "file", "CSV of tailwater level against river flow.",
+              optional=True, columns=(("flow", "flow"), ("level", "length"))),
+    )),
+    Section("route", "The penstock route.", (
+        Field("profile", "file", "CSV of the pipe centreline: chainage (horizontal distance from "
+              "the intake) and elevation; an optional ground column is drawn on the route chart.",
+              columns=(("chainage", "length"), ("elevation", "length"))),
+        Field("pressure_margin", "length", "Smallest acceptable pressure head above the pipe "
+              "crown at any steady flow.", default="2 m", minimum=0.0),
+        Field("intake_approach", "choice", "Flow approach to the intake, for Gordon's "
+              "submergence criterion.", default="symmetric", choices=("symmetric", "asymmetric")),
+    )),
+    Section("pipe", "Pipe segments in series, from the intake down. One [[pipe]] table each.", (
+        Field("from", "length", "Chainage where the segment starts."),
+        Field("to", "length", "Chainage where the segment ends."),
+        Field("diameter", "length", "Inside diameter.", minimum=0.0, exclusive_minimum=True,
+              maximum=20.0),
+        Field("material", "text", "Pipe material, a name from the roughness table "
+              "(see the README)."),
+        Field("roughness", "length", "Absolute roughness; defaults to the material's value.",
+              optional=True, minimum=0.0, maximum=0.05),
+        Field("condition", "choice", "Which roughness of the material to use.", default="new",
+              choices=("new", "aged")),
+        Field("wall_thickness", "length", "Wall thickness, for the wave speed.", optional=True,
+              minimum=0.0, exclusive_minimum=True, maximum=0.5),
+    ), array=True),
+    Section("loss", "Local losses, each at a chainage. One [[loss]] table each; the keys "
+            "beyond those listed here depend on the kind (see the README).", (
+        Field("kind", "text", "Kind of loss: entrance, trashrack, bend, valve, contraction, "
+              "expansion, bifurcation, exit or custom."),
+        Field("at", "length", "Chainage of the loss."),
+        Field("label", "text", "Name shown in the loss breakdown.", optional=True),
+        Field("k", "dimensionless", "A loss coefficient given by the user; it overrides the "
+              "published method.", optional=True, minimum=0.0, maximum=100.0),
+    ), array=True, required=False, extra_from_registry=True),
+    Section("flows", "Plant flows and the river's flow record.", (
+        Field("record", "file", "CSV of the river flow record: date (daily or hourly) and flow.",
+              optional=True, columns=(("date", "date"), ("flow", "flow"))),
+        Field("design", "flow", "Design (rated) plant flow.", minimum=0.0,
+              exclusive_minimum=True),
+        Field("maximum", "flow", "Maximum plant flow; defaults to the design flow.",
+              optional=True, minimum=0.0, exclusive_minimum=True),
+        Field("minimum", "flow", "Minimum turbine flow; defaults to the turbine type's minimum "
+              "fraction of one unit's design flow.", optional=True, minimum=0.0),
+        Field("extra", "flow_list", "Further flows at which to draw grade lines.", default=[]),
+        Field("residual", "flow", "Residual (environmental) flow left in the river.",
+              default="0 m^3/s", minimum=0.0),
+        Field("gaps", "choice", "What to do with gaps in the flow record: refuse the record, "
+              "or fill by linear interpolation.", default="refuse",
+              choices=("refuse", "linear")),
+    )),
+    Section("turbine", "The generating units.", (
+        Field("type", "choice", "Turbine type.", choices=TURBINE_TYPE_CHOICES),
+        Field("units", "integer", "Number of identical units.", default=1, minimum=1,
+              maximum=12),
+        Field("peak_efficiency", "fraction", "Best turbine efficiency.", default=0.90,
+              minimum=0.0, exclusive_minimum=True, maximum=1.0),
+        Field("generator_efficiency", "fraction", "Generator efficiency.", default=0.96,
+              minimum=0.0, exclusive_minimum=True, maximum=1.0),
+        Field("transformer_efficiency", "fraction", "Step-up transformer efficiency.",
+              default=0.99, minimum=0.0, exclusive_minimum=True, maximum=1.0),
+    )),
+    Section("economics", "Money.", (
+        Field("currency", "text", "Currency code printed beside every price.", default="USD"),
+        Field("energy_price", "price_per_energy", "Value of energy sold.", default="0.08 /kWh",
+              minimum=0.0),
+        Field("discount_rate", "fraction", "Real discount rate.", default="8 %",
+              minimum=-0.99, maximum=1.0),
+        Field("life", "age", "Economic life.", default="40 year", minimum=0.0,
+              exclusive_minimum=True, maximum=200.0),
+    ), required=False),
+    Section("surge", "Water hammer settings.", (
+        Field("closure_time", "time", "Effective closure time of the turbine gates or valve "
+              "on load rejection.", default="10 s", minimum=0.0, exclusive_minimum=True),
+        Field("pipe_modulus", "stress", "Young's modulus of the pipe wall, for the wave speed.",
+              default="207 GPa", minimum=1e8, maximum=5e11),
+        Field("wave_speed", "velocity", "Pressure wave speed; overrides the Korteweg value.",
+              optional=True, minimum=100.0, maximum=1500.0),
+        Field("allowable_rise", "fraction", "Largest acceptable transient rise as a fraction "
+              "of the static head.", default="30 %", minimum=0.0, exclusive_minimum=True),
+    ), required=False),
+)
+
+SECTIONS_BY_NAME: dict[str, Section] = {s.name: s for s in SECTIONS}
+
+#: Name of the TOML file inside a case folder.
+CASE_FILE = "site.toml"

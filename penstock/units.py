@@ -1,0 +1,206 @@
+"""Unit parsing at the input edge and unit conversion at the output edge.
+
+pint lives here, in :mod:`penstock.case` and in the report writers only.  Every
+other module computes in SI floats and numpy arrays.
+
+Quantities in a case are written as text with their unit, e.g. ``"350 m"``,
+``"12 ft"``, ``"4.5 m^3/s"`` or ``"160 cfs"``.  :func:`parse_quantity` turns such a
+text into an SI float after checking that its dimension is the one expected.
+"""
+
+from __future__ import annotations
+
+import functools
+import re
+
+import pint
+
+#: Dimension names used by the case schema and the loss registry, mapped to the
+#: SI unit every value of that dimension is converted to.
+SI_UNITS: dict[str, str] = {
+    "length": "m",
+    "area": "m^2",
+    "flow": "m^3/s",
+    "velocity": "m/s",
+    "angle": "rad",
+    "time": "s",
+    "age": "year",
+    "temperature": "degC",
+    "pressure": "Pa",
+    "power": "W",
+    "energy": "J",
+    "stress": "Pa",
+    "density": "kg/m^3",
+    "moment_of_inertia": "kg*m^2",
+    "rotational_speed": "rpm",
+    "dimensionless": "",
+    "fraction": "",
+    # money is carried as a bare number in the case's currency; the unit is "per"
+    "price_per_energy": "1/kWh",
+    "price_per_mass": "1/t",
+    "price_per_length": "1/m",
+    "roughness_growth": "m/year",
+}
+
+#: Units for the report in each unit system, by dimension.
+REPORT_UNITS: dict[str, dict[str, str]] = {
+    "si": {
+        "length": "m", "small_length": "mm", "flow": "m^3/s", "velocity": "m/s",
+        "power": "kW", "energy": "MWh", "pressure": "kPa", "mass": "t", "area": "m^2",
+        "temperature": "degC", "time": "s",
+    },
+    "us": {
+        "length": "ft", "small_length": "in", "flow": "ft^3/s", "velocity": "ft/s",
+        "power": "kW", "energy": "MWh", "pressure": "psi", "mass": "ton", "area": "ft^2",
+        "temperature": "degF", "time": "s",
+    },
+}
+
+#: How units print in report column headers.
+UNIT_LABELS: dict[str, str] = {
+    "m^3/s": "m³/s", "ft^3/s": "ft³/s", "m^2": "m²", "ft^2": "ft²", "degC": "°C",
+    "degF": "°F", "ton": "short ton",
+}
+
+
+@functools.lru_cache(maxsize=1)
+def registry() -> pint.UnitRegistry:
+    """The package's single pint registry, with a few trade units added."""
+    ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
+    # cfs and cumecs are common in hydrology; pint knows neither by default.
+    ureg.define("cfs = foot ** 3 / second")
+    ureg.define("cumec = meter ** 3 / second = cumecs")
+    return ureg
+
+
+class UnitError(ValueError):
+    """A quantity is missing its unit, has the wrong dimension or cannot be parsed."""
+
+
+_NUMBER_ONLY = re.compile(r"^\s*[-+]?(\d+(\.\d*)?|\.\d+)([eE][-+]?\d+)?\s*$")
+
+
+def _dimensionality(kind: str):
+    ureg = registry()
+    si = SI_UNITS[kind]
+    return ureg.Quantity(1.0, si).dimensionality if si else ureg.Quantity(1.0).dimensionality
+
+
+def parse_quantity(value, kind: str) -> float:
+    """Parse a quantity written with its unit and return it in SI units.
+
+    Parameters
+    ----------
+    value : str or number
+        The text from the case, e.g. ``"350 m"``.  A bare number is accepted only
+        for dimensionless kinds.
+    kind : str
+        A key of :data:`SI_UNITS` naming the expected dimension.
+
+    Returns
+    -------
+    float
+        The value in the SI unit of :data:`SI_UNITS` ``[kind]``.
+
+    Raises
+    ------
+    UnitError
+        If the unit is missing, unknown or of the wrong dimension.
+    """
+    ureg = registry()
+    si = SI_UNITS[kind]
+    if isinstance(value, bool):
+        raise UnitError(f"expected a {_describe(kind)}, got {value!r}")
+    if isinstance(value, (int, float)):
+        if si == "":
+            return float(value)
+        raise UnitError(f"{value!r} has no unit; expected a {_describe(kind)}, e.g. {_example(kind)}")
+    if not isinstance(value, str):
+        raise UnitError(f"expected text with a unit such as {_example(kind)}, got {value!r}")
+    text = value.strip()
+    if not text:
+        raise UnitError(f"is empty; expected a {_describe(kind)}, e.g. {_example(kind)}")
+    if _NUMBER_ONLY.match(text) and si != "":
+        raise UnitError(f"'{text}' has no unit; expected a {_describe(kind)}, e.g. {_example(kind)}")
+    try:
+        q = ureg.Quantity(text)
+    except Exception as exc:  # pint raises several unrelated exception types
+        raise UnitError(f"cannot read '{text}' as a quantity ({type(exc).__name__}); "
+                        f"expected e.g. {_example(kind)}") from None
+    if not isinstance(q, ureg.Quantity):
+        q = ureg.Quantity(float(q))
+    if q.dimensionality != _dimensionality(kind):
+        raise UnitError(f"'{text}' is not a {_describe(kind)} (its dimension is "
+                        f"{q.dimensionality}); expected e.g. {_example(kind)}")
+    try:
+        out = float(q.to(si).magnitude) if si else float(q.to("dimensionless").magnitude)
+    except Exception:
+        raise UnitError(f"cannot convert '{text}' to {si}") from None
+    return out
+
+
+_EXAMPLES = {
+    "length": '"350 m" or "12 ft"', "area": '"4 m^2"', "flow": '"4.5 m^3/s" or "160 cfs"',
+    "velocity": '"3 m/s"', "angle": '"30 deg"', "time": '"8 s"', "age": '"40 year"',
+    "temperature": '"10 degC" or "50 degF"', "pressure": '"1.2 MPa" or "150 psi"',
+    "power": '"5 MW"', "energy": '"20 GWh"', "stress": '"160 MPa"', "density": '"7850 kg/m^3"',
+    "moment_of_inertia": '"25000 kg*m^2"', "rotational_speed": '"600 rpm"',
+    "dimensionless": "0.9", "fraction": '0.92 or "92 %"',
+    "price_per_energy": '"0.08 /kWh"', "price_per_mass": '"2500 /t"',
+    "price_per_length": '"150 /m"', "roughness_growth": '"0.02 mm/year"',
+}
+
+
+def _example(kind: str) -> str:
+    return _EXAMPLES.get(kind, SI_UNITS[kind])
+
+
+def _describe(kind: str) -> str:
+    return {
+        "flow": "flow rate", "dimensionless": "number", "fraction": "fraction",
+        "price_per_energy": "price per unit energy", "price_per_mass": "price per unit mass",
+        "price_per_length": "price per unit length", "roughness_growth": "roughness growth rate",
+        "moment_of_inertia": "moment of inertia", "rotational_speed": "rotational speed",
+    }.get(kind, kind)
+
+
+def parse_unit(text: str, kind: str) -> str:
+    """Check that a unit name from a CSV header has the expected dimension.
+
+    Returns the unit text unchanged, so the caller can convert a column with
+    :func:`to_si`.
+    """
+    ureg = registry()
+    try:
+        q = ureg.Quantity(1.0, text)
+    except Exception:
+        raise UnitError(f"unknown unit '{text}'; expected e.g. {_example(kind)}") from None
+    if q.dimensionality != _dimensionality(kind):
+        raise UnitError(f"unit '{text}' is not a {_describe(kind)}; expected e.g. {_example(kind)}")
+    return text
+
+
+def to_si(values, unit: str, kind: str):
+    """Convert numbers given in ``unit`` to the SI unit of ``kind``."""
+    ureg = registry()
+    si = SI_UNITS[kind]
+    q = ureg.Quantity(values, unit)
+    return q.to(si).magnitude if si else q.to("dimensionless").magnitude
+
+
+def from_si(values, kind: str, unit: str):
+    """Convert SI numbers of ``kind`` into ``unit`` for a report."""
+    ureg = registry()
+    si = SI_UNITS.get(kind, kind)
+    return ureg.Quantity(values, si).to(unit).magnitude
+
+
+def convert(values, from_unit: str, to_unit: str):
+    """Convert numbers between two units (report edge only)."""
+    ureg = registry()
+    return ureg.Quantity(values, from_unit).to(to_unit).magnitude
+
+
+def label(unit: str) -> str:
+    """A readable unit label for a report header, e.g. ``m³/s``."""
+    return UNIT_LABELS.get(unit, unit)

@@ -1,0 +1,255 @@
+"""Tests for penstock.pipewall against published formulas and independent solutions."""
+
+import numpy as np
+import pandas as pd
+import pint
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+from scipy.integrate import quad
+
+from penstock.constants import GRAVITY, P_ATM_SEA_LEVEL
+from penstock.materials import MATERIALS
+from penstock.pipewall import (
+    buckling_check,
+    buckling_thickness,
+    critical_buckling_pressure,
+    external_pressure_from_minimum_head,
+    hoop_thickness,
+    minimum_handling_thickness,
+    round_up_to_plates,
+    select_pressure_class,
+    standard_plate_thicknesses,
+    steel_mass,
+    wall_along_route,
+)
+
+UREG = pint.UnitRegistry()
+
+
+# ---------------------------------------------------------------------------- hoop
+
+
+def test_hoop_thickness_in_awwa_m11_units():
+    # AWWA M11 5th ed. (2017) Eq. 4-1, t = p d / (2 s), evaluated in its own US units
+    # (psi, in) and converted with pint: 150 psi, d = 48 in, s = 18 000 psi -> 0.200 in.
+    p = (150.0 * UREG.psi).to("Pa").magnitude
+    d = (48.0 * UREG.inch).to("m").magnitude
+    s = (18_000.0 * UREG.psi).to("Pa").magnitude
+    t = hoop_thickness(p, d, s)
+    assert isinstance(t, float)
+    assert (t * UREG.m).to("inch").magnitude == pytest.approx(150.0 * 48.0 / (2 * 18_000.0))
+
+
+def test_hoop_thickness_with_joint_efficiency_and_allowance():
+    # ASCE MOP 79 (2012): t = p D / (2 sigma E) + c.
+    t = hoop_thickness(2.0e6, 1.5, 150e6, joint_efficiency=0.85, corrosion_allowance=1.5e-3)
+    assert t == pytest.approx(2.0e6 * 1.5 / (2 * 150e6 * 0.85) + 1.5e-3, rel=1e-14)
+
+
+@pytest.mark.parametrize("d_over_t", [20.0, 50.0, 200.0])
+def test_hoop_stress_equals_lame_mean_stress(d_over_t):
+    # Lame thick-cylinder solution (Timoshenko, "Strength of Materials" Part II, 3rd ed.
+    # 1956, Art. 52): sigma_h(r) = p ri^2/(ro^2-ri^2) (1 + ro^2/r^2). Its mean across the
+    # wall equals p D_i / (2 t) exactly (equilibrium of half a ring), the value the hoop
+    # formula uses with the inside diameter.
+    d = 2.0
+    sigma = 160e6
+    p = 2.0 * sigma / d_over_t  # pressure that makes D/t = d_over_t
+    t = hoop_thickness(p, d, sigma)
+    assert d / t == pytest.approx(d_over_t)
+    ri, ro = d / 2, d / 2 + t
+    mean, _ = quad(lambda r: p * ri**2 / (ro**2 - ri**2) * (1 + ro**2 / r**2), ri, ro)
+    assert mean / t == pytest.approx(sigma, rel=1e-10)
+    # The peak (inner-fibre) Lame stress exceeds the mean by about t/D (thin-wall error).
+    peak = p * (ro**2 + ri**2) / (ro**2 - ri**2)
+    assert peak / sigma - 1.0 == pytest.approx(1.0 / d_over_t, rel=0.06)
+
+
+def test_hoop_zero_pressure_gives_allowance_only():
+    assert hoop_thickness(0.0, 2.0, 150e6, corrosion_allowance=2e-3) == pytest.approx(2e-3)
+
+
+def test_hoop_array_equals_loop_and_series_keeps_index():
+    p = np.array([0.5e6, 1.0e6, 3.0e6])
+    d = np.array([1.0, 1.5, 2.5])
+    arr = hoop_thickness(p, d, 150e6, 0.9, 1e-3)
+    loop = [hoop_thickness(a, b, 150e6, 0.9, 1e-3) for a, b in zip(p, d, strict=True)]
+    np.testing.assert_array_equal(arr, loop)
+    s = pd.Series(p, index=["a", "b", "c"])
+    out = hoop_thickness(s, d, 150e6)
+    assert isinstance(out, pd.Series)
+    assert list(out.index) == ["a", "b", "c"]
+
+
+@pytest.mark.parametrize(
+    ("kwargs", "match"),
+    [
+        ({"pressure": -1.0}, "pressure must be >= 0"),
+        ({"diameter": 0.0}, "diameter must be positive"),
+        ({"allowable_stress": -5.0}, "allowable_stress must be positive"),
+        ({"joint_efficiency": 1.2}, "joint_efficiency"),
+        ({"corrosion_allowance": -1e-3}, "corrosion_allowance"),
+    ],
+)
+def test_hoop_bad_input(kwargs, match):
+    args = {"pressure": 1e6, "diameter": 1.0, "allowable_stress": 150e6} | kwargs
+    with pytest.raises(ValueError, match=match):
+        hoop_thickness(**args)
+
+
+# ---------------------------------------------------------------------------- handling
+
+
+@pytest.mark.parametrize(
+    ("d_in", "rule", "t_in"),
+    [
+        (72.0, "usbr", (72.0 + 20.0) / 400.0),  # USBR: t = (D + 20)/400 [in] (from memory)
+        (120.0, "usbr", 0.35),  # (120 + 20)/400 = 0.35 in
+        (72.0, "pge", 0.25),  # PG&E: t = D/288 [in] (from memory): 72/288 = 0.25 in
+        (144.0, "pge", 0.5),
+    ],
+)
+def test_handling_thickness_rules_in_inches(d_in, rule, t_in):
+    d = (d_in * UREG.inch).to("m").magnitude
+    t = minimum_handling_thickness(d, rule)
+    assert (t * UREG.m).to("inch").magnitude == pytest.approx(t_in, rel=1e-12)
+
+
+def test_handling_array_and_bad_rule():
+    d = np.array([0.5, 1.0, 3.0])
+    np.testing.assert_array_equal(
+        minimum_handling_thickness(d), [minimum_handling_thickness(x) for x in d]
+    )
+    with pytest.raises(ValueError, match="rule="):
+        minimum_handling_thickness(1.0, rule="rule_of_thumb")
+
+
+# ---------------------------------------------------------------------------- plates
+
+
+@settings(max_examples=60, deadline=None)
+@given(
+    st.lists(st.floats(0.0, 0.05, allow_nan=False), min_size=1, max_size=20),
+)
+def test_rounding_never_below_required_and_is_next_plate(required):
+    plates = standard_plate_thicknesses()
+    t = np.array(required)
+    chosen = round_up_to_plates(t, plates)
+    assert np.all(chosen >= t)
+    assert np.all(np.isin(chosen, plates))
+    # no smaller plate would do
+    idx = np.searchsorted(plates, chosen)
+    smaller = np.where(idx > 0, plates[np.maximum(idx - 1, 0)], -np.inf)
+    assert np.all(smaller < t)
+
+
+def test_rounding_exact_plate_and_unsorted_list():
+    assert round_up_to_plates(0.012, [0.016, 0.010, 0.012]) == 0.012
+    assert round_up_to_plates(0.0121, [0.016, 0.010, 0.012]) == 0.016
+    with pytest.raises(ValueError, match="largest available plate"):
+        round_up_to_plates(0.051, standard_plate_thicknesses())
+    with pytest.raises(ValueError, match="available must be positive"):
+        round_up_to_plates(0.01, [0.0, 0.01])
+
+
+def test_select_pressure_class():
+    classes = MATERIALS["ductile_iron_en545"].pressure_classes
+    # EN 545: 27 bar needs class C30; 25 bar exactly fits C25.
+    assert select_pressure_class(27e5, classes) == pytest.approx(30e5)
+    assert select_pressure_class(25e5, classes) == pytest.approx(25e5)
+    with pytest.raises(ValueError, match="highest pressure class"):
+        select_pressure_class(120e5, classes)
+
+
+# ---------------------------------------------------------------------------- route
+
+
+def test_wall_along_route_steps():
+    steel = MATERIALS["astm_a516_gr70"]
+    x = np.linspace(0.0, 1000.0, 11)
+    head = np.linspace(20.0, 400.0, 11)
+    prof = wall_along_route(x, head, 1.8, steel, corrosion_allowance=1.5e-3)
+    p = 1000.0 * GRAVITY * head
+    np.testing.assert_allclose(prof.pressure, p)
+    np.testing.assert_allclose(
+        prof.hoop_thickness, p * 1.8 / (2 * steel.allowable_stress) + 1.5e-3
+    )
+    assert np.all(prof.plate_thickness >= prof.required_thickness)
+    assert np.all(prof.required_thickness >= prof.handling_thickness)
+    assert np.all(np.diff(prof.plate_thickness) >= 0)  # head rises -> never thinner
+    assert prof.steps[0][0] == 0.0 and prof.steps[-1][1] == 1000.0
+    for (_, end, _), (start, _, _) in zip(prof.steps, prof.steps[1:], strict=False):
+        assert end == start
+    # Near the top the handling minimum governs: USBR (1.8 + 0.508)/400 = 5.77 mm -> 6 mm.
+    assert prof.plate_thickness[0] == pytest.approx(0.006)
+
+
+def test_wall_along_route_bad_input():
+    steel = MATERIALS["astm_a36"]
+    with pytest.raises(ValueError, match="ascending"):
+        wall_along_route([0.0, 10.0, 5.0], [1.0, 2.0, 3.0], 1.0, steel)
+    with pytest.raises(ValueError, match="one value per chainage"):
+        wall_along_route([0.0, 10.0], [1.0], 1.0, steel)
+
+
+# ---------------------------------------------------------------------------- mass
+
+
+@pytest.mark.parametrize(("d", "t"), [(0.5, 0.006), (1.5, 0.012), (3.0, 0.030)])
+def test_steel_mass_equals_annulus_and_thin_wall_limit(d, t):
+    rho, length = 7850.0, 100.0
+    m = steel_mass(d, t, length, rho)
+    # exact annulus: pi/4 ((D + 2t)^2 - D^2)
+    assert m == pytest.approx(rho * np.pi / 4 * ((d + 2 * t) ** 2 - d**2) * length, rel=1e-12)
+    # thin-wall geometry rho pi D t L differs by exactly the factor (1 + t/D)
+    thin = rho * np.pi * d * t * length
+    assert m / thin == pytest.approx(1.0 + t / d, rel=1e-12)
+    assert abs(m / thin - 1.0) <= 0.0125  # all cases here have D/t >= 80
+
+
+def test_steel_mass_hand_value_and_array():
+    # 1 m of D = 1 m, t = 10 mm steel: 7850 pi 1.01 0.01 = 249.08 kg.
+    assert steel_mass(1.0, 0.01, 1.0, 7850.0) == pytest.approx(249.08, abs=0.01)
+    d = np.array([1.0, 2.0])
+    np.testing.assert_array_equal(
+        steel_mass(d, 0.01, 1.0, 7850.0), [steel_mass(x, 0.01, 1.0, 7850.0) for x in d]
+    )
+
+
+# ---------------------------------------------------------------------------- buckling
+
+
+@pytest.mark.parametrize(("e", "nu", "t", "d"), [(206.8e9, 0.3, 0.012, 2.0), (1.1e9, 0.45, 0.05, 0.8)])
+def test_buckling_matches_ring_formula(e, nu, t, d):
+    # Bresse's ring q_cr = 3 E I / R^3 (Timoshenko & Gere 1961, ch. 7) with the plate
+    # stiffness of a long tube, E I -> E t^3 / (12 (1 - nu^2)) per unit length.
+    r = d / 2
+    ring = 3 * (e * t**3 / (12 * (1 - nu**2))) / r**3
+    assert critical_buckling_pressure(e, nu, t, d) == pytest.approx(ring, rel=1e-12)
+
+
+def test_buckling_thickness_is_inverse_and_check_flags():
+    e, nu, d = 206.8e9, 0.3, 2.0
+    t = buckling_thickness(P_ATM_SEA_LEVEL, d, e, nu, safety_factor=1.5)
+    assert critical_buckling_pressure(e, nu, t, d) == pytest.approx(1.5 * P_ATM_SEA_LEVEL)
+    # D/t at full vacuum with SF 1.5: (2E/((1 - nu^2) 1.5 p_atm))^(1/3) = 144.1
+    assert d / t == pytest.approx((2 * e / (0.91 * 1.5 * P_ATM_SEA_LEVEL)) ** (1 / 3))
+    thin = buckling_check(0.8 * t, d, e, nu)
+    thick = buckling_check(1.2 * t, d, e, nu)
+    assert thin["needs_stiffeners"] is True and thin["utilisation"] > 1
+    assert thick["needs_stiffeners"] is False and thick["utilisation"] < 1
+    arr = buckling_check(np.array([0.8 * t, 1.2 * t]), d, e, nu)
+    np.testing.assert_array_equal(arr["needs_stiffeners"], [True, False])
+
+
+@pytest.mark.parametrize(
+    ("h_min", "expected"),
+    [
+        (10.0, 0.0),  # above atmospheric: no net external pressure
+        (-5.0, 5.0 * 1000.0 * GRAVITY),
+        (-50.0, P_ATM_SEA_LEVEL),  # cannot exceed full vacuum
+    ],
+)
+def test_external_pressure_from_minimum_head(h_min, expected):
+    assert external_pressure_from_minimum_head(h_min) == pytest.approx(expected)
