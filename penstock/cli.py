@@ -80,10 +80,15 @@ def cmd_run(args) -> int:
         written = write_reports(results, out, args.units)
     finally:
         close()
+    from .report.units import convert_value, report_unit
+
     n_warn = int((results.warnings["severity"] == "warning").sum())
     h = results.headline
-    _say(args.quiet, f"{case.name}: net head {h['net_head']:.2f} m at the design flow, "
-         f"{h['design_power'] / 1e3:,.0f} kW; {n_warn} warnings")
+    system = args.units or case.unit_system
+    head = convert_value(h["net_head"], "m", system)
+    _say(args.quiet, f"{case.name}: net head {head:.2f} {report_unit('m', system)} at the "
+         f"design flow, {h['design_power'] / 1e3:,.0f} kW; {n_warn} "
+         f"warning{'s' if n_warn != 1 else ''} (see the Cautions sheet)")
     _say(args.quiet, f"wrote {written['workbook']} and {len(written['files'])} files in "
          f"{written['folder']}/")
     return 0

@@ -201,6 +201,7 @@ EMPIRICAL_DIAMETER_METHODS = {
     "bier_1945": {
         "function": bier_diameter,
         "inputs": ("power", "net_head"),
+        "required": ("power", "net_head"),
         "validity": "US steel penstocks of the first half of the 20th century; numeric "
         "range not recalled",
         "reference": "Bier (1945), USBR Engineering Monograph 3 (from memory)",
@@ -208,18 +209,21 @@ EMPIRICAL_DIAMETER_METHODS = {
     "sarkaria_1979": {
         "function": sarkaria_diameter,
         "inputs": ("power", "net_head"),
+        "required": ("power", "net_head"),
         "validity": "survey of penstocks built 1959-1979; numeric range not recalled",
         "reference": "Sarkaria (1979), Water Power & Dam Construction 31(11) (from memory)",
     },
     "fahlbusch_1987": {
         "function": fahlbusch_diameter,
         "inputs": ("power", "net_head"),
+        "required": ("power", "net_head"),
         "validity": "steel penstocks and pressure shafts; numeric range not recalled",
         "reference": "Fahlbusch (1987), Water Power & Dam Construction 39(2) (from memory)",
     },
     "economic_velocity": {
         "function": economic_velocity_diameter,
         "inputs": ("flow", "velocity"),
+        "required": ("flow",),
         "validity": "velocity 2-4 m/s (common practice)",
         "velocity_range": (2.0, 4.0),
         "reference": "common practice",
@@ -251,6 +255,9 @@ def empirical_diameter(method, **inputs):
     unknown = set(inputs) - set(entry["inputs"])
     if unknown:
         raise ValueError(f"method {method!r} takes {entry['inputs']}, not {sorted(unknown)}.")
+    missing = [name for name in entry["required"] if name not in inputs]
+    if missing:
+        raise ValueError(f"method {method!r} needs {missing} (of {entry['inputs']}).")
     return entry["function"](**inputs)
 
 

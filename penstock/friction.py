@@ -613,7 +613,7 @@ def head_loss(flow, diameter, length, roughness, kinematic_viscosity, method="co
         friction = friction_factor(
             np.abs(velocity) * dm / nu[moving], eps[moving] / dm, method=method
         )
-        loss[moving] = friction * length_[moving] / dm * velocity * np.abs(velocity) / (
+        loss[moving] = friction * length_[moving] / dm * velocity * velocity / (
             2.0 * GRAVITY
         )
     return _restore_kind(

@@ -59,7 +59,7 @@ REPORT_UNITS: dict[str, dict[str, str]] = {
 #: How units print in report column headers.
 UNIT_LABELS: dict[str, str] = {
     "m^3/s": "m³/s", "ft^3/s": "ft³/s", "m^2": "m²", "ft^2": "ft²", "degC": "°C",
-    "degF": "°F", "ton": "short ton",
+    "degF": "°F", "ton": "short ton", "kg/m^3": "kg/m³", "lb/ft^3": "lb/ft³",
 }
 
 

@@ -241,11 +241,11 @@ def _liquid_state(celsius: float) -> tuple[float, float, float]:
     return float(state.rho), float(state.mu), float(state.w)
 
 
-def _liquid_property(temperature, position):
-    """Evaluate one entry of ``_liquid_state`` element by element over unique temperatures."""
+def _liquid_property(temperature, combine):
+    """Apply ``combine(density, dynamic_viscosity, speed_of_sound)`` per distinct temperature."""
     celsius = _check_temperature(temperature, *TEMPERATURE_RANGE)
     unique, inverse = np.unique(celsius, return_inverse=True)
-    values = np.array([_liquid_state(float(t))[position] for t in unique], dtype=float)
+    values = np.array([combine(*_liquid_state(float(t))) for t in unique], dtype=float)
     return _restore_kind(values[inverse].reshape(celsius.shape), temperature)
 
 
@@ -296,7 +296,7 @@ def density(temperature):
     :math:`\\rho(T, p)` from the IAPWS-95 Helmholtz free-energy equation at
     p = 101 325 Pa.
     """
-    return _liquid_property(temperature, 0)
+    return _liquid_property(temperature, lambda rho, mu, w: rho)
 
 
 def dynamic_viscosity(temperature):
@@ -322,7 +322,7 @@ def dynamic_viscosity(temperature):
     :math:`\\mu = \\mu_0(T)\\,\\mu_1(T, \\rho)` (IAPWS 2008, critical enhancement
     negligible here), with :math:`\\rho` from IAPWS-95 at p = 101 325 Pa.
     """
-    return _liquid_property(temperature, 1)
+    return _liquid_property(temperature, lambda rho, mu, w: mu)
 
 
 def kinematic_viscosity(temperature):
@@ -348,12 +348,7 @@ def kinematic_viscosity(temperature):
     :math:`\\nu = \\mu / \\rho`, both at p = 101 325 Pa (IAPWS 2008 viscosity over the
     IAPWS-95 density).
     """
-    celsius = _check_temperature(temperature, *TEMPERATURE_RANGE)
-    unique, inverse = np.unique(celsius, return_inverse=True)
-    values = np.array(
-        [_liquid_state(float(t))[1] / _liquid_state(float(t))[0] for t in unique], dtype=float
-    )
-    return _restore_kind(values[inverse].reshape(celsius.shape), temperature)
+    return _liquid_property(temperature, lambda rho, mu, w: mu / rho)
 
 
 def bulk_modulus(temperature):
@@ -381,13 +376,7 @@ def bulk_modulus(temperature):
     governs pressure waves (water hammer); it exceeds the isothermal modulus by the ratio
     of specific heats (about 0.7 % at 20 degC).
     """
-    celsius = _check_temperature(temperature, *TEMPERATURE_RANGE)
-    unique, inverse = np.unique(celsius, return_inverse=True)
-    values = np.array(
-        [_liquid_state(float(t))[0] * _liquid_state(float(t))[2] ** 2 for t in unique],
-        dtype=float,
-    )
-    return _restore_kind(values[inverse].reshape(celsius.shape), temperature)
+    return _liquid_property(temperature, lambda rho, mu, w: rho * w * w)
 
 
 for _function in (density, dynamic_viscosity, kinematic_viscosity, bulk_modulus):

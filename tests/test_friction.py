@@ -9,6 +9,7 @@ import warnings
 import numpy as np
 import pandas as pd
 import pytest
+from fluids.constants import g as fluids_gravity  # reference library, tests only
 from fluids.friction import Colebrook as fluids_colebrook  # reference library, tests only
 from hypothesis import given, settings
 from hypothesis import strategies as st
@@ -292,7 +293,8 @@ def test_friction_increases_with_roughness(re, rr, factor):
 
 
 @settings(max_examples=40, deadline=None)
-@given(flow=st.floats(min_value=5.0, max_value=50.0), diameter=st.floats(min_value=1.0, max_value=3.0))
+@given(flow=st.floats(min_value=5.0, max_value=50.0),
+       diameter=st.floats(min_value=1.0, max_value=3.0))
 def test_head_loss_quadratic_when_fully_rough(flow, diameter):
     # eps/D = 0.01 and Re ~ 1e6..1e8: complete turbulence, f nearly constant, so
     # halving the flow cuts the loss about four times (within 2 %).
@@ -313,11 +315,12 @@ def test_reynolds_number():
 
 
 def test_head_loss_against_fluids_assembly():
-    # Darcy–Weisbach assembled from fluids.friction.Colebrook and the standard gravity.
+    # Darcy–Weisbach assembled from the reference library: fluids.friction.Colebrook and
+    # fluids.constants.g (standard gravity).
     flow, diameter, length, roughness, nu = 3.0, 1.2, 850.0, 0.046e-3, 1.31e-6
     velocity = flow / (math.pi / 4.0 * diameter**2)
     f = fluids_colebrook(velocity * diameter / nu, roughness / diameter)
-    expected = f * length / diameter * velocity**2 / (2.0 * 9.80665)
+    expected = f * length / diameter * velocity**2 / (2.0 * fluids_gravity)
     assert head_loss(flow, diameter, length, roughness, nu) == pytest.approx(expected, rel=1e-10)
 
 

@@ -187,18 +187,20 @@ def _route_sheet(ws, ctx):
     table = convert_table(wide, ctx.system)
     sh.put(ws, row, 1, "Flows: " + "; ".join(
         f"{k} {ctx.v(q, 'm^3/s'):.3f} {ctx.u('m^3/s')}" for k, q in flows.items()), font=sh.NOTE)
-    row += 1
-    first, last = sh.write_table(ws, table, row=row)
+    chart_row = row + 1
+    row += 29   # the chart sits above the table
+    first, last = sh.write_table(ws, table, row=row, widths={c: 13 for c in table.columns[2:]})
+    ws.column_dimensions["B"].width = 34
     ws.freeze_panes = ws.cell(row=first, column=2)
-    ctx.page(ws, f"{row}:{row}")
-    # profile with ground, a separate small table to the right
+    ctx.page(ws)
+    # the profile with its ground line, below the grade-line table
     prof = convert_table(r.profile, ctx.system)
-    pcol = len(table.columns) + 2
-    pfirst, plast = sh.write_table(ws, prof, row=row, col=pcol)
+    sh.put(ws, last + 2, 1, "Route profile as given", font=sh.SUBTITLE)
+    pfirst, plast = sh.write_table(ws, prof, row=last + 3, col=1)
     cols = list(table.columns)
-    chart = _route_chart(ctx, ws, table, cols, first, last, cases, pcol, pfirst, plast, prof)
-    ws.add_chart(chart, f"A{last + 3}")
-    summary_chart = _route_chart(ctx, ws, table, cols, first, last, ["design flow"], pcol,
+    chart = _route_chart(ctx, ws, table, cols, first, last, cases, 1, pfirst, plast, prof)
+    ws.add_chart(chart, f"A{chart_row}")
+    summary_chart = _route_chart(ctx, ws, table, cols, first, last, ["design flow"], 1,
                                  pfirst, plast, prof, width=18, height=10,
                                  title="Route and grade lines at the design flow")
     ctx.summary_ws.add_chart(summary_chart, ctx.headline_anchor)
