@@ -93,6 +93,13 @@ def capital_recovery_factor(rate, years):
     evaluated as :math:`i / (-\\mathrm{expm1}(-n\\,\\mathrm{log1p}(i)))` for accuracy near
     :math:`i = 0`, where the limit :math:`1/n` is used for :math:`|i| < 10^{-12}`.
 
+    Examples
+    --------
+    >>> round(capital_recovery_factor(0.10, 20), 5)
+    0.11746
+    >>> capital_recovery_factor(0.0, 25)
+    0.04
+
     References
     ----------
     .. [1] Grant, Ireson and Leavenworth, "Principles of Engineering Economy", 8th ed.,

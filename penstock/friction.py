@@ -110,6 +110,12 @@ def _check(name, values, low, high, low_open=False, what=""):
         )
 
 
+def _check_finite(name, values, what=""):
+    """Raise ValueError unless every element of ``values`` is finite (any sign)."""
+    if values.size and not np.isfinite(values).all():
+        raise ValueError(f"{name} must be finite{what}; got {values[~np.isfinite(values)][0]}")
+
+
 def _reynolds_and_roughness(reynolds, relative_roughness, turbulent=False):
     """Broadcast, flatten and check Reynolds numbers and relative roughness.
 
@@ -169,7 +175,7 @@ def reynolds(velocity, diameter, kinematic_viscosity):
        DOI: 10.1098/rstl.1883.0029
     """
     v, d, nu = (np.asarray(x, dtype=float) for x in (velocity, diameter, kinematic_viscosity))
-    _check("velocity", np.abs(v), 0.0, _LARGEST)
+    _check_finite("velocity", v)
     _check("diameter", d, 0.0, _LARGEST, low_open=True)
     _check("kinematic_viscosity", nu, 0.0, _LARGEST, low_open=True)
     return _restore_kind(np.abs(v) * d / nu, velocity, diameter, kinematic_viscosity)
@@ -598,7 +604,7 @@ def head_loss(flow, diameter, length, roughness, kinematic_viscosity, method="co
     )
     shape = q.shape
     q, d, length_, eps, nu = (np.ascontiguousarray(x).ravel() for x in (q, d, length_, eps, nu))
-    _check("flow", np.abs(q), 0.0, _LARGEST)
+    _check_finite("flow", q, what=" (negative for reverse flow)")
     _check("diameter", d, 0.0, _LARGEST, low_open=True)
     _check("length", length_, 0.0, _LARGEST)
     _check("kinematic_viscosity", nu, 0.0, _LARGEST, low_open=True)
@@ -613,7 +619,7 @@ def head_loss(flow, diameter, length, roughness, kinematic_viscosity, method="co
         friction = friction_factor(
             np.abs(velocity) * dm / nu[moving], eps[moving] / dm, method=method
         )
-        loss[moving] = friction * length_[moving] / dm * velocity * velocity / (
+        loss[moving] = friction * length_[moving] / dm * velocity * np.abs(velocity) / (
             2.0 * GRAVITY
         )
     return _restore_kind(

@@ -47,6 +47,7 @@ import numpy as np
 __all__ = [
     "ALLOWABLE_STRESS_RULES",
     "MATERIALS",
+    "NUMERIC_PROPERTIES",
     "Material",
     "get_material",
     "make_material",
@@ -664,7 +665,9 @@ def get_material(name, overrides=None):
         Key of :data:`MATERIALS`, e.g. ``"astm_a516_gr70"``. [-]
     overrides : mapping, optional
         Property name -> new value (SI), e.g. ``{"roughness": 0.1e-3}``. The result is
-        re-validated; a ``sources`` entry ``"user override"`` is recorded for each. [-]
+        re-validated; a ``sources`` entry ``"user override"`` is recorded for each.
+        Derived values are not recomputed: overriding ``yield_strength`` leaves
+        ``allowable_stress`` as it was, so override both when needed. [-]
 
     Returns
     -------

@@ -106,6 +106,13 @@ def hoop_thickness(
     the Barlow/Mariotte hoop-stress relation :math:`\\sigma = p D / (2 t)` solved for
     :math:`t`, with joint efficiency :math:`E_j` and corrosion allowance :math:`c`.
 
+    Examples
+    --------
+    3 MPa in a 2 m pipe at 150 MPa allowable, 0.9 joint efficiency, 2 mm allowance:
+
+    >>> round(hoop_thickness(3.0e6, 2.0, 150e6, 0.9, 2e-3) * 1e3, 2)
+    24.22
+
     References
     ----------
     .. [1] AWWA, "Steel Pipe - A Guide for Design and Installation", Manual M11, 5th ed.,
@@ -584,31 +591,25 @@ def buckling_check(
     -----
     Uses :func:`critical_buckling_pressure`. Ring-stiffened design is not covered.
     """
-    p_cr = critical_buckling_pressure(elastic_modulus, poisson_ratio, thickness, diameter)
+    p_cr = np.asarray(
+        critical_buckling_pressure(elastic_modulus, poisson_ratio, thickness, diameter)
+    )
     sf = _array("safety_factor", safety_factor, positive=True, unit="-")
     p_ext = _array("external_pressure", external_pressure, nonnegative=True, unit="Pa")
-    allowable = np.asarray(p_cr) / sf
+    allowable = p_cr / sf
+    # utilisation: 0 without load, infinite for a zero-thickness wall under load
     with np.errstate(divide="ignore", invalid="ignore"):
-        util = np.where(allowable > 0.0, p_ext / np.where(allowable > 0, allowable, 1.0), np.inf)
-    util = np.where(p_ext == 0.0, 0.0, util)
+        util = np.where(p_ext == 0.0, 0.0, p_ext / allowable)
+    t_unstiffened = np.asarray(
+        buckling_thickness(p_ext, diameter, elastic_modulus, poisson_ratio, sf)
+    )
     args = (thickness, diameter, elastic_modulus, poisson_ratio, external_pressure, safety_factor)
-    needs = util > 1.0
-    if isinstance(_index_of(*args), pd.Index):
-        needs_out = pd.Series(np.broadcast_to(needs, (len(_index_of(*args)),)).copy(),
-                              index=_index_of(*args))
-    elif all(np.ndim(a) == 0 for a in args):
-        needs_out = bool(needs)
-    else:
-        needs_out = np.asarray(needs)
+    needs = _finish(util > 1.0, *args)
+    needs = bool(needs) if isinstance(needs, float) else needs.astype(bool)
     return {
         "critical_pressure": _finish(p_cr, *args),
         "allowable_pressure": _finish(allowable, *args),
         "utilisation": _finish(util, *args),
-        "needs_stiffeners": needs_out,
-        "thickness_unstiffened": _finish(
-            np.asarray(
-                buckling_thickness(p_ext, diameter, elastic_modulus, poisson_ratio, sf)
-            ),
-            *args,
-        ),
+        "needs_stiffeners": needs,
+        "thickness_unstiffened": _finish(t_unstiffened, *args),
     }

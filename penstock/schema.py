@@ -10,6 +10,7 @@ Kinds are those of :data:`penstock.units.SI_UNITS`, plus ``text``, ``choice``,
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
 
 
@@ -157,3 +158,52 @@ SECTIONS_BY_NAME: dict[str, Section] = {s.name: s for s in SECTIONS}
 
 #: Name of the TOML file inside a case folder.
 CASE_FILE = "site.toml"
+
+
+def reference_markdown() -> str:
+    """The case-file reference as Markdown tables (pasted into the README)."""
+    from . import route, units
+
+    def unit_of(f: Field) -> str:
+        if f.kind in ("text", "choice", "file", "integer", "flow_list"):
+            return {"flow_list": "flow (list)"}.get(f.kind, f.kind)
+        si = units.SI_UNITS.get(f.kind, "")
+        return f"{f.kind} [{si}]" if si else "number"
+
+    out = []
+    for sec in SECTIONS:
+        head = f"[[{sec.name}]]" if sec.array else f"[{sec.name}]"
+        req = "" if sec.required else " (optional section)"
+        out.append(f"**`{head}`**{req}: {sec.description}\n")
+        out.append("| key | kind [SI unit] | default | meaning |")
+        out.append("|---|---|---|---|")
+        for f in sec.fields:
+            default = "required" if f.required else ("—" if f.default is None else
+                                                     f"`{f.default}`")
+            desc = f.description + (" One of: " + ", ".join(f"`{c}`" for c in f.choices)
+                                    if f.choices else "")
+            out.append(f"| `{f.name}` | {unit_of(f)} | {default} | {desc} |")
+        out.append("")
+    from . import fittings
+
+    out.append("**Keys of each loss kind** (besides `kind`, `at`, `label` and `k`):\n")
+    out.append("| kind | key | kind [SI unit] | default | meaning |")
+    out.append("|---|---|---|---|---|")
+    for kind in fittings.LOSS_KINDS:
+        params = route.case_parameters(kind)
+        if not params:
+            out.append(f"| `{kind}` | — | | | |")
+        for name, (dim, default, desc) in params.items():
+            if default is None:
+                shown = "required"
+            elif dim == "angle":
+                shown = f"`{math.degrees(default):g} deg`"
+            elif isinstance(default, float):
+                shown = f"`{default:.4g}`"
+            else:
+                shown = f"`{default}`"
+            si = units.SI_UNITS.get(dim, "")
+            out.append(f"| `{kind}` | `{name}` | {dim}{f' [{si}]' if si else ''} | {shown} | "
+                       f"{desc} |")
+    return "\n".join(out)
+

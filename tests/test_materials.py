@@ -1,11 +1,13 @@
 """Tests for penstock.materials: registry values against the standards they cite."""
 
 import dataclasses
+import inspect
 
 import numpy as np
 import pytest
 from fluids.friction import material_roughness
 
+import penstock.materials as MODULE
 from penstock.materials import (
     ALLOWABLE_STRESS_RULES,
     MATERIALS,
@@ -172,3 +174,27 @@ def test_make_material_bad_name_and_lookup_errors():
         steel_allowable_stress(250e6, 400e6, rule="guess")
     with pytest.raises(ValueError, match="sdr must be greater than 1"):
         sdr_pressure_rating(1.0, 8e6)
+
+
+PUBLIC_FUNCTIONS = [n for n in MODULE.__all__ if inspect.isfunction(getattr(MODULE, n))]
+
+
+def _documented_parameters(func):
+    """Parameter names listed in the numpydoc 'Parameters' section of ``func``."""
+    lines = inspect.getdoc(func).splitlines()
+    if "Parameters" not in lines:
+        return []
+    names = []
+    body = lines[lines.index("Parameters") + 2 :]
+    for line, following in zip(body, body[1:] + [""], strict=True):
+        if following and set(following) == {"-"}:
+            break  # next section header
+        if line and not line.startswith(" "):
+            names += [n.strip().lstrip("*") for n in line.split(" : ")[0].split(",")]
+    return names
+
+
+@pytest.mark.parametrize("name", PUBLIC_FUNCTIONS)
+def test_docstring_parameters_match_signature(name):
+    func = getattr(MODULE, name)
+    assert _documented_parameters(func) == list(inspect.signature(func).parameters)

@@ -1,5 +1,7 @@
 """Tests for penstock.pipewall against published formulas and independent solutions."""
 
+import inspect
+
 import numpy as np
 import pandas as pd
 import pint
@@ -8,6 +10,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from scipy.integrate import quad
 
+import penstock.pipewall as MODULE
 from penstock.constants import GRAVITY, P_ATM_SEA_LEVEL
 from penstock.materials import MATERIALS
 from penstock.pipewall import (
@@ -220,7 +223,9 @@ def test_steel_mass_hand_value_and_array():
 # ---------------------------------------------------------------------------- buckling
 
 
-@pytest.mark.parametrize(("e", "nu", "t", "d"), [(206.8e9, 0.3, 0.012, 2.0), (1.1e9, 0.45, 0.05, 0.8)])
+@pytest.mark.parametrize(
+    ("e", "nu", "t", "d"), [(206.8e9, 0.3, 0.012, 2.0), (1.1e9, 0.45, 0.05, 0.8)]
+)
 def test_buckling_matches_ring_formula(e, nu, t, d):
     # Bresse's ring q_cr = 3 E I / R^3 (Timoshenko & Gere 1961, ch. 7) with the plate
     # stiffness of a long tube, E I -> E t^3 / (12 (1 - nu^2)) per unit length.
@@ -253,3 +258,36 @@ def test_buckling_thickness_is_inverse_and_check_flags():
 )
 def test_external_pressure_from_minimum_head(h_min, expected):
     assert external_pressure_from_minimum_head(h_min) == pytest.approx(expected)
+
+
+def test_buckling_check_zero_thickness_and_series():
+    out = buckling_check(0.0, 1.0, 206.8e9, 0.3)
+    assert out["needs_stiffeners"] is True and out["utilisation"] == np.inf
+    s = pd.Series([0.005, 0.02], index=["upper", "lower"])
+    res = buckling_check(s, 1.0, 206.8e9, 0.3)
+    assert list(res["needs_stiffeners"]) == [True, False]
+    assert list(res["critical_pressure"].index) == ["upper", "lower"]
+
+
+PUBLIC_FUNCTIONS = [n for n in MODULE.__all__ if inspect.isfunction(getattr(MODULE, n))]
+
+
+def _documented_parameters(func):
+    """Parameter names listed in the numpydoc 'Parameters' section of ``func``."""
+    lines = inspect.getdoc(func).splitlines()
+    if "Parameters" not in lines:
+        return []
+    names = []
+    body = lines[lines.index("Parameters") + 2 :]
+    for line, following in zip(body, body[1:] + [""], strict=True):
+        if following and set(following) == {"-"}:
+            break  # next section header
+        if line and not line.startswith(" "):
+            names += [n.strip().lstrip("*") for n in line.split(" : ")[0].split(",")]
+    return names
+
+
+@pytest.mark.parametrize("name", PUBLIC_FUNCTIONS)
+def test_docstring_parameters_match_signature(name):
+    func = getattr(MODULE, name)
+    assert _documented_parameters(func) == list(inspect.signature(func).parameters)
