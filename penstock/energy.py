@@ -434,9 +434,10 @@ def design_flow_study(index, river_flow, gross_head, *, density, head_loss=None,
     Notes
     -----
     Installed capacity is the electrical output with all units at rated flow
-    (availability 1) under the largest gross head in ``gross_head``. Each design flow runs :func:`simulate_plant`, vectorized
-    over the time steps; the few design flows are looped over, which keeps
-    memory at O(number of steps).
+    (availability 1) under the largest gross head in ``gross_head``. Each
+    design flow runs :func:`simulate_plant`, vectorized over the time steps;
+    the few design flows are looped over, which keeps memory at O(number of
+    steps).
     """
     river = _check_non_negative(river_flow, "river_flow")
     if design_flows is None:

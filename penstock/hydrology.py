@@ -15,7 +15,7 @@ to the non-exceedance probability ``1 - p``.
 
 from __future__ import annotations
 
-from typing import Callable, NamedTuple
+from typing import NamedTuple
 
 import numpy as np
 import pandas as pd

@@ -24,7 +24,7 @@ Sources of the registry values
 
 from __future__ import annotations
 
-from typing import Callable, NamedTuple
+from typing import NamedTuple
 
 import numpy as np
 
@@ -513,7 +513,10 @@ def dispatch(flow, n_units, rated_flow_per_unit, efficiency_function, net_head, 
     best = np.argmax(power, axis=0)[None, ...]
     chosen_power = np.take_along_axis(power, best, axis=0)[0]
     running = chosen_power > 0.0
-    pick = lambda a: np.take_along_axis(np.broadcast_to(a, power.shape), best, axis=0)[0]  # noqa: E731
+
+    def pick(values):
+        return np.take_along_axis(np.broadcast_to(values, power.shape), best, axis=0)[0]
+
     return DispatchResult(
         n_running=np.where(running, best[0] + 1, 0),
         turbined_flow=np.where(running, pick(q_k), 0.0),

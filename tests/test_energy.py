@@ -169,7 +169,8 @@ def test_energy_summary_rejects_bad_records():
 
 def test_simulate_plant_rejects_nan_flow():
     river = pd.Series([1.0, np.nan, 2.0], index=YEAR_2001[:3])
-    with pytest.raises(ValueError, match=r"river_flow: value nan at row 1 \(index 2001-01-01 01:00:00\)"):
+    with pytest.raises(ValueError,
+                       match=r"river_flow: value nan at row 1 \(index 2001-01-01 01:00:00\)"):
         en.simulate_plant(river, 30.0, 2.0, density=DENSITY)
 
 
