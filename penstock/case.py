@@ -46,6 +46,7 @@ class Segment:
     material: str
     roughness: float
     wall_thickness: float | None = None
+    roughness_growth: float | None = None
 
     @property
     def area(self) -> float:
@@ -80,6 +81,7 @@ class Case:
     profile: pd.DataFrame          # columns: chainage, elevation (+ ground)
     pressure_margin: float
     intake_approach: str
+    service_life: float
     segments: list[Segment]
     losses: list[LocalLoss]
     flow_record: pd.Series | None  # river flow [m^3/s] on a DatetimeIndex
@@ -465,7 +467,8 @@ def load_case(path) -> Case:
         temperature=water["temperature"], altitude=water["altitude"],
         headwater=hw, headwater_min=hw_min, tailwater=levels["tailwater"],
         tailwater_rating=rating, profile=profile, pressure_margin=route["pressure_margin"],
-        intake_approach=route["intake_approach"], segments=segments, losses=losses,
+        intake_approach=route["intake_approach"], service_life=route["service_life"],
+        segments=segments, losses=losses,
         flow_record=record, design_flow=q_design, maximum_flow=q_max, minimum_flow=q_min,
         extra_flows=list(flows["extra"]), residual_flow=flows["residual"],
         gap_method=flows["gaps"], turbine=turbine, economics=values["economics"],
@@ -499,7 +502,7 @@ def _segments(doc: dict, rd: _Reader, chainage: np.ndarray) -> list[Segment]:
                             "value (SI)": v["roughness"], "SI unit": "m",
                             "source": "material table"})
         segs.append(Segment(v["from"], v["to"], v["diameter"], v["material"], v["roughness"],
-                            v["wall_thickness"]))
+                            v["wall_thickness"], v["roughness_growth"]))
     tol = 1e-6
     if abs(segs[0].start - chainage[0]) > tol:
         raise CaseError(CASE_FILE, "pipe 1.from", f"starts at {segs[0].start:g} m but the "

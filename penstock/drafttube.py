@@ -1,6 +1,7 @@
 """Draft tube: conical diffuser recovery, exit loss, Thoma cavitation and setting.
 
-Pure functions, SI units except cone angles in degrees (total included angle).
+Pure functions, SI units; cone angles are total included angles in radians
+(Gibson's table is kept in degrees, as published, and converted).
 """
 
 from __future__ import annotations
@@ -61,7 +62,7 @@ def diffuser_loss_coefficient_gibson(cone_angle):
     Parameters
     ----------
     cone_angle : numeric
-        Total included angle of the cone, in [5.5, 180]. [deg]
+        Total included angle of the cone, 5.5 to 180 deg (0.096 to pi rad). [rad]
 
     Returns
     -------
@@ -82,11 +83,15 @@ def diffuser_loss_coefficient_gibson(cone_angle):
        having converging or diverging boundaries. Proceedings of the Royal
        Society of London, Series A 83(563), 366-378. doi:10.1098/rspa.1910.0025
     """
-    angle = np.asarray(cone_angle, dtype=float)
+    angle = np.degrees(np.asarray(cone_angle, dtype=float))
     table = np.asarray(GIBSON_CONE_TABLE)
-    if np.any(~np.isfinite(angle)) or np.any((angle < table[0, 0]) | (angle > table[-1, 0])):
+    tol = 1e-9
+    if np.any(~np.isfinite(angle)) or np.any((angle < table[0, 0] - tol)
+                                             | (angle > table[-1, 0] + tol)):
         raise ValueError(f"cone_angle: expected a total cone angle in [{table[0, 0]}, "
-                         f"{table[-1, 0]}] deg (range of Gibson's tests), got {cone_angle}")
+                         f"{table[-1, 0]}] deg, i.e. [{np.radians(table[0, 0]):.4f}, "
+                         f"{np.pi:.4f}] rad (range of Gibson's tests), got {cone_angle} rad")
+    angle = np.clip(angle, table[0, 0], table[-1, 0])
     return _same_kind(cone_angle, np.interp(angle, table[:, 0], table[:, 1]))
 
 
@@ -96,7 +101,7 @@ def diffuser_efficiency_gibson(cone_angle, area_ratio):
     Parameters
     ----------
     cone_angle : numeric
-        Total included angle of the cone. [deg]
+        Total included angle of the cone. [rad]
     area_ratio : numeric
         Outlet area over inlet area, A2/A1 > 1. [-]
 
@@ -162,7 +167,7 @@ def velocity_head_recovery(flow, inlet_diameter, area_ratio, cone_angle):
     area_ratio : numeric
         Outlet over inlet area, > 1. [-]
     cone_angle : numeric
-        Total cone angle. [deg]
+        Total cone angle. [rad]
 
     Returns
     -------

@@ -217,7 +217,10 @@ def simulate_plant(river_flow, gross_head, rated_flow_per_unit, *, density, n_un
     ideal = dispatch(allocation.turbined, n_units, rated, eta_fn, gross, density)
     factor = float(_efficiency_product(**drive))  # electrical W per W of shaft power
     spill = allocation.spill + (allocation.turbined - actual.turbined_flow)
-    kind = lambda values, name: _same_kind(river_flow, values, name)  # noqa: E731
+
+    def kind(values, name):
+        return _same_kind(river_flow, values, name)
+
     return PlantOperation(
         turbined_flow=kind(actual.turbined_flow, "turbined_flow"),
         spill_flow=kind(spill, "spill_flow"),
@@ -400,8 +403,9 @@ def design_flow_study(index, river_flow, gross_head, *, density, head_loss=None,
         Gross head, scalar or aligned with the steps. [m]
     density : float
         Water density. [kg/m^3]
-    head_loss : callable or array_like, optional
-        Penstock head loss as in :func:`simulate_plant`. [m]
+    head_loss : callable, optional
+        Penstock head loss ``head_loss(total_flow)`` (vectorized); a callable
+        because the loss changes with the design flow. None means no loss. [m]
     residual : numeric or array_like, default 0.0
         Residual flow requirement. [m^3/s]
     n_units : int, default 1
@@ -439,6 +443,9 @@ def design_flow_study(index, river_flow, gross_head, *, density, head_loss=None,
     the few design flows are looped over, which keeps memory at O(number of
     steps).
     """
+    if head_loss is not None and not callable(head_loss):
+        raise ValueError("head_loss: expected a callable head_loss(total_flow) -> m for a "
+                         "design flow study (the loss depends on the design flow)")
     river = _check_non_negative(river_flow, "river_flow")
     if design_flows is None:
         p = np.arange(0.10, 0.601, 0.05) if design_exceedances is None \

@@ -220,3 +220,50 @@ def submergence_gordon(velocity, diameter, approach="symmetric"):
     out = c * np.asarray(velocity, float) * np.sqrt(np.asarray(diameter, float))
     return out if np.ndim(out) else float(out)
 
+
+
+def discharge_to_atmosphere(headwater, chainage, elevation, node_area, length, diameter,
+                            roughness, k, reference_area, kinematic_viscosity,
+                            method="colebrook"):
+    """Flow of a route that discharges a free jet to the atmosphere at its last node.
+
+    Solves for the flow at which the pressure head at the outlet is zero, i.e. the
+    hydraulic grade line meets the pipe centreline there (common practice for a
+    free outlet: the jet leaves at atmospheric pressure).
+
+    Parameters
+    ----------
+    headwater : float
+        Reservoir level. [m]
+    chainage, elevation, node_area, length, diameter, roughness, k, reference_area
+        The route, as for :func:`grade_lines`.
+    kinematic_viscosity : float
+        [m^2/s]
+    method : str, default "colebrook"
+        Friction-factor method.
+
+    Returns
+    -------
+    float
+        The discharge. [m^3/s]
+
+    Raises
+    ------
+    ValueError
+        If the outlet is not below the headwater level.
+    """
+    from scipy.optimize import brentq
+
+    z_out = float(np.asarray(elevation)[-1])
+    if not headwater > z_out:
+        raise ValueError(f"outlet elevation {z_out:g} m is not below the headwater "
+                         f"{headwater:g} m; no free discharge")
+
+    def outlet_pressure(q):
+        g = grade_lines([q], headwater, chainage, elevation, node_area, length, diameter,
+                        roughness, k, reference_area, kinematic_viscosity, method)
+        return float(g.pressure_head[0, -1])
+
+    a_out = float(np.asarray(node_area)[-1])
+    q_hi = a_out * np.sqrt(2 * GRAVITY * (headwater - z_out))  # no losses at all
+    return float(brentq(outlet_pressure, q_hi * 1e-9, q_hi, xtol=1e-14, rtol=1e-13))

@@ -138,9 +138,9 @@ def run_case(case: Case, progress=None) -> Results:
     tick("route and grade lines")
     route = build_route(case, warns, methods)
     flows, flow_names = _study_flows(case)
-    gl = gradeline.grade_lines(flows, case.headwater, route.chainage, route.elevation,
-                               route.node_area, route.length, route.diameter, route.roughness,
-                               route.k, route.reference_area, props.kinematic_viscosity)
+    args = (route.chainage, route.elevation, route.node_area, route.length, route.diameter)
+    tail = (route.k, route.reference_area, props.kinematic_viscosity)
+    gl = gradeline.grade_lines(flows, case.headwater, *args, route.roughness, *tail)
     methods.add("Pipe friction", "Darcy–Weisbach with the Colebrook–White friction factor "
                 "(64/Re below Re 2000; linear blend 2000–4000)",
                 "Colebrook, C.F. (1939). J. Inst. Civil Eng. 11(4), 133–156, "
@@ -148,12 +148,28 @@ def run_case(case: Case, progress=None) -> Results:
     rho_g = props.density * GRAVITY
     atm_head = props.atmospheric_pressure / rho_g
     vap_head = props.vapour_pressure / rho_g
-
-    grade = _grade_table(route, gl, flow_names)
-    checks, stretches = _pressure_checks(case, route, gl, flow_names, atm_head, vap_head, warns)
-    _submergence(case, route, flows, flow_names, warns, methods, checks)
-    breakdown = _loss_breakdown(case, route, gl, flow_names)
+    sets = [(gl, flow_names)]
+    if any(seg.roughness_growth for seg in case.segments):
+        years = case.service_life
+        keep = [i for i, n in enumerate(flow_names) if n in ("design flow", "maximum plant flow")]
+        aged = gradeline.grade_lines(flows[keep], case.headwater, *args,
+                                     route.aged_roughness(case.segments, years), *tail)
+        sets.append((aged, [f"{flow_names[i]}, after {years:g} years" for i in keep]))
+        methods.add("Roughness ageing", f"linear growth of roughness with age, shown after "
+                    f"{years:g} years", "Colebrook, C.F. & White, C.M. (1937). The reduction of "
+                    "carrying capacity of pipes with age. J. ICE 7(1), 99–118; rates after "
+                    "Lamont, P.A. (1981), J. AWWA 73(5), 274–280")
+    grade = pd.concat([_grade_table(route, g, n) for g, n in sets], ignore_index=True)
+    parts = [_pressure_checks(case, route, g, n, atm_head, vap_head, warns) for g, n in sets]
+    checks = pd.concat([p[0] for p in parts], ignore_index=True)
+    stretches = pd.concat([p[1] for p in parts if len(p[1])] or [parts[0][1]],
+                          ignore_index=True)
+    _submergence(case, route, checks["flow [m^3/s]"].to_numpy(), list(checks["flow case"]),
+                 warns, methods, checks)
+    breakdown = pd.concat([_loss_breakdown(case, route, g, n) for g, n in sets],
+                          ignore_index=True)
     _velocity_checks(case, route, flows, flow_names, warns)
+    _siphon_check(case, route, warns)
 
     tick("net head and power")
     i_design = int(np.flatnonzero(np.isclose(flows, case.design_flow))[0])
@@ -244,6 +260,19 @@ def _pressure_checks(case, route, gl, flow_names, atm_head, vap_head, warns):
     return pd.DataFrame(rows), pd.DataFrame(stretch_rows, columns=stretch_cols)
 
 
+def _siphon_check(case, route, warns):
+    """Profile points above the minimum headwater make the pipe a siphon there."""
+    pipe = ~route.is_reservoir
+    above = route.elevation[pipe] > case.headwater_min
+    if above.any():
+        x = route.chainage[pipe][above]
+        warns.append(Warning_("route", f"the pipe rises above the minimum headwater level "
+                              f"({case.headwater_min:g} m) between {x.min():g} and {x.max():g} "
+                              "m: it runs as a siphon there, with sub-atmospheric pressure "
+                              "even at no flow, and needs priming and air release",
+                              chainage=float(x[0])))
+
+
 def _submergence(case, route, flows, flow_names, warns, methods, checks):
     d0 = route.intake_diameter
     v = flows / (np.pi * d0**2 / 4.0)
@@ -255,7 +284,7 @@ def _submergence(case, route, flows, flow_names, warns, methods, checks):
                 "approach), at the minimum headwater level",
                 "Gordon, J.L. (1970). Vortices at intakes. Water Power 22(4), 137–138")
     for q, name, s in zip(flows, flow_names, need):
-        if have < s:
+        if have < s and "after" not in name:
             warns.append(Warning_("intake", f"intake crown submergence {have:.2f} m at minimum "
                                   f"headwater is below the {s:.2f} m Gordon requires at the "
                                   f"{name}: vortices may draw air", chainage=route.chainage[0],

@@ -13,7 +13,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from . import fittings
+from . import fittings, friction
 
 #: Parameters a case gives for a loss beyond the fittings registry's own.
 EXTRA_PARAMETERS = {
@@ -85,10 +85,20 @@ class Route:
     roughness: np.ndarray
     k: np.ndarray
     reference_area: np.ndarray
+    element_segment: np.ndarray  # (n_element,) segment index of a reach, -1 for a local loss
     element_group: list        # (n_element,) breakdown component of each element
     group_kind: dict           # component -> "friction" or "local"
     intake_diameter: float
     intake_elevation: float
+
+    def aged_roughness(self, segments, years: float) -> np.ndarray:
+        """Element roughness after ``years`` of service (Colebrook & White linear growth)."""
+        out = self.roughness.copy()
+        for i, seg in enumerate(segments):
+            if seg.roughness_growth:
+                out[self.element_segment == i] = friction.aged_roughness(
+                    seg.roughness, years, seg.roughness_growth)
+        return out
 
 
 def build_route(case, warns=None, methods=None) -> Route:
@@ -129,11 +139,11 @@ def build_route(case, warns=None, methods=None) -> Route:
                for i in range(len(segs) - 1) if segs[i + 1].diameter != segs[i].diameter}
 
     nodes = [(xs[0], zs[0], math.inf, "reservoir", True)]
-    elems = []      # (length, diameter, roughness, k, reference area, group)
+    elems = []      # (length, diameter, roughness, k, reference area, group, segment)
     group_kind: dict[str, str] = {}
 
     def step(j, k, ref_area, name, new_area, diameter):
-        elems.append((0.0, diameter, 0.0, k, ref_area, name))
+        elems.append((0.0, diameter, 0.0, k, ref_area, name, -1))
         nodes.append((xs[j], zs[j], new_area, name, False))
         group_kind.setdefault(name, "local")
 
@@ -173,20 +183,21 @@ def build_route(case, warns=None, methods=None) -> Route:
             seg = segs[s]
             name = f"friction, pipe {s + 1} ({seg.start:g}–{seg.end:g} m, D {seg.diameter:g} m)"
             elems.append((math.hypot(xs[j + 1] - x, zs[j + 1] - zs[j]), seg.diameter,
-                          seg.roughness, 0.0, seg.area, name))
+                          seg.roughness, 0.0, seg.area, name, s))
             nodes.append((xs[j + 1], zs[j + 1], seg.area, "profile", False))
             group_kind.setdefault(name, "friction")
 
     x_n, z_n, a_n, lab_n, _ = nodes[-1]
     nodes[-1] = (x_n, z_n, a_n, "penstock end" if lab_n == "profile" else lab_n, False)
     nx, nz, na, nl, nr = zip(*nodes)
-    el, ed, er, ek, ea, eg = zip(*elems)
+    el, ed, er, ek, ea, eg, es = zip(*elems)
     first = downstream_segment(xs[0])
     return Route(
         chainage=np.array(nx), elevation=np.array(nz), node_area=np.array(na),
         node_label=np.array(nl, dtype=object), is_reservoir=np.array(nr),
         length=np.array(el), diameter=np.array(ed), roughness=np.array(er), k=np.array(ek),
-        reference_area=np.array(ea), element_group=list(eg), group_kind=group_kind,
+        reference_area=np.array(ea), element_segment=np.array(es), element_group=list(eg),
+        group_kind=group_kind,
         intake_diameter=segs[first].diameter, intake_elevation=float(zs[0]),
     )
 

@@ -82,6 +82,9 @@ SECTIONS: tuple[Section, ...] = (
               "crown at any steady flow.", default="2 m", minimum=0.0),
         Field("intake_approach", "choice", "Flow approach to the intake, for Gordon's "
               "submergence criterion.", default="symmetric", choices=("symmetric", "asymmetric")),
+        Field("service_life", "age", "Age at which the aged grade lines are drawn, for pipes "
+              "with a roughness_growth.", default="40 year", minimum=0.0,
+              exclusive_minimum=True, maximum=200.0),
     )),
     Section("pipe", "Pipe segments in series, from the intake down. One [[pipe]] table each.", (
         Field("from", "length", "Chainage where the segment starts."),
@@ -96,6 +99,10 @@ SECTIONS: tuple[Section, ...] = (
               choices=("new", "aged")),
         Field("wall_thickness", "length", "Wall thickness, for the wave speed.", optional=True,
               minimum=0.0, exclusive_minimum=True, maximum=0.5),
+        Field("roughness_growth", "roughness_growth", "Linear growth of the roughness with age "
+              "(Colebrook & White 1937); when given, grade lines after route.service_life "
+              "years are drawn too. Typical rates (Lamont 1981): 0.025 mm/year slight to "
+              "0.6 mm/year severe.", optional=True, minimum=0.0, maximum=0.005),
     ), array=True),
     Section("loss", "Local losses, each at a chainage. One [[loss]] table each; the keys "
             "beyond those listed here depend on the kind (see the README).", (

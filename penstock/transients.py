@@ -167,6 +167,8 @@ def _closure(time, law, closure_time, final_opening, knee_time, knee_opening, op
         valid = ", ".join(repr(k) for k in CLOSURE_LAWS)
         raise ValueError(f"law {law!r} is not known; choose one of: {valid}")
     t = _as_float_array(time, "time")
+    _require(np.isfinite(t) & (t >= 0.0), "time", "finite and >= 0 s (time since the start "
+             "of the closure)", time)
     tau, end = CLOSURE_LAWS[law](t, closure_time, final_opening, knee_time, knee_opening,
                                  opening_table)
     return np.asarray(tau, dtype=float), end
@@ -497,7 +499,7 @@ def simulate(lengths, diameters, wave_speeds, friction_factors, reservoir_head,
     chain_all = seg_chain[seg] + local * grid.reach_lengths[seg]
 
     # Time axis and valve law.
-    tau_probe, motion_end = _closure(np.zeros(1), law, closure_time, final_opening,
+    _, motion_end = _closure(np.zeros(1), law, closure_time, final_opening,
                                      knee_time, knee_opening, opening_table)
     if duration is None:
         duration = motion_end + 20.0 * float(np.sum(length / speed))

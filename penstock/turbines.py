@@ -41,6 +41,7 @@ __all__ = [
     "check_efficiency_table",
     "turbine_efficiency",
     "efficiency_function",
+    "scaled_efficiency_table",
     "dispatch",
 ]
 
@@ -430,6 +431,34 @@ def efficiency_function(turbine_type="francis", table=None, minimum_relative_flo
 
     efficiency.minimum_relative_flow = x_min
     return efficiency
+
+
+def scaled_efficiency_table(turbine_type, peak_efficiency):
+    """The type's part-load curve scaled so that its best efficiency is ``peak_efficiency``.
+
+    Parameters
+    ----------
+    turbine_type : str
+        Key of ``TURBINE_TYPES``. [-]
+    peak_efficiency : float
+        Best efficiency of the actual machine (manufacturer's figure), in (0, 1]. [-]
+
+    Returns
+    -------
+    table : numpy.ndarray of shape (n, 2)
+        Rows of (relative flow, efficiency) for ``table=`` arguments. [-]
+
+    Notes
+    -----
+    :math:`\\eta'(x) = \\eta(x) \\, \\eta'_{peak} / \\max \\eta`: the shape of the
+    typical curve is kept, its level set by the machine's peak efficiency.
+    """
+    peak = float(peak_efficiency)
+    if not 0.0 < peak <= 1.0:
+        raise ValueError(f"peak_efficiency: expected a fraction in (0, 1], got {peak}")
+    table = np.array(_turbine(turbine_type)["efficiency_table"], dtype=float)
+    table[:, 1] *= peak / table[:, 1].max()
+    return table
 
 
 # ---------------------------------------------------------------------------

@@ -29,13 +29,13 @@ DENSITY = WATER_20C.rho
     (180.0, 1.0, 0.0),   # a 180 deg "cone" is an abrupt (Borda-Carnot) enlargement
 ])
 def test_gibson_curve_landmarks(angle, expected, tolerance):
-    assert dt.diffuser_loss_coefficient_gibson(angle) == pytest.approx(expected,
+    assert dt.diffuser_loss_coefficient_gibson(np.radians(angle)) == pytest.approx(expected,
                                                                        abs=tolerance + 1e-12)
 
 
 def test_gibson_wide_cones_worse_than_abrupt():
     # Gibson (1910): between about 50 and 90 deg a cone loses more than an abrupt enlargement.
-    assert np.all(dt.diffuser_loss_coefficient_gibson(np.array([55.0, 60.0, 75.0])) > 1.0)
+    assert np.all(dt.diffuser_loss_coefficient_gibson(np.radians([55.0, 60.0, 75.0])) > 1.0)
 
 
 @pytest.mark.parametrize("angle", [15.0, 20.0, 30.0, 40.0, 45.0])
@@ -45,11 +45,12 @@ def test_gibson_vs_crane_formula_in_fluids(angle):
     # Both come from Gibson's tests; +-0.07 covers reading his curve from memory.
     beta = 0.6
     k_crane = diffuser_conical(beta, 1.0, angle=angle, method="Crane") / (1 - beta ** 2) ** 2
-    assert dt.diffuser_loss_coefficient_gibson(angle) == pytest.approx(k_crane, abs=0.07)
+    k = dt.diffuser_loss_coefficient_gibson(np.radians(angle))
+    assert k == pytest.approx(k_crane, abs=0.07)
 
 
 def test_recovery_plus_draft_tube_loss_is_abrupt_exit_loss():
-    flow, d1, ratio, angle = 3.0, 1.0, 2.5, 8.0
+    flow, d1, ratio, angle = 3.0, 1.0, 2.5, np.radians(8.0)
     v1 = flow / (np.pi * d1 ** 2 / 4)
     v2 = v1 / ratio
     recovered = dt.velocity_head_recovery(flow, d1, ratio, angle)
@@ -62,17 +63,18 @@ def test_recovery_plus_draft_tube_loss_is_abrupt_exit_loss():
 
 def test_recovery_array_equals_loop_and_keeps_series():
     flows = pd.Series([0.0, 1.0, 2.5, 4.0], index=pd.date_range("2001", periods=4, freq="h"))
-    out = dt.velocity_head_recovery(flows, 1.2, 3.0, 7.0)
+    out = dt.velocity_head_recovery(flows, 1.2, 3.0, np.radians(7.0))
     assert isinstance(out, pd.Series) and out.iloc[0] == 0.0
     np.testing.assert_array_equal(out.to_numpy(),
-                                  [dt.velocity_head_recovery(q, 1.2, 3.0, 7.0) for q in flows])
+                                  [dt.velocity_head_recovery(q, 1.2, 3.0, np.radians(7.0))
+                                   for q in flows])
 
 
 @pytest.mark.parametrize("angle, ratio, match", [(2.0, 2.0, "cone_angle"),
                                                  (8.0, 0.9, "area_ratio")])
 def test_diffuser_bad_input(angle, ratio, match):
     with pytest.raises(ValueError, match=match):
-        dt.diffuser_efficiency_gibson(angle, ratio)
+        dt.diffuser_efficiency_gibson(np.radians(angle), ratio)
 
 
 # --- Thoma -----------------------------------------------------------------------------------

@@ -198,3 +198,9 @@ def test_design_flow_study_given_flows_constant_river():
     assert study.capacity_factor.iloc[0] == pytest.approx(1.0, rel=1e-12)
     assert study.mean_annual_energy.iloc[0] == pytest.approx(
         study.installed_capacity.iloc[0] * HOURS_PER_YEAR * SECONDS_PER_HOUR, rel=1e-12)
+
+
+def test_design_flow_study_needs_callable_head_loss():
+    with pytest.raises(ValueError, match="head_loss: expected a callable"):
+        en.design_flow_study(YEAR_2001, np.ones(len(YEAR_2001)), 50.0, density=DENSITY,
+                             head_loss=np.zeros(len(YEAR_2001)))

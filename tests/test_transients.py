@@ -135,7 +135,8 @@ def test_series_junction_transmission_coefficient():
 
 def test_mass_balance_with_junctions():
     # Volume entering minus volume leaving equals the water stored by compressibility and
-    # wall stretch, (g A / a^2) dH per metre (Wylie & Streeter 1993 ch. 2 continuity); 1 %.
+    # wall stretch, (g A / a^2) dH per metre (Wylie & Streeter 1993 ch. 2 continuity); 0.2 %
+    # of the largest net inflow (trapezoid rules in space and time).
     kw = dict(**SERIES, reservoir_head=250.0, tailwater_head=0.0, flow=3.0,
               closure_time=3.0, min_reaches=10, duration=3.0)
     probe = tr.simulate(**kw)
@@ -156,7 +157,7 @@ def test_mass_balance_with_junctions():
         0.5 * (res.inlet_flow[1:] + res.inlet_flow[:-1] - res.valve_flow[1:]
                - res.valve_flow[:-1]) * res.time_step)))
     scale = np.abs(net_in).max()
-    np.testing.assert_allclose(stored, net_in, rtol=0, atol=0.01 * scale)
+    np.testing.assert_allclose(stored, net_in, rtol=0, atol=0.002 * scale)
 
 
 def test_convergence_under_reach_refinement():
@@ -172,6 +173,21 @@ def test_convergence_under_reach_refinement():
     diffs = np.abs(np.diff(peaks))
     assert np.all(diffs[1:] < diffs[:-1])
     assert peaks[-1] == pytest.approx(peaks[-2], rel=1e-3)
+
+
+def test_partial_closure_reverse_flow_follows_mirrored_orifice_law():
+    # Where the valve head falls below tailwater the flow reverses through the opening:
+    # Q = -Q0 tau sqrt((Htw - H)/H0) (orifice law, Parmakian 1955), else Q = Q0 tau sqrt(...).
+    flow, head = 3.0, 30.0
+    # Close in 0.05 s, reopen to 30 % while the first down-surge (t = 2..4 s) holds the
+    # valve head far below tailwater.
+    table = ([0.0, 0.05, 2.5, 2.55, 10.0], [1.0, 0.0, 0.0, 0.3, 0.3])
+    res = single(flow, head=head, friction=0.01, law="table", opening_table=table)
+    net0 = res.steady_head[-1]
+    expected = flow * res.valve_opening * np.sign(res.valve_head) * np.sqrt(
+        np.abs(res.valve_head) / net0)
+    assert res.valve_flow.min() < 0.0
+    np.testing.assert_allclose(res.valve_flow, expected, rtol=1e-9, atol=1e-12)
 
 
 # --------------------------------------------------------------------------- grid

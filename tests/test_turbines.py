@@ -170,3 +170,13 @@ def test_dispatch_array_equals_loop_of_scalars():
 def test_dispatch_rejects_flow_above_plant_capacity():
     with pytest.raises(ValueError, match="exceeds the plant's rated flow"):
         tu.dispatch(np.array([7.0]), 2, 3.0, tu.efficiency_function("kaplan"), 50.0, DENSITY)
+
+
+def test_scaled_efficiency_table_keeps_shape():
+    table = tu.scaled_efficiency_table("francis", 0.94)
+    base = np.array(tu.TURBINE_TYPES["francis"]["efficiency_table"])
+    # hand calculation: every efficiency times 0.94 / 0.925 (the curve's peak)
+    np.testing.assert_allclose(table[:, 1], base[:, 1] * 0.94 / 0.925, rtol=1e-12)
+    assert tu.turbine_efficiency(0.9, "francis", table=table) == pytest.approx(0.94)
+    with pytest.raises(ValueError, match="peak_efficiency"):
+        tu.scaled_efficiency_table("francis", 1.1)
