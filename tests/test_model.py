@@ -1,0 +1,171 @@
+"""The orchestrator on the demo cases: energy bookkeeping, steps, checks and cautions.
+
+References: the energy equation with head losses (any hydraulics handbook, e.g. Streeter,
+Wylie & Bedford, Fluid Mechanics, 9th ed., 1998, ch. 5, from memory); loss coefficients from
+Crane TP-410 (2009) as implemented in penstock.fittings and tested in test_fittings.py;
+the usual 2–6 m/s penstock velocity range is common practice.
+"""
+
+import math
+import shutil
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+import penstock
+from penstock import fittings, water
+from penstock.constants import GRAVITY
+
+CASES = Path(__file__).resolve().parents[1] / "cases"
+DEMOS = sorted(p.name for p in CASES.iterdir() if (p / "site.toml").is_file())
+
+
+@pytest.fixture(scope="module", params=DEMOS)
+def demo(request):
+    case = penstock.load_case(CASES / request.param)
+    return case, penstock.run_case(case)
+
+
+def copy_case(tmp_path, name="alder-gorge-high-head", edit=None, profile=None):
+    dst = tmp_path / name
+    shutil.copytree(CASES / name, dst)
+    if edit:
+        text = (dst / "site.toml").read_text()
+        for old, new in edit:
+            assert old in text, old
+            text = text.replace(old, new)
+        (dst / "site.toml").write_text(text)
+    if profile is not None:
+        (dst / "profile.csv").write_text(profile)
+    return dst
+
+
+def test_breakdown_total_equals_energy_line_drop(demo):
+    case, r = demo
+    gl = r.grade_lines
+    lb = r.loss_breakdown
+    for name, part in gl.groupby("flow case"):
+        drop = case.headwater - part["energy grade line [m]"].iloc[-1]
+        total = lb[(lb["flow case"] == name) & (lb["component"] == "total")]["head loss [m]"]
+        assert float(total.iloc[0]) == pytest.approx(drop, rel=1e-12)
+        parts = lb[(lb["flow case"] == name) & (lb["component"] != "total")]["head loss [m]"]
+        assert parts.sum() == pytest.approx(drop, rel=1e-12)
+        # shares are of the gross head
+        share = lb[(lb["flow case"] == name) & (lb["component"] == "total")][
+            "share of gross head [%]"].iloc[0]
+        assert share == pytest.approx(100 * drop / (case.headwater - case.tailwater), rel=1e-12)
+
+
+def test_net_head_is_gross_minus_losses(demo):
+    case, r = demo
+    h = r.headline
+    assert h["net_head"] == pytest.approx(case.headwater - case.tailwater - h["total_loss"],
+                                          rel=1e-12)
+    # P = ρ g Q Hn η (hand formula)
+    t = case.turbine
+    rho = water.density(case.temperature)
+    eta = t["peak_efficiency"] * t["generator_efficiency"] * t["transformer_efficiency"]
+    assert h["design_power"] == pytest.approx(rho * GRAVITY * case.design_flow * h["net_head"]
+                                              * eta, rel=1e-12)
+
+
+def test_local_losses_are_drawn_as_steps(demo):
+    case, r = demo
+    gl = r.grade_lines
+    part = gl[gl["flow case"] == "design flow"].reset_index(drop=True)
+    for loss in case.losses:
+        rows = part.index[part["point"] == loss.label]
+        assert len(rows) == 1, loss.label
+        i = rows[0]
+        # the step sits at one chainage: the node before it has the same chainage
+        assert part.loc[i - 1, "chainage [m]"] == part.loc[i, "chainage [m]"]
+        assert part.loc[i, "energy grade line [m]"] < part.loc[i - 1, "energy grade line [m]"]
+
+
+def test_bellmouth_entrance_step_matches_crane():
+    # Crane TP-410 (2009), A-30: well-rounded (bell-mouth) entrance K = 0.04 (via fittings)
+    case = penstock.load_case(CASES / "alder-gorge-high-head")
+    r = penstock.run_case(case)
+    part = r.grade_lines[r.grade_lines["flow case"] == "design flow"].reset_index(drop=True)
+    i = part.index[part["point"] == "entrance at 0 m"][0]
+    d = case.segments[0].diameter
+    hv = (case.design_flow / (math.pi * d**2 / 4)) ** 2 / (2 * GRAVITY)
+    step = part.loc[i - 1, "energy grade line [m]"] - part.loc[i, "energy grade line [m]"]
+    assert step == pytest.approx(fittings.entrance("bellmouth") * hv, rel=1e-12)
+    assert fittings.entrance("bellmouth") == pytest.approx(0.04)
+
+
+def test_high_point_is_flagged_at_maximum_flow():
+    case = penstock.load_case(CASES / "alder-gorge-high-head")
+    r = penstock.run_case(case)
+    st = r.stretches[r.stretches["flow case"] == "maximum plant flow"]
+    assert len(st) == 1
+    assert st["from chainage [m]"].iloc[0] < 1250 < st["to chainage [m]"].iloc[0]
+    assert any("1250.0 m" in m for m in r.warnings["message"])
+    # the aged pipe (roughness growth given) is worse than the new one
+    aged = r.pressure_checks.set_index("flow case")["minimum pressure head [m]"]
+    assert aged["design flow, after 40 years"] < aged["design flow"]
+
+
+def test_siphon_and_vapour_pressure_are_flagged(tmp_path):
+    # a hump 9.8 m above the headwater: absolute pressure there falls to vapour pressure
+    profile = ("chainage [m],elevation [m]\n0,1405\n600,1404\n1250,1421.8\n1600,1396\n"
+               "3100,1083\n")
+    folder = copy_case(tmp_path, profile=profile)
+    r = penstock.run_case(penstock.load_case(folder))
+    text = " ".join(r.warnings["message"])
+    assert "siphon" in text
+    assert "vapour pressure" in text
+    checks = set(r.stretches["check"])
+    assert {"sub-atmospheric", "vapour pressure"} <= checks
+
+
+def test_velocity_outside_usual_range_is_a_caution(tmp_path):
+    folder = copy_case(tmp_path, edit=[('diameter = "1.2 m"', 'diameter = "2.0 m"')])
+    r = penstock.run_case(penstock.load_case(folder))
+    msgs = r.warnings[r.warnings["topic"] == "velocity"]["message"]
+    assert any("pipe 1" in m and "0.76 m/s" in m for m in msgs)
+
+
+def test_no_entrance_given_is_noted(tmp_path):
+    folder = copy_case(tmp_path, "millrace-flats-low-head")
+    text = (folder / "site.toml").read_text()
+    start, end = text.index("[[loss]]"), text.index('[[loss]]\nkind = "bend"')
+    (folder / "site.toml").write_text(text[:start] + text[end:])
+    r = penstock.run_case(penstock.load_case(folder))
+    notes = r.warnings[r.warnings["severity"] == "note"]["message"]
+    assert any("no entrance or trashrack loss" in m for m in notes)
+    assert "entrance (none given)" in set(r.loss_breakdown["component"])
+
+
+def test_diameter_change_without_transition_gets_assumed_cone():
+    case = penstock.load_case(CASES / "alder-gorge-high-head")
+    r = penstock.run_case(case)
+    comps = set(r.loss_breakdown["component"])
+    assert any(c.startswith("contraction at 1600 m (assumed") for c in comps)
+    # Crane TP-410 (2009) formula for a 15° conical contraction, via fittings
+    k = fittings.contraction_gradual(1.2, 1.0, math.radians(15))
+    assert any(f"K = {k:.3f}" in m for m in r.warnings["message"])
+
+
+def test_results_tables_have_units_and_no_python_reprs(demo):
+    _, r = demo
+    for name, df in r.tables().items():
+        for col in df.columns:
+            assert "nan" not in str(col).lower() and "none" != str(col).lower()
+        text = [str(t) for t in df.to_numpy().ravel()]
+        assert not any(t.startswith("array(") for t in text), name
+        numeric = df.select_dtypes("number")
+        for col in numeric.columns:
+            assert "[" in col, f"{name}: numeric column {col!r} has no unit"
+
+
+def test_min_pressure_matches_grade_table(demo):
+    _, r = demo
+    gl = r.grade_lines
+    for _, row in r.pressure_checks.iterrows():
+        part = gl[(gl["flow case"] == row["flow case"]) & (gl["point"] != "reservoir")]
+        assert row["minimum pressure head [m]"] == pytest.approx(part["pressure head [m]"].min())
+        assert np.isclose(row["at chainage [m]"],
+                          part.loc[part["pressure head [m]"].idxmin(), "chainage [m]"])
