@@ -78,6 +78,8 @@ class Case:
     headwater_min: float
     tailwater: float | None
     tailwater_rating: pd.DataFrame | None
+    headwater_rating: pd.DataFrame | None
+    headwater_series: pd.Series | None
     profile: pd.DataFrame          # columns: chainage, elevation (+ ground)
     pressure_margin: float
     intake_approach: str
@@ -91,7 +93,11 @@ class Case:
     extra_flows: list[float]
     residual_flow: float
     gap_method: str
+    residual_monthly: list[float]
+    residual_percent: float
+    firm_exceedance: float
     turbine: dict
+    draft_tube: dict | None
     economics: dict
     surge: dict
     echo: list[dict] = field(default_factory=list)
@@ -100,6 +106,16 @@ class Case:
     def slug(self) -> str:
         """File-system name of the case (its folder name)."""
         return self.folder.name
+
+    def headwater_at(self, river_flow, index=None):
+        """Headwater level at each step [m]: series, rating at the river flow, or constant."""
+        q = np.asarray(river_flow, dtype=float)
+        if self.headwater_series is not None:
+            return self.headwater_series.reindex(index).to_numpy(dtype=float)
+        if self.headwater_rating is not None:
+            r = self.headwater_rating
+            return np.interp(q, r["flow"].to_numpy(), r["level"].to_numpy())
+        return np.full_like(q, self.headwater, dtype=float)
 
     def tailwater_at(self, river_flow):
         """Tailwater level for a river flow [m]; constant when no rating is given."""
@@ -133,6 +149,12 @@ class _Reader:
         self.folder = folder
         self.file = CASE_FILE
         self.echo: list[dict] = []
+        self.lines: dict[str, list[int]] = {}
+
+    def line(self, name: str, row: int) -> int:
+        """The file's line number of data row ``row`` (0-based) of a CSV read by :meth:`table`."""
+        lines = self.lines.get(name)
+        return lines[row] if lines and row < len(lines) else row + 2
 
     # ---------------------------------------------------------------- scalar fields
     def value(self, section: str, table: dict, f: Field, where: str):
@@ -256,6 +278,11 @@ class _Reader:
             raise CaseError(name, "", f"cannot be read as CSV ({str(exc).splitlines()[0]})")
         if raw.empty:
             raise CaseError(name, "", "has a header but no data rows")
+        # line numbers of the data rows as an editor shows them (comments and blanks skipped)
+        with path.open(encoding="utf-8", errors="replace") as fh:
+            kept = [i for i, text in enumerate(fh, start=1)
+                    if text.strip() and not text.lstrip().startswith("#")]
+        self.lines[name] = kept[1:]
         headers = {}
         for col in raw.columns:
             m = _HEADER.match(str(col))
@@ -288,12 +315,13 @@ class _Reader:
         bad = values.isna()
         if bad.any():
             row = int(np.flatnonzero(bad.to_numpy())[0])
-            raise CaseError(name, f"row {row + 2}, column '{col}'",
+            raise CaseError(name, f"row {self.line(name, row)}, column '{col}'",
                             f"{series.iloc[row]!r} is not a number")
         arr = values.to_numpy(dtype=float)
         if not np.all(np.isfinite(arr)):
             row = int(np.flatnonzero(~np.isfinite(arr))[0])
-            raise CaseError(name, f"row {row + 2}, column '{col}'", "is not a finite number")
+            raise CaseError(name, f"row {self.line(name, row)}, column '{col}'",
+                            "is not a finite number")
         si = units.SI_UNITS[kind]
         if si == "":
             if unit not in _DIMENSIONLESS_UNITS:
@@ -311,7 +339,7 @@ class _Reader:
         bad = parsed.isna()
         if bad.any():
             row = int(np.flatnonzero(bad.to_numpy())[0])
-            raise CaseError(name, f"row {row + 2}, column '{col}'",
+            raise CaseError(name, f"row {self.line(name, row)}, column '{col}'",
                             f"{series.iloc[row]!r} is not a date; expected ISO form "
                             "YYYY-MM-DD or YYYY-MM-DD HH:MM")
         return pd.DatetimeIndex(parsed)
@@ -379,6 +407,9 @@ def load_case(path) -> Case:
         if table is None:
             if sec.required:
                 raise CaseError(CASE_FILE, f"[{sec.name}]", "section is missing")
+            if any(f.required for f in sec.fields):
+                values[sec.name] = None   # an optional section with required keys: absent
+                continue
             table = {}
         if not isinstance(table, dict):
             raise CaseError(CASE_FILE, f"[{sec.name}]", "must be a table ([name]), not a list "
@@ -400,7 +431,7 @@ def load_case(path) -> Case:
     steps = np.diff(ch)
     if np.any(steps <= 0):
         row = int(np.flatnonzero(steps <= 0)[0]) + 1
-        raise CaseError(pname, f"row {row + 2}, column 'chainage'",
+        raise CaseError(pname, f"row {rd.line(pname, row)}, column 'chainage'",
                         f"chainage {ch[row]:g} m does not increase from {ch[row - 1]:g} m; "
                         "expected strictly increasing chainage")
     rd.echo.append({"section": "route", "key": "route.profile", "as written": pname,
@@ -418,35 +449,16 @@ def load_case(path) -> Case:
     if hw_min > hw:
         raise CaseError(CASE_FILE, "levels.headwater_min", f"{hw_min:g} m is above the "
                         f"headwater level {hw:g} m; expected at most the normal level")
-    rating = None
-    if levels["tailwater_rating"] is not None:
-        rating = rd.table(levels["tailwater_rating"],
-                          SECTIONS_BY_NAME["levels"].fields_by_name["tailwater_rating"].columns)
-        rname = levels["tailwater_rating"].name
-        if np.any(rating["flow"].to_numpy() < 0):
-            row = int(np.flatnonzero(rating["flow"].to_numpy() < 0)[0])
-            raise CaseError(rname, f"row {row + 2}, column 'flow'", "flow is negative")
-        for col in ("flow", "level"):
-            d = np.diff(rating[col].to_numpy())
-            if np.any(d <= 0):
-                row = int(np.flatnonzero(d <= 0)[0]) + 1
-                raise CaseError(rname, f"row {row + 2}, column '{col}'",
-                                f"{col} does not increase; expected a monotone rating "
-                                "(level rising with flow)")
-        rd.echo.append({"section": "levels", "key": "levels.tailwater_rating",
-                        "as written": rname, "value (SI)": f"{len(rating)} points",
-                        "SI unit": "m^3/s, m", "source": rname})
-    elif levels["tailwater"] is None:
+    rating = _rating(rd, levels["tailwater_rating"], "tailwater") \
+        if levels["tailwater_rating"] is not None else None
+    if rating is None and levels["tailwater"] is None:
         raise CaseError(CASE_FILE, "levels.tailwater", "is missing; expected a tailwater "
                         "level, e.g. \"1180 m\", or a tailwater_rating file")
-    tw_ref = levels["tailwater"] if levels["tailwater"] is not None else float(
-        rating["level"].iloc[0])
-    tw_top = tw_ref if rating is None else max(tw_ref, float(rating["level"].max()))
-    if tw_top >= hw_min:
-        raise CaseError(CASE_FILE, "levels", f"tailwater {tw_top:g} m is not below the "
-                        f"headwater {hw_min:g} m; expected headwater above tailwater")
-    if levels["tailwater"] is None:
-        levels["tailwater"] = tw_ref
+    hw_rating = _rating(rd, levels["headwater_rating"], "headwater") \
+        if levels["headwater_rating"] is not None else None
+    if hw_rating is not None and levels["headwater_series"] is not None:
+        raise CaseError(CASE_FILE, "levels.headwater_series", "is given together with "
+                        "headwater_rating; expected one of the two")
 
     # ---- flows
     q_design = flows["design"]
@@ -459,19 +471,59 @@ def load_case(path) -> Case:
         raise CaseError(CASE_FILE, "flows.minimum", f"{q_min:g} m^3/s is not below the design "
                         f"flow {q_design:g} m^3/s")
     record = None
+    if flows["record"] is not None and flows["duration_table"] is not None:
+        raise CaseError(CASE_FILE, "flows.duration_table", "is given together with "
+                        "flows.record; expected one of the two")
     if flows["record"] is not None:
         record = _flow_record(rd, flows["record"], flows["gaps"])
+    elif flows["duration_table"] is not None:
+        record = _duration_record(rd, flows["duration_table"])
+    else:
+        raise CaseError(CASE_FILE, "flows.record", "is missing; expected a flow record CSV "
+                        "(or a flows.duration_table)")
+    hw_series = None
+    if levels["headwater_series"] is not None:
+        hw_series = _level_series(rd, levels["headwater_series"], record.index)
+    if flows["residual_monthly"] and len(flows["residual_monthly"]) != 12:
+        raise CaseError(CASE_FILE, "flows.residual_monthly", f"has "
+                        f"{len(flows['residual_monthly'])} values; expected 12, January to "
+                        "December")
+    if levels["tailwater"] is None:
+        # the reference tailwater of the steady study is the rating at the design flow
+        levels["tailwater"] = float(np.interp(q_design + flows["residual"],
+                                              rating["flow"], rating["level"]))
+    tw_top = levels["tailwater"] if rating is None else max(
+        levels["tailwater"], float(np.interp(float(record.max()), rating["flow"],
+                                             rating["level"])))
+    if tw_top >= hw_min:
+        raise CaseError(CASE_FILE, "levels", f"tailwater {tw_top:g} m is not below the "
+                        f"headwater {hw_min:g} m; expected headwater above tailwater")
+    turbine = dict(turbine)
+    if turbine["efficiency_table"] is not None:
+        from .turbines import TURBINE_TYPES
+
+        minimum = (q_min * turbine["units"] / q_design if q_min is not None
+                   else TURBINE_TYPES[turbine["type"]]["minimum_relative_flow"])
+        turbine["efficiency_table"] = _efficiency_table(rd, turbine["efficiency_table"], minimum)
+    draft = values.get("draft_tube")
+    if draft is not None and turbine["type"] in ("pelton", "turgo", "crossflow"):
+        raise CaseError(CASE_FILE, "[draft_tube]", f"is given for an impulse turbine "
+                        f"({turbine['type']}); expected a draft tube only for francis, kaplan "
+                        "or propeller units")
 
     return Case(
         folder=folder, name=site["name"], note=site["note"], unit_system=site["units"],
         temperature=water["temperature"], altitude=water["altitude"],
         headwater=hw, headwater_min=hw_min, tailwater=levels["tailwater"],
-        tailwater_rating=rating, profile=profile, pressure_margin=route["pressure_margin"],
+        tailwater_rating=rating, headwater_rating=hw_rating, headwater_series=hw_series,
+        profile=profile, pressure_margin=route["pressure_margin"],
         intake_approach=route["intake_approach"], service_life=route["service_life"],
         segments=segments, losses=losses,
         flow_record=record, design_flow=q_design, maximum_flow=q_max, minimum_flow=q_min,
         extra_flows=list(flows["extra"]), residual_flow=flows["residual"],
-        gap_method=flows["gaps"], turbine=turbine, economics=values["economics"],
+        gap_method=flows["gaps"], residual_monthly=list(flows["residual_monthly"]),
+        residual_percent=flows["residual_percent"], firm_exceedance=flows["firm_exceedance"],
+        turbine=turbine, draft_tube=draft, economics=values["economics"],
         surge=values["surge"], echo=rd.echo,
     )
 
@@ -576,18 +628,18 @@ def _flow_record(rd: _Reader, path: Path, gap_method: str) -> pd.Series:
     neg = q < 0
     if neg.any():
         row = int(np.flatnonzero(neg)[0])
-        raise CaseError(fname, f"row {row + 2}, column 'flow'", f"flow {q[row]:g} m^3/s on "
+        raise CaseError(fname, f"row {rd.line(fname, row)}, column 'flow'", f"flow {q[row]:g} m^3/s on "
                         f"{idx[row]:%Y-%m-%d %H:%M} is negative; expected a flow of zero or more")
     dup = idx.duplicated()
     if dup.any():
         row = int(np.flatnonzero(dup)[0])
-        raise CaseError(fname, f"row {row + 2}, column 'date'", f"date {idx[row]} appears "
+        raise CaseError(fname, f"row {rd.line(fname, row)}, column 'date'", f"date {idx[row]} appears "
                         "twice; expected each date once")
     ns = idx.values.astype("datetime64[ns]").astype(np.int64)
     back = np.diff(ns) <= 0
     if back.any():
         row = int(np.flatnonzero(back)[0]) + 1
-        raise CaseError(fname, f"row {row + 2}, column 'date'", f"date {idx[row]} comes before "
+        raise CaseError(fname, f"row {rd.line(fname, row)}, column 'date'", f"date {idx[row]} comes before "
                         f"{idx[row - 1]}; expected dates in order")
     if len(idx) < 2:
         raise CaseError(fname, "", "needs at least two dated flows")
@@ -614,3 +666,105 @@ def _flow_record(rd: _Reader, path: Path, gap_method: str) -> pd.Series:
                     "SI unit": "m^3/s", "source": fname})
     series.attrs["step_hours"] = step / pd.Timedelta(hours=1)
     return series
+
+
+def _rating(rd: _Reader, path: Path, what: str) -> pd.DataFrame:
+    """A level–flow rating: both columns strictly increasing, flows not negative."""
+    cols = (("flow", "flow"), ("level", "length"))
+    rating = rd.table(path, cols)
+    name = path.name
+    q = rating["flow"].to_numpy()
+    if np.any(q < 0):
+        row = int(np.flatnonzero(q < 0)[0])
+        raise CaseError(name, f"row {rd.line(name, row)}, column 'flow'", "flow is negative; expected "
+                        "zero or more")
+    for col in ("flow", "level"):
+        d = np.diff(rating[col].to_numpy())
+        if np.any(d <= 0):
+            row = int(np.flatnonzero(d <= 0)[0]) + 1
+            raise CaseError(name, f"row {rd.line(name, row)}, column '{col}'",
+                            f"{col} does not increase; expected a monotone {what} rating "
+                            "(level rising with flow)")
+    rd.echo.append({"section": "levels", "key": f"levels.{what}_rating", "as written": name,
+                    "value (SI)": f"{len(rating)} points, {q[0]:g} to {q[-1]:g} m^3/s",
+                    "SI unit": "m^3/s, m", "source": name})
+    return rating
+
+
+def _duration_record(rd: _Reader, path: Path) -> pd.Series:
+    """A representative hourly year built from a flow-duration table."""
+    from . import hydrology
+
+    df = rd.table(path, (("exceedance", "fraction"), ("flow", "flow")))
+    name = path.name
+    p, q = df["exceedance"].to_numpy(), df["flow"].to_numpy()
+    bad = (p < 0) | (p > 1)
+    if bad.any():
+        row = int(np.flatnonzero(bad)[0])
+        raise CaseError(name, f"row {rd.line(name, row)}, column 'exceedance'", "exceedance is outside "
+                        "0 to 100 %")
+    if np.any(np.diff(p) <= 0):
+        row = int(np.flatnonzero(np.diff(p) <= 0)[0]) + 1
+        raise CaseError(name, f"row {rd.line(name, row)}, column 'exceedance'", "exceedance does not "
+                        "increase; expected rows in rising exceedance")
+    if np.any(np.diff(q) > 0) or np.any(q < 0):
+        row = int(np.flatnonzero((np.diff(q) > 0) | (q[1:] < 0))[0]) + 1
+        raise CaseError(name, f"row {rd.line(name, row)}, column 'flow'", "flow rises with exceedance or "
+                        "is negative; expected flows falling as exceedance rises")
+    try:
+        series = hydrology.duration_table_to_series(100 * p, q)
+    except ValueError as exc:
+        raise CaseError(name, "", str(exc)) from None
+    series.name = "flow"
+    series.attrs["from_duration_table"] = True
+    rd.echo.append({"section": "flows", "key": "flows.duration_table", "as written": name,
+                    "value (SI)": f"{len(df)} points, turned into a representative hourly year",
+                    "SI unit": "m^3/s", "source": name})
+    return series
+
+
+def _level_series(rd: _Reader, path: Path, index: pd.DatetimeIndex) -> pd.Series:
+    df = rd.table(path, (("date", "date"), ("level", "length")))
+    series = pd.Series(df["level"].to_numpy(), index=pd.DatetimeIndex(df["date"]))
+    if series.index.duplicated().any():
+        row = int(np.flatnonzero(series.index.duplicated())[0])
+        raise CaseError(path.name, f"row {rd.line(path.name, row)}, column 'date'", "date appears twice")
+    missing = index.difference(series.index)
+    if len(missing):
+        raise CaseError(path.name, "column 'date'", f"has no level for {len(missing)} dates of "
+                        f"the flow record, the first {missing[0]}; expected a level for every "
+                        "date of the record")
+    rd.echo.append({"section": "levels", "key": "levels.headwater_series",
+                    "as written": path.name, "value (SI)": f"{len(series)} levels",
+                    "SI unit": "m", "source": path.name})
+    return series.reindex(index)
+
+
+def _efficiency_table(rd: _Reader, path: Path, minimum_relative_flow=None) -> np.ndarray:
+    df = rd.table(path, (("relative flow", "dimensionless"), ("efficiency", "dimensionless")))
+    name = path.name
+    x, e = df["relative flow"].to_numpy(), df["efficiency"].to_numpy()
+    bad = ~((e > 0) & (e <= 1))
+    if bad.any():
+        row = int(np.flatnonzero(bad)[0])
+        raise CaseError(name, f"row {rd.line(name, row)}, column 'efficiency'", f"efficiency {e[row]:g} "
+                        "is outside (0, 1]; expected e.g. 0.91 or 91 %")
+    if np.any(np.diff(x) <= 0) or np.any(x <= 0):
+        row = int(np.flatnonzero(np.concatenate([[x[0] <= 0], np.diff(x) <= 0]))[0])
+        raise CaseError(name, f"row {rd.line(name, row)}, column 'relative flow'", "relative flow must be "
+                        "positive and increasing")
+    if x[-1] < 1.0 - 1e-9:
+        raise CaseError(name, "column 'relative flow'", f"ends at {x[-1]:g}; expected the "
+                        "table to reach 1 (the unit's design flow)")
+    table = np.column_stack([x, e])
+    if minimum_relative_flow is not None:
+        from . import turbines
+
+        try:
+            turbines.check_efficiency_table(table, minimum_relative_flow)
+        except ValueError as exc:
+            raise CaseError(name, "column 'relative flow'", f"{exc}") from None
+    rd.echo.append({"section": "turbine", "key": "turbine.efficiency_table", "as written": name,
+                    "value (SI)": f"{len(df)} points, best {e.max():.3f}", "SI unit": "-",
+                    "source": name})
+    return table

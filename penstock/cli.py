@@ -87,7 +87,8 @@ def cmd_run(args) -> int:
     system = args.units or case.unit_system
     head = convert_value(h["net_head"], "m", system)
     _say(args.quiet, f"{case.name}: net head {head:.2f} {report_unit('m', system)} at the "
-         f"design flow, {h['design_power'] / 1e3:,.0f} kW; {n_warn} "
+         f"design flow, {h['installed_capacity'] / 1e3:,.0f} kW installed, "
+         f"{h['mean_annual_energy'] / 3.6e9:,.0f} MWh a year; {n_warn} "
          f"warning{'s' if n_warn != 1 else ''} (see the Cautions sheet)")
     _say(args.quiet, f"wrote {written['workbook']} and {len(written['files'])} files in "
          f"{written['folder']}/")

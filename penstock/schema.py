@@ -73,6 +73,12 @@ SECTIONS: tuple[Section, ...] = (
               "used for the grade lines.", optional=True),
         Field("tailwater_rating", "file", "CSV of tailwater level against river flow.",
               optional=True, columns=(("flow", "flow"), ("level", "length"))),
+        Field("headwater_rating", "file", "CSV of headwater level against river flow (e.g. "
+              "over a weir crest); replaces the constant headwater in the energy "
+              "computation.", optional=True, columns=(("flow", "flow"), ("level", "length"))),
+        Field("headwater_series", "file", "CSV of headwater level by date, on the flow "
+              "record's dates; replaces the constant headwater in the energy computation.",
+              optional=True, columns=(("date", "date"), ("level", "length"))),
     )),
     Section("route", "The penstock route.", (
         Field("profile", "file", "CSV of the pipe centreline: chainage (horizontal distance from "
@@ -116,6 +122,9 @@ SECTIONS: tuple[Section, ...] = (
     Section("flows", "Plant flows and the river's flow record.", (
         Field("record", "file", "CSV of the river flow record: date (daily or hourly) and flow.",
               optional=True, columns=(("date", "date"), ("flow", "flow"))),
+        Field("duration_table", "file", "CSV flow-duration table (exceedance, flow), used "
+              "when no dated record exists; it is turned into a representative hourly year.",
+              optional=True, columns=(("exceedance", "fraction"), ("flow", "flow"))),
         Field("design", "flow", "Design (rated) plant flow.", minimum=0.0,
               exclusive_minimum=True),
         Field("maximum", "flow", "Maximum plant flow; defaults to the design flow.",
@@ -125,6 +134,14 @@ SECTIONS: tuple[Section, ...] = (
         Field("extra", "flow_list", "Further flows at which to draw grade lines.", default=[]),
         Field("residual", "flow", "Residual (environmental) flow left in the river.",
               default="0 m^3/s", minimum=0.0),
+        Field("residual_monthly", "flow_list", "Twelve monthly residual flows, January to "
+              "December; the larger of this and the other residual rules governs.",
+              default=[]),
+        Field("residual_percent", "fraction", "Residual flow as a fraction of the mean river "
+              "flow; the larger of this and the other residual rules governs.",
+              default="0 %", minimum=0.0, maximum=1.0),
+        Field("firm_exceedance", "fraction", "Exceedance of the firm power (e.g. 95 %).",
+              default="95 %", minimum=0.0, exclusive_minimum=True, maximum=1.0),
         Field("gaps", "choice", "What to do with gaps in the flow record: refuse the record, "
               "or fill by linear interpolation.", default="refuse",
               choices=("refuse", "linear")),
@@ -139,7 +156,32 @@ SECTIONS: tuple[Section, ...] = (
               minimum=0.0, exclusive_minimum=True, maximum=1.0),
         Field("transformer_efficiency", "fraction", "Step-up transformer efficiency.",
               default=0.99, minimum=0.0, exclusive_minimum=True, maximum=1.0),
+        Field("gearbox_efficiency", "fraction", "Gearbox efficiency (1 for direct drive).",
+              default=1.0, minimum=0.0, exclusive_minimum=True, maximum=1.0),
+        Field("availability", "fraction", "Fraction of time the plant is available (outages).",
+              default=0.97, minimum=0.0, exclusive_minimum=True, maximum=1.0),
+        Field("efficiency_table", "file", "CSV of turbine efficiency against relative flow "
+              "(Q / design flow of one unit); replaces the type's typical curve.",
+              optional=True, columns=(("relative flow", "dimensionless"),
+                                      ("efficiency", "dimensionless"))),
+        Field("speed", "rotational_speed", "Runner speed, for the specific speed; when absent "
+              "the synchronous speed nearest the middle of the type's range is assumed.",
+              optional=True, minimum=0.0, exclusive_minimum=True, maximum=5000.0),
+        Field("grid_frequency", "frequency", "Grid frequency, for the synchronous speeds.",
+              default="50 Hz", choices=(), minimum=40.0, maximum=70.0),
+        Field("runner_elevation", "length", "Runner centreline elevation, for the setting "
+              "(cavitation or flooding) check.", optional=True),
     )),
+    Section("draft_tube", "A conical draft tube (gradual expansion) at the reaction-turbine "
+            "outlet; without it the tool treats the outlet losses as part of the turbine "
+            "efficiency.", (
+        Field("inlet_diameter", "length", "Diameter at the runner outlet (draft-tube inlet).",
+              minimum=0.0, exclusive_minimum=True),
+        Field("area_ratio", "dimensionless", "Outlet over inlet area.", minimum=1.0,
+              maximum=16.0),
+        Field("cone_angle", "angle", "Total included cone angle.", minimum=0.0,
+              exclusive_minimum=True, maximum=3.1416),
+    ), required=False),
     Section("economics", "Money.", (
         Field("currency", "text", "Currency code printed beside every price.", default="USD"),
         Field("energy_price", "price_per_energy", "Value of energy sold.", default="0.08 /kWh",

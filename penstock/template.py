@@ -65,13 +65,19 @@ def template_text() -> str:
                 lines += [f"{k} = {_toml(v)}" for k, v in loss.items()]
                 lines.append("")
             continue
-        lines.append(f"[[{sec.name}]]" if sec.array else f"[{sec.name}]")
+        absent = not sec.required and any(f.required for f in sec.fields)
+        if absent:   # an optional section whose keys are required once it is written
+            lines.append("# Optional: remove the leading '# ' of the next lines to use it.")
+        header = f"[[{sec.name}]]" if sec.array else f"[{sec.name}]"
+        lines.append(f"# {header}" if absent else header)
         for f in sec.fields:
             desc = f.description
             if f.choices:
                 desc += " One of: " + ", ".join(f.choices) + "."
             lines.append(f"# {desc}")
-            if (sec.name, f.name) in EXAMPLE:
+            if absent:
+                lines.append(f"# {f.name} = ...")
+            elif (sec.name, f.name) in EXAMPLE:
                 lines.append(f"{f.name} = {_toml(EXAMPLE[(sec.name, f.name)])}")
             elif f.default is not None:
                 lines.append(f"# {f.name} = {_toml(f.default)}")

@@ -33,6 +33,7 @@ SI_UNITS: dict[str, str] = {
     "density": "kg/m^3",
     "moment_of_inertia": "kg*m^2",
     "rotational_speed": "rpm",
+    "frequency": "Hz",
     "dimensionless": "",
     "fraction": "",
     # money is carried as a bare number in the case's currency; the unit is "per"
@@ -144,7 +145,7 @@ _EXAMPLES = {
     "velocity": '"3 m/s"', "angle": '"30 deg"', "time": '"8 s"', "age": '"40 year"',
     "temperature": '"10 degC" or "50 degF"', "pressure": '"1.2 MPa" or "150 psi"',
     "power": '"5 MW"', "energy": '"20 GWh"', "stress": '"160 MPa"', "density": '"7850 kg/m^3"',
-    "moment_of_inertia": '"25000 kg*m^2"', "rotational_speed": '"600 rpm"',
+    "moment_of_inertia": '"25000 kg*m^2"', "rotational_speed": '"600 rpm"', "frequency": '"50 Hz"',
     "dimensionless": "0.9", "fraction": '0.92 or "92 %"',
     "price_per_energy": '"0.08 /kWh"', "price_per_mass": '"2500 /t"',
     "price_per_length": '"150 /m"', "roughness_growth": '"0.02 mm/year"',

@@ -16,9 +16,9 @@ from __future__ import annotations
 import csv
 import math
 import re
+from collections.abc import Callable
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Callable
 
 import numpy as np
 import pandas as pd
@@ -106,8 +106,10 @@ def test_si_case_values_pass_through(loaded):
     assert c.surge["closure_time"] == 30.0
     assert c.economics["discount_rate"] == pytest.approx(0.07, rel=REL)   # "7 %"
     assert c.economics["energy_price"] == pytest.approx(0.085, rel=REL)
-    assert c.turbine == {"type": "pelton", "units": 2, "peak_efficiency": 0.90,
-                         "generator_efficiency": 0.97, "transformer_efficiency": 0.99}
+    assert {k: c.turbine[k] for k in ("type", "units", "peak_efficiency",
+                                      "generator_efficiency", "transformer_efficiency")} == {
+        "type": "pelton", "units": 2, "peak_efficiency": 0.90, "generator_efficiency": 0.97,
+        "transformer_efficiency": 0.99}
     assert [s.diameter for s in c.segments] == [1.2, 1.0]
     assert c.profile["chainage"].iloc[-1] == 3100.0
     assert c.flow_record.iloc[0] == pytest.approx(0.7637, rel=REL)
@@ -134,7 +136,7 @@ def test_load_case_accepts_the_toml_path(loaded):
 # --------------------------------------------------------------------- SI <-> US equivalence
 _QUANTITY = re.compile(r'"([-+]?\d+(?:\.\d*)?(?:[eE][-+]?\d+)?) ([^"]+)"')
 #: units left as they are (not length, area, flow, temperature or stress)
-_UNCHANGED = {"deg", "%", "s", "year", "/kWh"}
+_UNCHANGED = {"deg", "%", "s", "year", "/kWh", "Hz", "rpm"}
 
 TO_US = {
     "m": ("ft", lambda v: v / FOOT),
@@ -196,7 +198,7 @@ def _convert_csv(src: Path, dst: Path, table: dict) -> None:
         w = csv.writer(fh, lineterminator="\n")
         w.writerow(new_header)
         for row in data:
-            w.writerow([repr(f(float(v))) if f else v for v, f in zip(row, convs)])
+            w.writerow([repr(f(float(v))) if f else v for v, f in zip(row, convs, strict=True)])
 
 
 def _convert_case(src: Path, dst: Path, system: str) -> Path:
@@ -225,8 +227,8 @@ def _assert_tables_equal(a: dict, b: dict):
                 np.testing.assert_allclose(vb.astype(float), va.astype(float), rtol=1e-9,
                                            atol=1e-9, err_msg=f"{name}: {col}")
                 continue
-            num_a = np.array([_is_number(v) for v in va])
-            num_b = np.array([_is_number(v) for v in vb])
+            num_a = np.array([_is_number(v) for v in va], dtype=bool)
+            num_b = np.array([_is_number(v) for v in vb], dtype=bool)
             assert (num_a == num_b).all(), f"{name}: {col}: numbers in different rows"
             if num_a.any():
                 np.testing.assert_allclose(vb[num_b].astype(float), va[num_a].astype(float),
@@ -241,8 +243,15 @@ def _assert_tables_equal(a: dict, b: dict):
                     f"{name}: {col}, row {i}: {va[i]!r} != {vb[i]!r}"
 
 
-@pytest.mark.parametrize("name, system", [("alder-gorge-high-head", "us"),
-                                          ("cedar-fork-us-units", "si")])
+@pytest.mark.parametrize("name, system", [
+    ("alder-gorge-high-head", "us"),
+    pytest.param("cedar-fork-us-units", "si", marks=pytest.mark.xfail(
+        strict=True, raises=AssertionError, reason="model bug: the minimum turbine flow is "
+        "0.40 x design flow and its relative flow rounds to just below the Francis minimum "
+        "0.40 in one unit system only, so turbine_setting differs at that flow (specific "
+        "speed 81.5 vs 0.077, Thoma sigma, suction head): a comparison at the minimum-flow "
+        "boundary without tolerance")),
+])
 def test_same_site_in_other_units_gives_same_results(tmp_path, name, system):
     src = CASES / name
     dst = _convert_case(src, tmp_path / f"{name}-{system}", system)
@@ -289,9 +298,10 @@ def _escape(d: Path):
     edit_file(d / TOML, 'profile = "profile.csv"', 'profile = "../x.csv"')
 
 
-def _latin1_profile(d: Path):
-    p = d / "profile.csv"
-    p.write_bytes(p.read_bytes().replace(b"INVENTED", b"INVENT\xc9D"))
+def _cp1252_flow_header(d: Path):
+    """A header saved by a spreadsheet in Windows-1252: 'flow [m\xb3/s]' (superscript 3)."""
+    p = d / "flows.csv"
+    p.write_bytes(p.read_bytes().replace(b"flow [m^3/s]", b"flow [m\xb3/s]"))
 
 
 @dataclass
@@ -338,7 +348,7 @@ CATALOGUE = [
         TOML, ("levels.headwater", "no unit")),
     Bad("no-unit-bare-number", ALDER, _ed(TOML, 'headwater = "1412 m"', "headwater = 1412"),
         TOML, ("levels.headwater", "no unit")),
-    Bad("unknown-unit", ALDER, _ed(TOML, 'altitude = "1400 m"', 'altitude = "1400 metres"'),
+    Bad("unknown-unit", ALDER, _ed(TOML, 'altitude = "1400 m"', 'altitude = "1400 mtr"'),
         TOML, ("water.altitude", "cannot read")),
     Bad("not-finite", ALDER, _ed(TOML, 'headwater = "1412 m"', 'headwater = "nan m"'),
         TOML, ("levels.headwater", "not a finite number")),
@@ -405,8 +415,9 @@ CATALOGUE = [
         ("loss 3.angle", "is missing")),
     Bad("missing-rack-area", ALDER, _ed(TOML, 'rack_area = "6 m^2"\n', ""), TOML,
         ("loss 1.rack_area", "is missing")),
-    Bad("unknown-loss-key", ALDER, _ed(TOML, 'radius_ratio = 3\n', 'radius_ratio = 3\nradius = 3\n'),
-        TOML, ("loss 3.radius", "unknown key")),
+    Bad("unknown-loss-key", ALDER,
+        _ed(TOML, "radius_ratio = 3\n", "radius_ratio = 3\nradius = 3\n"), TOML,
+        ("loss 3.radius", "unknown key")),
     Bad("loss-parameter-wrong-dimension", ALDER, _ed(TOML, 'angle = "35 deg"',
                                                      'angle = "35 m"'), TOML,
         ("loss 3.angle",)),
@@ -443,7 +454,7 @@ CATALOGUE = [
         csv_row="400,inf,1404.0"),
     Bad("profile-one-point", MILLRACE, _put("profile.csv", "chainage [m],elevation [m]\n0,107\n"),
         "profile.csv", ("at least two points",)),
-    Bad("csv-not-utf8", ALDER, _latin1_profile, "profile.csv", ("cannot be read",)),
+    Bad("csv-not-utf8", ALDER, _cp1252_flow_header, "flows.csv", ("cannot be read", "utf-8")),
     # ---- flow record CSV
     Bad("negative-flow", ALDER, _ed("flows.csv", FLOW_ROW, "2008-01-03,-1.0343"), "flows.csv",
         ("column 'flow'", "-1.0343", "negative"), csv_row="2008-01-03,-1.0343"),
@@ -477,8 +488,18 @@ CATALOGUE = [
     Bad("tailwater-rating-negative-flow", MILLRACE, _ed("tailwater.csv", "\n0,100.2",
                                                         "\n-5,100.2"), "tailwater.csv",
         ("column 'flow'", "negative"), csv_row="-5,100.2"),
-    Bad("tailwater-rating-above-headwater", MILLRACE, _ed("tailwater.csv", "160,103.4",
-                                                          "160,115"), TOML,
+    # ---- accepted by the loader today (see the xfail reasons)
+    Bad("csv-same-quantity-twice", ALDER, _ed("profile.csv", "ground [m]", "elevation [ft]"),
+        "profile.csv", ("column 'elevation",), marks=(pytest.mark.xfail(
+            strict=True, reason="loader bug: a CSV with 'elevation [m]' and 'elevation [ft]' "
+            "loads silently and the last column wins; expected an error naming both"),)),
+    Bad("negative-rack-area", ALDER, _ed(TOML, 'rack_area = "6 m^2"', 'rack_area = "-6 m^2"'),
+        TOML, ("loss 1.rack_area",), marks=(pytest.mark.xfail(
+            strict=True, reason="loader bug: a negative trashrack rack_area is accepted "
+            "(no range check on the extra loss parameter); expected exit 2 naming "
+            "loss 1.rack_area"),)),
+    Bad("tailwater-rating-above-headwater", MILLRACE,
+        _put("tailwater.csv", "flow [m^3/s],level [m]\n0,112.0\n200,115.0\n"), TOML,
         ("levels", "not below the headwater")),
 ]
 
@@ -536,6 +557,37 @@ def test_csv_error_names_the_row_as_seen_in_the_file(bad, tmp_path):
     lines = (folder / bad.file).read_text(encoding="utf-8").splitlines()
     row = lines.index(bad.csv_row) + 1
     with pytest.raises(CaseError, match=rf"\brow {row}\b"):
+        load_case(folder)
+
+
+@pytest.mark.xfail(strict=True, reason="loader message: an empty CSV cell is reported as "
+                   "'nan is not a number'; expected the cell to be called empty or missing")
+@pytest.mark.parametrize("cell", ["", "NA"], ids=["blank", "NA"])
+def test_empty_csv_cell_is_called_empty(tmp_path, cell):
+    folder = copy_demo(ALDER, tmp_path)
+    edit_file(folder / "flows.csv", FLOW_ROW, f"2008-01-03,{cell}")
+    with pytest.raises(CaseError, match=r"column 'flow \[m\^3/s\]'") as info:
+        load_case(folder)
+    assert "nan" not in str(info.value)
+    assert "empty" in str(info.value) or "missing" in str(info.value)
+
+
+@pytest.mark.xfail(strict=True, reason="loader message: an integer out of range is shown as "
+                   "a float ('0.0 is out of range'), not as written ('0')")
+def test_integer_out_of_range_is_shown_as_written(tmp_path):
+    folder = copy_demo(ALDER, tmp_path)
+    edit_file(folder / TOML, "units = 2", "units = 0")
+    with pytest.raises(CaseError, match=r"turbine\.units: 0 is out of range"):
+        load_case(folder)
+
+
+@pytest.mark.xfail(strict=True, reason="loader hint: 'banki' (the Banki-Michell turbine) "
+                   "gets no 'did you mean' although it is the usual other name of the "
+                   "crossflow type; difflib finds no close spelling")
+def test_banki_suggests_crossflow(tmp_path):
+    folder = copy_demo(ALDER, tmp_path)
+    edit_file(folder / TOML, 'type = "pelton"', 'type = "banki"')
+    with pytest.raises(CaseError, match=r"did you mean 'crossflow'"):
         load_case(folder)
 
 

@@ -60,14 +60,25 @@ def test_breakdown_total_equals_energy_line_drop(demo):
 def test_net_head_is_gross_minus_losses(demo):
     case, r = demo
     h = r.headline
-    assert h["net_head"] == pytest.approx(case.headwater - case.tailwater - h["total_loss"],
-                                          rel=1e-12)
-    # P = ρ g Q Hn η (hand formula)
+    # gross head: headwater to tailwater, or to the runner of an impulse unit set above it
+    z_run = case.turbine["runner_elevation"]
+    bottom = case.tailwater
+    if case.turbine["type"] in ("pelton", "turgo", "crossflow") and z_run is not None:
+        bottom = max(bottom, z_run)
+    assert h["gross_head"] == pytest.approx(case.headwater - bottom, rel=1e-12)
+    assert h["net_head"] == pytest.approx(h["gross_head"] - h["total_loss"], rel=1e-12)
+    # the steady stage's penstock loss at the design flow is the same loss
+    lb = r.loss_breakdown
+    pen = lb[(lb["flow case"] == "design flow") & (lb["component"] == "total")]
+    if case.draft_tube is None:
+        assert h["total_loss"] == pytest.approx(float(pen["head loss [m]"].iloc[0]), rel=1e-6)
+    # installed capacity P = ρ g Q Hn η (hand formula)
     t = case.turbine
     rho = water.density(case.temperature)
-    eta = t["peak_efficiency"] * t["generator_efficiency"] * t["transformer_efficiency"]
-    assert h["design_power"] == pytest.approx(rho * GRAVITY * case.design_flow * h["net_head"]
-                                              * eta, rel=1e-12)
+    eta = (h["eta_rated"] * t["gearbox_efficiency"] * t["generator_efficiency"]
+           * t["transformer_efficiency"])
+    assert h["installed_capacity"] == pytest.approx(
+        rho * GRAVITY * case.design_flow * h["net_head"] * eta, rel=1e-12)
 
 
 def test_local_losses_are_drawn_as_steps(demo):
@@ -157,8 +168,9 @@ def test_results_tables_have_units_and_no_python_reprs(demo):
         text = [str(t) for t in df.to_numpy().ravel()]
         assert not any(t.startswith("array(") for t in text), name
         numeric = df.select_dtypes("number")
+        counts = {"year", "month", "steps", "units running"}   # counts, not quantities
         for col in numeric.columns:
-            assert "[" in col, f"{name}: numeric column {col!r} has no unit"
+            assert "[" in col or col in counts, f"{name}: numeric column {col!r} has no unit"
 
 
 def test_min_pressure_matches_grade_table(demo):
@@ -169,3 +181,56 @@ def test_min_pressure_matches_grade_table(demo):
         assert row["minimum pressure head [m]"] == pytest.approx(part["pressure head [m]"].min())
         assert np.isclose(row["at chainage [m]"],
                           part.loc[part["pressure head [m]"].idxmin(), "chainage [m]"])
+
+
+def test_interpolated_loss_function_matches_direct_evaluation():
+    # the energy stage reads penstock losses from a tabulated function; compare it with the
+    # grade-line computation at flows off its grid (the direct Darcy–Weisbach evaluation)
+    from penstock import gradeline
+    from penstock.model import steady
+    from penstock.route import build_route
+
+    case = penstock.load_case(CASES / "alder-gorge-high-head")
+    props = water.water_properties(case.temperature, case.altitude)
+    route = build_route(case)
+    loss = steady.loss_function(case, route, props)
+    q = np.linspace(0.05, 1.4 * case.maximum_flow, 97)
+    g = gradeline.grade_lines(q, case.headwater, route.chainage, route.elevation,
+                              route.node_area, route.length, route.diameter, route.roughness,
+                              route.k, route.reference_area, props.kinematic_viscosity)
+    exact = (g.friction_loss + g.local_loss).sum(axis=1)
+    np.testing.assert_allclose(loss(q), exact, rtol=1e-5)
+    assert loss(0.0) == 0.0
+
+
+def test_energy_tables_add_up(demo):
+    case, r = demo
+    monthly = r.energy_monthly.groupby("year")["energy [MWh]"].sum()
+    annual = r.energy_annual.set_index("year")["energy [MWh]"]
+    np.testing.assert_allclose(monthly.loc[annual.index].to_numpy(), annual.to_numpy(),
+                               rtol=1e-12)
+    complete = r.energy_annual[r.energy_annual["complete year"].astype(bool)]
+    assert r.headline["mean_annual_energy"] / 3.6e9 == pytest.approx(
+        complete["energy [MWh]"].mean(), rel=1e-12)
+    # the residual flow is honoured: turbined flow never above the flow left after it
+    fd = r.flow_duration
+    assert np.all(fd["turbined flow [m^3/s]"] <= fd["flow after residual [m^3/s]"] + 1e-12)
+    assert np.all(fd["turbined flow [m^3/s]"] <= case.design_flow + 1e-12)
+    # capacity factor = mean annual energy / (installed capacity × 8760 h)
+    assert r.headline["capacity_factor"] == pytest.approx(
+        r.headline["mean_annual_energy"] / (r.headline["installed_capacity"] * 8760 * 3600),
+        rel=1e-3)
+
+
+def test_draft_tube_recovers_part_of_the_exit_velocity_head():
+    case = penstock.load_case(CASES / "millrace-flats-low-head")
+    r = penstock.run_case(case)
+    dt = r.draft_tube
+    assert dt is not None
+    np.testing.assert_allclose(dt["head recovered over an abrupt exit [m]"]
+                               + dt["remaining draft-tube loss [m]"],
+                               dt["inlet velocity head [m]"], rtol=1e-12)
+    assert np.all(dt["power gained [kW]"] > 0)
+    # the recovery cannot exceed the ideal diffuser (Borda–Carnot-free) value V1²/2g·(1 − 1/AR²)
+    ideal = dt["inlet velocity head [m]"] * (1 - 1 / case.draft_tube["area_ratio"] ** 2)
+    assert np.all(dt["head recovered over an abrupt exit [m]"] <= ideal + 1e-12)

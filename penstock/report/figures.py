@@ -62,13 +62,81 @@ def loss_figure(results, system: str):
     return fig
 
 
-FIGURES = {"route_profile": route_figure, "loss_breakdown": loss_figure}
+def duration_figure(results, system: str):
+    """Flow-duration curves (river, after residual, turbined) and the power-duration curve."""
+    fu = _units.label(report_unit("m^3/s", system))
+    fd = results.flow_duration
+    fig, (a1, a2) = plt.subplots(1, 2, figsize=(12, 4.8), dpi=110)
+    x = fd["exceedance [%]"]
+    for col, c in (("river flow [m^3/s]", "C0"), ("flow after residual [m^3/s]", "C2"),
+                   ("turbined flow [m^3/s]", "C3")):
+        a1.plot(x, convert_value(fd[col].to_numpy(float), "m^3/s", system), color=c,
+                label=col.split(" [")[0])
+    a1.set_xlabel("time exceeded [%]")
+    a1.set_ylabel(f"flow [{fu}]")
+    a1.set_title("Flow-duration curve")
+    a1.legend(fontsize=8)
+    a1.grid(True, alpha=0.3)
+    pdc = results.power_duration
+    a2.plot(pdc["exceedance [%]"], pdc["power [kW]"], color="C4")
+    a2.set_xlabel("time exceeded [%]")
+    a2.set_ylabel("power [kW]")
+    a2.set_title("Power-duration curve")
+    a2.grid(True, alpha=0.3)
+    fig.suptitle(results.case.name, fontsize=10)
+    fig.tight_layout()
+    return fig
+
+
+def monthly_energy_figure(results, system: str):
+    """Mean monthly energy over the complete years of the record."""
+    m = results.energy_monthly.merge(results.energy_annual[["year", "complete year"]], on="year")
+    m = m[m["complete year"].astype(bool)] if m["complete year"].astype(bool).any() else m
+    mean = m.groupby("month")["energy [MWh]"].mean().reindex(range(1, 13), fill_value=0.0)
+    fig, ax = plt.subplots(figsize=(9, 4.5), dpi=110)
+    ax.bar(["Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec"],
+           mean.to_numpy(), color="#1f77b4")
+    ax.set_ylabel("energy [MWh]")
+    ax.set_title(f"{results.case.name}: mean monthly energy")
+    ax.grid(True, axis="y", alpha=0.3)
+    fig.tight_layout()
+    return fig
+
+
+def design_flow_figure(results, system: str):
+    """Mean annual energy and installed capacity against design flow."""
+    fu = _units.label(report_unit("m^3/s", system))
+    d = results.design_flow_study
+    q = convert_value(d["design flow [m^3/s]"].to_numpy(float), "m^3/s", system)
+    fig, ax = plt.subplots(figsize=(9, 4.8), dpi=110)
+    ax.plot(q, d["mean annual energy [MWh]"], "o-", color="C0", label="mean annual energy")
+    ax.set_xlabel(f"design flow [{fu}]")
+    ax.set_ylabel("mean annual energy [MWh]", color="C0")
+    ax2 = ax.twinx()
+    ax2.plot(q, d["capacity factor [%]"], "s--", color="C3", label="capacity factor")
+    ax2.set_ylabel("capacity factor [%]", color="C3")
+    ax.set_title(f"{results.case.name}: design-flow study")
+    ax.grid(True, alpha=0.3)
+    fig.tight_layout()
+    return fig
+
+
+FIGURES = {"route_profile": route_figure, "loss_breakdown": loss_figure,
+           "duration_curves": duration_figure, "monthly_energy": monthly_energy_figure,
+           "design_flow_study": design_flow_figure}
+
+
+#: Figures that need a table of a stage that may not have run.
+NEEDS = {"duration_curves": "flow_duration", "monthly_energy": "energy_monthly",
+         "design_flow_study": "design_flow_study"}
 
 
 def write_figures(results, folder, system: str) -> list[str]:
     """Write every figure as PNG into ``folder``; returns the file names."""
     names = []
     for name, make in FIGURES.items():
+        if name in NEEDS and getattr(results, NEEDS[name]) is None:
+            continue
         fig = make(results, system)
         fname = f"{name}.png"
         fig.savefig(folder / fname)

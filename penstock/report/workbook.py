@@ -17,6 +17,7 @@ from openpyxl.chart import Reference
 from .. import units as _units
 from ..constants import GRAVITY
 from ..model import STANDING_CAUTION
+from . import energy_sheets as es
 from . import sheets as sh
 from .units import convert_table, convert_value, report_unit
 
@@ -27,6 +28,10 @@ SHEET_NAMES = {
     "route": "Route and grade lines",
     "pressure": "Pressure checks",
     "losses": "Loss breakdown",
+    "duration": "Flow and power duration",
+    "energy": "Energy by year and month",
+    "design_flow": "Design-flow study",
+    "turbine": "Turbine setting",
     "cautions": "Cautions",
     "methods": "Methods and sources",
 }
@@ -53,6 +58,11 @@ def write_workbook(results, path, system: str | None = None) -> None:
     _route_sheet(wb.create_sheet(SHEET_NAMES["route"]), ctx)
     _pressure_sheet(wb.create_sheet(SHEET_NAMES["pressure"]), ctx)
     _losses_sheet(wb.create_sheet(SHEET_NAMES["losses"]), ctx)
+    if es.has_energy(results):
+        es.duration_sheet(wb.create_sheet(SHEET_NAMES["duration"]), ctx, _title)
+        es.energy_sheet(wb.create_sheet(SHEET_NAMES["energy"]), ctx, _title)
+        es.design_flow_sheet(wb.create_sheet(SHEET_NAMES["design_flow"]), ctx, _title)
+        es.turbine_sheet(wb.create_sheet(SHEET_NAMES["turbine"]), ctx, _title)
     _cautions_sheet(wb.create_sheet(SHEET_NAMES["cautions"]), ctx)
     _methods_sheet(wb.create_sheet(SHEET_NAMES["methods"]), ctx)
     props = wb.properties
@@ -125,16 +135,18 @@ def _net_head_block(ws, ctx, row: int) -> int:
     row += 1
     items = [
         ("headwater level", ctx.case.headwater, "m", None),
-        ("tailwater level", ctx.case.tailwater, "m", None),
-        ("penstock losses at design flow", h["total_loss"], "m", None),
+        ("tailwater level (or runner, impulse units)", ctx.case.headwater - h["gross_head"],
+         "m", None),
+        ("penstock and draft-tube losses at design flow", h["total_loss"], "m", None),
         ("net head", None, "m", "=B{0}-B{1}-B{2}"),
         ("design flow", h["design_flow"], "m³/s", None),
         ("water density", ctx.r.headline["density"], "kg/m³", None),
         ("gravity", GRAVITY, "m/s²", None),
-        ("turbine efficiency (best)", t["peak_efficiency"], "-", None),
-        ("generator efficiency", t["generator_efficiency"], "-", None),
+        ("turbine efficiency at design flow", h["eta_rated"], "-", None),
+        ("gearbox × generator efficiency", t["gearbox_efficiency"] * t["generator_efficiency"],
+         "-", None),
         ("transformer efficiency", t["transformer_efficiency"], "-", None),
-        ("power at design flow", None, "kW",
+        ("installed capacity", None, "kW",
          "=B{5}*B{6}*B{4}*B{3}*B{7}*B{8}*B{9}/1000"),
     ]
     rows = [row + i for i in range(len(items))]
@@ -147,8 +159,8 @@ def _net_head_block(ws, ctx, row: int) -> int:
             sh.formula(ws, rows[i], 2, f.format(*rows), fmt="#,##0.00", font=sh.SUBTITLE)
         sh.put(ws, rows[i], 3, unit)
     ctx.formula_cells = {"net head": (ws.title, f"B{rows[3]}", h["net_head"]),
-                         "power at design flow": (ws.title, f"B{rows[10]}",
-                                                  h["design_power"] / 1e3)}
+                         "installed capacity": (ws.title, f"B{rows[10]}",
+                                                h["installed_capacity"] / 1e3)}
     return rows[-1] + 2
 
 
@@ -184,6 +196,7 @@ def _route_sheet(ws, ctx):
         wide[f"pressure head, {name} [m]"] = part["pressure head [m]"].to_numpy()
     flagged = _flag_column(r, wide["chainage [m]"].to_numpy(), wide["pipe elevation [m]"])
     wide["flagged: pressure below margin [m]"] = flagged
+    wide["required margin [m]"] = ctx.case.pressure_margin
     table = convert_table(wide, ctx.system)
     sh.put(ws, row, 1, "Flows: " + "; ".join(
         f"{k} {ctx.v(q, 'm^3/s'):.3f} {ctx.u('m^3/s')}" for k, q in flows.items()), font=sh.NOTE)
@@ -200,6 +213,7 @@ def _route_sheet(ws, ctx):
     cols = list(table.columns)
     chart = _route_chart(ctx, ws, table, cols, first, last, cases, 1, pfirst, plast, prof)
     ws.add_chart(chart, f"A{chart_row}")
+    ws.add_chart(_pressure_chart(ctx, ws, table, cols, first, last, cases), f"L{chart_row}")
     summary_chart = _route_chart(ctx, ws, table, cols, first, last, ["design flow"], 1,
                                  pfirst, plast, prof, width=18, height=10,
                                  title="Route and grade lines at the design flow")
@@ -249,6 +263,31 @@ def _route_chart(ctx, ws, table, cols, first, last, cases, pcol, pfirst, plast, 
     fl = _col(cols, "flagged")
     if fl is not None:
         sh.add_line(ch, ws, 1, fl, first, last, "pressure below margin", "D62728", markers=True)
+    return ch
+
+
+def _pressure_chart(ctx, ws, table, cols, first, last, cases):
+    """Pressure head along the route at each study flow, with the required margin."""
+    lu = ctx.u("m")
+    x = table.iloc[:, 0].to_numpy(dtype=float)
+    ch = sh.scatter_chart("Pressure head along the route", f"chainage [{lu}]",
+                          f"pressure head [{lu}]", x_major=sh.nice_step(x.max() - x.min()),
+                          width=20, height=13)
+    ch.x_axis.scaling.min = float(x.min())
+    ch.x_axis.scaling.max = float(x.max())
+    ys = [table[c].to_numpy(dtype=float) for c in cols if c.startswith("pressure head")]
+    top = float(np.nanmax([np.nanmax(y) for y in ys]))
+    low = float(np.nanmin([np.nanmin(y) for y in ys]))
+    ch.y_axis.scaling.min = float(min(0.0, np.floor(low)))
+    step = sh.nice_step(top - ch.y_axis.scaling.min, 6)
+    ch.y_axis.majorUnit = step
+    for i, name in enumerate(cases):
+        j = _col(cols, f"pressure head, {name}")
+        if j is not None:
+            sh.add_line(ch, ws, 1, j, first, last, name, sh_color(i))
+    m = _col(cols, "required margin")
+    if m is not None:
+        sh.add_line(ch, ws, 1, m, first, last, "required margin", "D62728", dash="dash")
     return ch
 
 

@@ -1,0 +1,349 @@
+"""Energy stage of a run: flow record, turbines, net head, power and energy.
+
+Net head at each step is ``headwater − tailwater − penstock losses`` (the losses
+from the steady-hydraulics stage at that step's flow) ``− draft-tube loss`` when a
+draft tube is described, i.e. the abrupt-exit loss less the diffuser's recovery.
+Without a draft tube the turbine efficiency curve is taken to include the outlet
+losses.  For an impulse turbine with a given runner elevation the head below the
+runner is lost: the tailwater in the formula is then ``max(tailwater, runner)``.
+
+The plant's turbined flow is capped at the design flow (all units at rated flow);
+the maximum plant flow serves the hydraulic checks.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pandas as pd
+
+from .. import drafttube, energy, hydrology, turbines
+from ..constants import GRAVITY
+from ..turbines import TURBINE_TYPES
+from .core import Warning_
+
+J_PER_MWH = 3.6e9
+
+
+def _residual(case, index, river):
+    monthly = case.residual_monthly or None
+    return hydrology.residual_flow(
+        index, constant=case.residual_flow, monthly=monthly,
+        percent_of_mean=100 * case.residual_percent if case.residual_percent else None,
+        mean_flow=float(np.mean(river)) if case.residual_percent else None)
+
+
+def _draft_tube_loss(case, n_units):
+    """Draft-tube head loss as a function of total plant flow (all units sharing it)."""
+    dt = case.draft_tube
+    if dt is None:
+        return None
+
+    def loss(total_flow):
+        q = np.asarray(total_flow, dtype=float) / n_units
+        exit_head = drafttube.abrupt_exit_loss(q, dt["inlet_diameter"])
+        return exit_head - drafttube.velocity_head_recovery(q, dt["inlet_diameter"],
+                                                            dt["area_ratio"], dt["cone_angle"])
+
+    return loss
+
+
+def units_running(flow, rated_flow_per_unit, n_units):
+    """Units sharing a plant flow when each runs as near its rated flow as it can."""
+    k = np.ceil(np.asarray(flow, float) / rated_flow_per_unit - 1e-9)
+    return np.clip(k, 1, n_units).astype(int)
+
+
+def synchronous_speed(turbine_type, net_head, power_per_unit, frequency):
+    """Synchronous speed giving a specific speed nearest the middle of the type's range.
+
+    Common practice for a first choice of speed: n = 60·f/p for p pole pairs,
+    choosing p so that the metric specific speed n·√P/H^(5/4) lies nearest the
+    geometric middle of the type's published range.
+    """
+    lo, hi = TURBINE_TYPES[turbine_type]["specific_speed_range"]
+    target = math.sqrt(lo * hi)
+    pairs = np.arange(1, 61)
+    speeds = 60.0 * frequency / pairs
+    ns = turbines.specific_speed(speeds, power_per_unit, net_head)
+    return float(speeds[np.argmin(np.abs(np.log(ns / target)))])
+
+
+def run(case, props, steady, warns, methods, tick) -> dict:
+    """Operate the plant over the flow record and summarise its energy."""
+    tick("energy over the flow record")
+    t = case.turbine
+    ttype, n = t["type"], t["units"]
+    entry = TURBINE_TYPES[ttype]
+    rho = props.density
+    record = case.flow_record
+    index, river = record.index, record.to_numpy(dtype=float)
+    q_unit = case.design_flow / n
+    hw = case.headwater_at(river, index)
+    tw = case.tailwater_at(river)
+    z_run = t["runner_elevation"]
+    if entry["impulse"] and z_run is not None:
+        tw = np.maximum(tw, z_run)
+    gross = hw - tw
+    residual = _residual(case, index, river)
+    if np.all(residual.to_numpy() >= river):
+        warns.append(Warning_("hydrology", "the residual flow is at or above the river flow at "
+                              "every step of the record: the plant never runs"))
+    table = t["efficiency_table"]
+    if table is None:
+        table = turbines.scaled_efficiency_table(ttype, t["peak_efficiency"])
+        methods.add("Turbine efficiency", f"typical {ttype} part-load curve scaled to a best "
+                    f"efficiency of {t['peak_efficiency']:.3f}", entry["sources"]["efficiency_table"])
+    else:
+        methods.add("Turbine efficiency", "part-load curve given by the user", "case input")
+    min_rel = case.minimum_flow / q_unit if case.minimum_flow is not None else None
+    penstock_loss = steady["head_loss"]
+    dt_loss = _draft_tube_loss(case, n)
+
+    def total_loss(q):
+        out = penstock_loss(q)
+        return out + dt_loss(q) if dt_loss is not None else out
+
+    drive = dict(gearbox_efficiency=t["gearbox_efficiency"],
+                 generator_efficiency=t["generator_efficiency"],
+                 transformer_efficiency=t["transformer_efficiency"])
+    op = energy.simulate_plant(river, gross, q_unit, density=rho, n_units=n, turbine_type=ttype,
+                               efficiency_table=table, head_loss=total_loss, residual=residual,
+                               minimum_relative_flow=min_rel, availability=t["availability"],
+                               **drive)
+    methods.add("Plant operation", "residual flow released first; the number of units giving "
+                "the most power runs at each step; P = ρ·g·Q·Hn·η_turbine·η_gearbox·"
+                "η_generator·η_transformer × availability", "energy balance (hand formula)")
+
+    # installed capacity: all units at rated flow, at the reference (design) levels
+    h_design = case.headwater - case.tailwater
+    if entry["impulse"] and z_run is not None:
+        h_design = case.headwater - max(case.tailwater, z_run)
+    loss_design = float(total_loss(case.design_flow))
+    hn_design = h_design - loss_design
+    eta_rated = float(turbines.turbine_efficiency(1.0, ttype, table=table))
+    capacity = float(energy.electrical_power(case.design_flow, hn_design, rho, eta_rated,
+                                             **drive))
+    summ = energy.energy_summary(index, op.power, installed_capacity=capacity,
+                                 firm_exceedance=case.firm_exceedance,
+                                 power_without_friction=op.power_without_friction,
+                                 spill_flow=op.spill_flow, residual_flow=op.residual_flow,
+                                 gross_head=gross, density=rho)
+    if record.attrs.get("from_duration_table"):
+        warns.append(Warning_("hydrology", "the flow record is a representative year built from "
+                              "a flow-duration table: monthly energies are not meaningful",
+                              severity="note"))
+    if summ.mean_annual_basis != "complete calendar years":
+        warns.append(Warning_("hydrology", f"mean annual energy is based on "
+                              f"{summ.mean_annual_basis}", severity="note"))
+
+    out = {
+        "flow_duration": _flow_duration(river, residual.to_numpy(), op.turbined_flow),
+        "power_duration": pd.DataFrame({
+            "exceedance [%]": 100 * summ.power_duration.exceedance,
+            "power [kW]": summ.power_duration.flow / 1e3}),
+        "energy_annual": _annual(summ),
+        "energy_monthly": _monthly(summ),
+    }
+    tick("design-flow study")
+    study = energy.design_flow_study(index, river, gross, density=rho, head_loss=total_loss,
+                                     residual=residual, n_units=n, turbine_type=ttype,
+                                     efficiency_table=table, minimum_relative_flow=min_rel,
+                                     availability=t["availability"], **drive)
+    out["design_flow_study"] = pd.DataFrame({
+        "design flow exceedance [%]": 100 * study["design_exceedance"],
+        "design flow [m^3/s]": study["design_flow"],
+        "installed capacity [kW]": study["installed_capacity"] / 1e3,
+        "mean annual energy [MWh]": study["mean_annual_energy"] / J_PER_MWH,
+        "capacity factor [%]": 100 * study["capacity_factor"],
+        "energy lost to friction [MWh]": study["mean_annual_friction_loss"] / J_PER_MWH,
+        "energy spilled [MWh]": study["mean_annual_spill_energy"] / J_PER_MWH,
+    })
+    tick("turbine and setting")
+    out["turbine_choice"], speed = _turbine_choice(case, hn_design, q_unit, capacity / n, rho,
+                                                   warns, methods)
+    out["turbine_setting"] = _setting(case, props, steady, total_loss, speed, table, drive,
+                                      warns, methods)
+    out["draft_tube"] = _draft_tube_table(case, props, steady, table, drive, methods)
+    out["headline"] = {
+        "gross_head": h_design, "net_head": hn_design, "total_loss": loss_design,
+        "design_flow": case.design_flow, "installed_capacity": capacity,
+        "eta_rated": eta_rated,
+        "mean_annual_energy": summ.mean_annual_energy, "capacity_factor": summ.capacity_factor,
+        "firm_power": summ.firm_power, "friction_energy": summ.mean_annual_friction_loss,
+        "spill_energy": summ.mean_annual_spill_energy,
+        "residual_energy": summ.mean_annual_residual_energy,
+        "speed": speed,
+    }
+    return out
+
+
+def _flow_duration(river, residual, turbined) -> pd.DataFrame:
+    p = np.linspace(0.0, 1.0, 101)
+    p[0], p[-1] = 0.001, 0.999
+
+    def curve(x):
+        return hydrology.exceedance_curve(np.asarray(x, float), p).flow
+
+    return pd.DataFrame({
+        "exceedance [%]": 100 * p,
+        "river flow [m^3/s]": curve(river),
+        "flow after residual [m^3/s]": curve(np.maximum(river - residual, 0.0)),
+        "turbined flow [m^3/s]": curve(turbined),
+    })
+
+
+def _annual(summ) -> pd.DataFrame:
+    a = summ.annual
+    return pd.DataFrame({
+        "year": a.index.astype(int),
+        "energy [MWh]": a["energy"].to_numpy() / J_PER_MWH,
+        "complete year": a["complete"].to_numpy(),
+        "steps": a["steps"].to_numpy(),
+        "energy lost to friction [MWh]": a["friction_loss"].to_numpy() / J_PER_MWH,
+        "energy of spilled flow [MWh]": a["spill_energy"].to_numpy() / J_PER_MWH,
+        "energy of residual flow [MWh]": a["residual_energy"].to_numpy() / J_PER_MWH,
+    })
+
+
+def _monthly(summ) -> pd.DataFrame:
+    m = summ.monthly
+    long = m.stack().rename("energy").reset_index()
+    long.columns = ["year", "month", "energy"]
+    return pd.DataFrame({"year": long["year"].astype(int), "month": long["month"].astype(int),
+                         "energy [MWh]": long["energy"].to_numpy() / J_PER_MWH})
+
+
+def _turbine_choice(case, net_head, q_unit, power_unit, rho, warns, methods):
+    t = case.turbine
+    ttype = t["type"]
+    speed = t["speed"]
+    assumed = speed is None
+    if assumed:
+        speed = synchronous_speed(ttype, net_head, power_unit, t["grid_frequency"])
+    ns = float(turbines.specific_speed(speed, power_unit, net_head))
+    cands = turbines.suggest_turbine_types(net_head, q_unit, speed, rho)
+    rows = []
+    for c in cands:
+        e = TURBINE_TYPES[c.turbine_type]
+        rows.append({"turbine type": c.turbine_type, "suitability score [-]": c.score,
+                     "head range low [m]": e["head_range"][0],
+                     "head range high [m]": e["head_range"][1],
+                     "flow in range": c.flow_in_range,
+                     "specific speed [-]": c.specific_speed,
+                     "specific speed in range": c.specific_speed_in_range,
+                     "chosen": c.turbine_type == ttype})
+    methods.add("Turbine type", "application ranges of head, flow and metric specific speed "
+                "n_s = n·√P/H^(5/4)", TURBINE_TYPES[ttype]["sources"]["head_range"])
+    lo, hi = TURBINE_TYPES[ttype]["head_range"]
+    if not lo <= net_head <= hi:
+        warns.append(Warning_("turbine", f"net head {net_head:.1f} m is outside the usual "
+                              f"{lo:g}–{hi:g} m range of a {ttype} turbine"))
+    slo, shi = TURBINE_TYPES[ttype]["specific_speed_range"]
+    if not slo <= ns <= shi:
+        warns.append(Warning_("turbine", f"specific speed {ns:.0f} at {speed:.0f} rpm is outside "
+                              f"the {ttype} range {slo:g}–{shi:g}"))
+    if assumed:
+        warns.append(Warning_("turbine", f"no turbine.speed given: {speed:.1f} rpm (synchronous "
+                              f"at {t['grid_frequency']:g} Hz) is assumed for the specific "
+                              "speed", severity="note"))
+    df = pd.DataFrame(rows)
+    if ttype not in set(df["turbine type"]) if len(df) else True:
+        df = pd.concat([df, pd.DataFrame([{
+            "turbine type": ttype, "suitability score [-]": 0.0, "head range low [m]": lo,
+            "head range high [m]": hi, "flow in range": False, "specific speed [-]": ns,
+            "specific speed in range": slo <= ns <= shi, "chosen": True}])], ignore_index=True)
+    df["speed [rpm]"] = speed
+    return df, speed
+
+
+def _setting(case, props, steady, total_loss, speed, table, drive, warns, methods):
+    """Turbine setting at each study flow: Thoma for reaction units, clearance for impulse."""
+    t = case.turbine
+    ttype, n = t["type"], t["units"]
+    entry = TURBINE_TYPES[ttype]
+    flows = np.asarray(steady["flows"], float)
+    names = steady["flow_names"]
+    q_plant = np.minimum(flows, case.design_flow)
+    tw = np.asarray(case.tailwater_at(q_plant + case.residual_flow), float)
+    hn = case.headwater - tw - total_loss(q_plant)
+    z_run = t["runner_elevation"]
+    rows = []
+    if entry["impulse"]:
+        tw_max = float(case.tailwater_at(float(case.flow_record.max())))
+        clearance = drafttube.IMPULSE_CLEARANCE.get(ttype, 1.0)
+        methods.add("Turbine setting", f"impulse runner clearance above the highest tailwater "
+                    f"({clearance:g} m, common practice)", "common practice (from memory)")
+        for name, q, h in zip(names, q_plant, hn):
+            margin = None if z_run is None else float(drafttube.impulse_clearance_margin(
+                z_run, tw_max, ttype))
+            rows.append({"flow case": name, "plant flow [m^3/s]": q, "net head [m]": h,
+                         "highest tailwater [m]": tw_max,
+                         "required clearance [m]": clearance,
+                         "lowest runner elevation [m]": tw_max + clearance,
+                         "runner elevation [m]": z_run, "margin [m]": margin})
+        if z_run is not None and rows[0]["margin [m]"] < 0:
+            warns.append(Warning_("turbine setting", f"the {ttype} runner at {z_run:g} m is less "
+                                  f"than {clearance:g} m above the highest tailwater "
+                                  f"({tw_max:.2f} m): it may be flooded"))
+        return pd.DataFrame(rows)
+    methods.add("Turbine setting", "Thoma: Hs = (p_atm − p_v)/(ρg) − σ·Hn, σ from the "
+                "specific speed", "de Siervo, F. & de Leva, F. (1976, 1977), Water Power & Dam "
+                "Construction 28(8) and 29(12) (from memory)")
+    lo, hi = entry["specific_speed_range"]
+    q_rated = case.design_flow / n
+    for name, q, h, w in zip(names, q_plant, hn, tw):
+        k = int(units_running(q, q_rated, n))
+        q_u = q / k
+        eta = float(turbines.turbine_efficiency(q_u / q_rated, ttype, table=table))
+        p_unit = props.density * GRAVITY * q_u * h * eta
+        ns = float(turbines.specific_speed(speed, max(p_unit, 1.0), h))
+        ns_c = float(np.clip(ns, lo, hi))
+        sigma = float(drafttube.thoma_sigma(ns_c, ttype))
+        hs = float(drafttube.allowable_suction_head(props.atmospheric_pressure,
+                                                    props.vapour_pressure, props.density,
+                                                    sigma, h))
+        actual = None if z_run is None else z_run - w
+        rows.append({"flow case": name, "plant flow [m^3/s]": q, "units running": k,
+                     "net head [m]": h, "specific speed [-]": ns, "Thoma sigma [-]": sigma,
+                     "tailwater [m]": w, "allowable suction head [m]": hs,
+                     "highest runner elevation [m]": w + hs,
+                     "runner elevation [m]": z_run,
+                     "margin [m]": None if actual is None else hs - actual})
+        if actual is not None and hs - actual < 0:
+            warns.append(Warning_("turbine setting", f"runner centreline at {z_run:g} m is "
+                                  f"{actual - hs:.2f} m above the highest setting free of "
+                                  f"cavitation at the {name} (Thoma σ = {sigma:.3f})",
+                                  flow=float(q)))
+    return pd.DataFrame(rows)
+
+
+def _draft_tube_table(case, props, steady, table, drive, methods):
+    dt = case.draft_tube
+    if dt is None:
+        return None
+    t = case.turbine
+    n = t["units"]
+    methods.add("Draft tube", "conical diffuser recovery with Gibson's loss coefficient, "
+                "against an abrupt exit that loses the whole outlet velocity head",
+                "Gibson, A.H. (1910). On the flow of water through pipes and passages having "
+                "converging or diverging boundaries. Proc. R. Soc. Lond. A 83, 366–378")
+    flows = np.minimum(np.asarray(steady["flows"], float), case.design_flow)
+    k = units_running(flows, case.design_flow / n, n)
+    q_u = flows / k
+    exit_head = drafttube.abrupt_exit_loss(q_u, dt["inlet_diameter"])
+    gain = drafttube.velocity_head_recovery(q_u, dt["inlet_diameter"], dt["area_ratio"],
+                                            dt["cone_angle"])
+    eta = np.array([float(turbines.turbine_efficiency(max(q / (case.design_flow / n), 1e-6),
+                                                      t["type"], table=table)) for q in q_u])
+    factor = drive["gearbox_efficiency"] * drive["generator_efficiency"] * \
+        drive["transformer_efficiency"]
+    return pd.DataFrame({
+        "flow case": steady["flow_names"], "plant flow [m^3/s]": flows, "units running": k,
+        "inlet velocity [m/s]": q_u / (math.pi * dt["inlet_diameter"] ** 2 / 4),
+        "inlet velocity head [m]": exit_head,
+        "head recovered over an abrupt exit [m]": gain,
+        "remaining draft-tube loss [m]": exit_head - gain,
+        "power gained [kW]": props.density * GRAVITY * flows * gain * eta * factor / 1e3,
+    })

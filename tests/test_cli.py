@@ -1,0 +1,308 @@
+"""Tests of the command line (penstock.cli) and the report files it writes.
+
+Unit conversion factor used below, exact by definition: foot = 0.3048 m (international
+yard and pound agreement, 1959; NIST SP 811 (2008), Appendix B.8).
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import re
+from dataclasses import dataclass
+from pathlib import Path
+
+import openpyxl
+import pandas as pd
+import pytest
+from conftest import CASES, DEMO_CASES, copy_demo, edit_file, folder_listing, run_cli
+
+FOOT = 0.3048   # m; international foot (1959), NIST SP 811 App. B.8
+
+SHEETS = ["Summary", "Inputs", "Route and grade lines", "Pressure checks", "Loss breakdown",
+          "Cautions", "Methods and sources"]
+#: CSV tables every run writes (the result tables of penstock.model.Results)
+CORE_TABLES = ["summary", "inputs", "grade_lines", "pressure_checks", "loss_breakdown",
+               "cautions", "methods"]
+
+#: One run per demo case, each with different flags, to keep the file fast.
+RUN_FLAGS = {
+    "alder-gorge-high-head": ["--units", "us"],            # SI case reported in US units
+    "cedar-fork-us-units": ["--units", "si", "--quiet"],   # US case reported in SI units
+    "millrace-flats-low-head": [],                         # the case's own units (SI)
+}
+
+
+@dataclass
+class Run:
+    code: int | None
+    out: str
+    err: str
+    book: Path
+
+    @property
+    def folder(self) -> Path:
+        return self.book.with_suffix("")
+
+
+@pytest.fixture(scope="module")
+def demo_runs(tmp_path_factory) -> dict[str, Run]:
+    base = tmp_path_factory.mktemp("demo-runs")
+    runs = {}
+    for name in DEMO_CASES:
+        book = base / name / f"{name}.xlsx"
+        code, out, err = run_cli(["run", CASES / name, "--out", book, *RUN_FLAGS[name]])
+        runs[name] = Run(code, out, err, book)
+    return runs
+
+
+@pytest.fixture(scope="module")
+def workbooks(demo_runs):
+    return {name: openpyxl.load_workbook(r.book) for name, r in demo_runs.items()
+            if r.code == 0}
+
+
+def _texts(ws) -> list[str]:
+    return [c.value for row in ws.iter_rows() for c in row if isinstance(c.value, str)]
+
+
+def _no_hidden_names(folder: Path):
+    hidden = [p.name for p in Path(folder).rglob("*") if p.name.startswith(".")]
+    assert hidden == [], f"temporary files left behind: {hidden}"
+
+
+# --------------------------------------------------------------------- demo runs
+@pytest.mark.parametrize("name", DEMO_CASES)
+def test_demo_case_runs(demo_runs, name):
+    r = demo_runs[name]
+    assert r.code == 0, r.err
+    assert r.err == ""
+    assert r.book.is_file() and r.folder.is_dir()
+    # the workbook and its folder are alone in the output directory: no temporary files
+    assert sorted(p.name for p in r.book.parent.iterdir()) == sorted([r.book.name,
+                                                                      r.folder.name])
+    _no_hidden_names(r.book.parent)
+
+
+@pytest.mark.parametrize("name", DEMO_CASES)
+def test_workbook_has_the_sheets(workbooks, name):
+    wb = workbooks[name]
+    assert wb.sheetnames[0] == "Summary"
+    assert [s for s in wb.sheetnames if s in SHEETS] == SHEETS   # present, in reading order
+
+
+@pytest.mark.parametrize("name", DEMO_CASES)
+@pytest.mark.parametrize("sheet", ["Summary", "Cautions"])
+def test_workbook_carries_the_caution(workbooks, name, sheet):
+    text = " ".join(_texts(workbooks[name][sheet])).lower()
+    assert "planning-level" in text
+    assert "licensed" in text
+
+
+@pytest.mark.parametrize("name", DEMO_CASES)
+def test_csv_tables_read_back(demo_runs, name):
+    folder = demo_runs[name].folder
+    files = sorted(folder.glob("*.csv"))
+    assert {f"{t}.csv" for t in CORE_TABLES} <= {f.name for f in files}
+    for f in files:
+        assert f.stat().st_size > 0, f.name
+        df = pd.read_csv(f, encoding="utf-8")
+        assert len(df.columns) > 0, f.name
+        if f.stem in CORE_TABLES and f.stem != "cautions":
+            assert len(df) > 0, f"{f.name} has no rows"
+    summary = pd.read_csv(folder / "summary.csv", dtype=str)
+    assert summary.columns[:3].tolist() == ["quantity", "value", "unit"]
+
+
+#: Numeric columns that are labels or counts, not quantities: no unit expected.
+NO_UNIT = {"year", "month", "steps", "units running"}
+#: Dimensionless numbers written without "[-]" (see the xfail test below).
+KNOWN_UNITLESS = {"suitability score"}
+
+
+def _unitless_numeric_columns(folder: Path) -> list[str]:
+    bad = []
+    for f in sorted(folder.glob("*.csv")):
+        df = pd.read_csv(f, encoding="utf-8")
+        for col in df.columns:
+            s = df[col]
+            if (pd.api.types.is_numeric_dtype(s) and not pd.api.types.is_bool_dtype(s)
+                    and s.notna().any() and col not in NO_UNIT
+                    and not re.search(r"\[[^\[\]]+\]$", col)):
+                bad.append(f"{f.name}: {col}")
+    return bad
+
+
+@pytest.mark.parametrize("name", DEMO_CASES)
+def test_csv_numeric_columns_carry_units(demo_runs, name):
+    bad = _unitless_numeric_columns(demo_runs[name].folder)
+    assert [b for b in bad if b.split(": ", 1)[1] not in KNOWN_UNITLESS] == []
+
+
+@pytest.mark.xfail(strict=True, reason="report tables: 'suitability score' in "
+                   "turbine_choice.csv is a dimensionless number written without '[-]', unlike "
+                   "'specific speed [-]'")
+def test_csv_dimensionless_columns_are_marked(demo_runs):
+    assert _unitless_numeric_columns(demo_runs["alder-gorge-high-head"].folder) == []
+
+
+def test_units_us_on_an_si_case(demo_runs):
+    gl = pd.read_csv(demo_runs["alder-gorge-high-head"].folder / "grade_lines.csv")
+    assert "chainage [ft]" in gl.columns
+    assert not any(c.endswith("[m]") for c in gl.columns)
+    # 3100 m / 0.3048 m/ft (international foot, NIST SP 811 App. B.8)
+    assert gl["chainage [ft]"].max() == pytest.approx(3100 / FOOT, rel=1e-12)
+    assert " ft at the design flow" in demo_runs["alder-gorge-high-head"].out
+
+
+def test_units_si_on_a_us_case(demo_runs):
+    gl = pd.read_csv(demo_runs["cedar-fork-us-units"].folder / "grade_lines.csv")
+    assert "chainage [m]" in gl.columns
+    assert not any(c.endswith("[ft]") for c in gl.columns)
+    # 4900 ft x 0.3048 m/ft (international foot, NIST SP 811 App. B.8)
+    assert gl["chainage [m]"].max() == pytest.approx(1493.52, rel=1e-12)
+
+
+def test_default_units_are_the_cases(demo_runs):
+    gl = pd.read_csv(demo_runs["millrace-flats-low-head"].folder / "grade_lines.csv")
+    assert "chainage [m]" in gl.columns
+
+
+def test_quiet_prints_nothing(demo_runs):
+    r = demo_runs["cedar-fork-us-units"]
+    assert (r.code, r.out, r.err) == (0, "", "")
+
+
+def test_run_prints_a_summary(demo_runs):
+    r = demo_runs["millrace-flats-low-head"]
+    assert "net head" in r.out and " m at the design flow" in r.out
+    assert f"wrote {r.book}" in r.out
+
+
+# --------------------------------------------------------------------- help
+@pytest.mark.parametrize("command", ["run", "check", "new"])
+def test_help_shows_examples(command):
+    code, out, err = run_cli([command, "--help"])
+    assert code == 0
+    assert "examples:" in out
+    assert f"penstock {command}" in out.split("examples:", 1)[1]
+
+
+def test_top_level_help():
+    code, out, _ = run_cli(["--help"])
+    assert code == 0 and "examples:" in out and "licensed engineer" in out
+
+
+# --------------------------------------------------------------------- atomic reports
+def test_earlier_report_survives_a_failed_validation(tmp_path):
+    case = copy_demo("millrace-flats-low-head", tmp_path / "case")
+    out_dir = tmp_path / "reports"
+    book = out_dir / "out.xlsx"
+    code, _, err = run_cli(["run", case, "--out", book, "--quiet"])
+    assert code == 0, err
+    old_book = book.read_bytes()
+    old_folder = folder_listing(book.with_suffix(""))
+    old_names = sorted(p.name for p in out_dir.iterdir())
+    assert old_folder and old_names == ["out", "out.xlsx"]
+
+    edit_file(case / "site.toml", 'headwater = "112.0 m"', 'headwater = "112 kg"')
+    code, out, err = run_cli(["run", case, "--out", book])
+    assert code == 2
+    assert out == "" and len(err.splitlines()) == 1 and "levels.headwater" in err
+    assert book.read_bytes() == old_book
+    assert folder_listing(book.with_suffix("")) == old_folder
+    assert sorted(p.name for p in out_dir.iterdir()) == old_names
+    _no_hidden_names(out_dir)
+
+
+def test_locked_workbook_is_not_touched(tmp_path):
+    case = copy_demo("millrace-flats-low-head", tmp_path / "case")
+    out_dir = tmp_path / "reports"
+    book = out_dir / "site.xlsx"
+    assert run_cli(["run", case, "--out", book, "--quiet"])[0] == 0
+    old_book, old_folder = book.read_bytes(), folder_listing(book.with_suffix(""))
+    lock = out_dir / ".~lock.site.xlsx#"
+    lock.write_text("someone,host,2024-01-01;", encoding="utf-8")
+
+    code, out, err = run_cli(["run", case, "--out", book])
+    assert code == 2
+    assert out == "" and len(err.splitlines()) == 1 and "Traceback" not in err
+    assert "site.xlsx" in err and "lock" in err and "close it" in err
+    assert book.read_bytes() == old_book
+    assert folder_listing(book.with_suffix("")) == old_folder
+    # nothing but the workbook, its folder and the lock file
+    assert sorted(p.name for p in out_dir.iterdir()) == sorted([lock.name, "site",
+                                                                "site.xlsx"])
+
+
+def test_out_must_be_an_xlsx_name(tmp_path):
+    case = CASES / "millrace-flats-low-head"
+    code, out, err = run_cli(["run", case, "--out", tmp_path / "report.pdf"])
+    assert code == 2 and out == ""
+    assert "--out" in err and "report.pdf" in err and len(err.splitlines()) == 1
+    assert list(tmp_path.iterdir()) == []
+
+
+def test_internal_error_exits_1_without_traceback(tmp_path, monkeypatch):
+    import penstock.model
+
+    def broken(case, progress=None):
+        raise RuntimeError("simulated failure")
+
+    monkeypatch.setattr(penstock.model, "run_case", broken)
+    book = tmp_path / "out.xlsx"
+    code, out, err = run_cli(["run", CASES / "millrace-flats-low-head", "--out", book])
+    assert code == 1
+    assert "internal error" in err and "simulated failure" in err and "PENSTOCK_DEBUG" in err
+    assert "Traceback" not in err and len(err.splitlines()) == 1
+    assert list(tmp_path.iterdir()) == []
+
+
+@pytest.mark.xfail(strict=True, reason="report writer bug: the workbook comes from "
+                   "tempfile.mkstemp (mode 0600) and the folder from mkdtemp (mode 0700), so "
+                   "the reports ignore the umask and other users cannot read them")
+def test_reports_have_ordinary_permissions(demo_runs):
+    r = demo_runs["millrace-flats-low-head"]
+    umask = os.umask(0)
+    os.umask(umask)
+    assert r.book.stat().st_mode & 0o777 == 0o666 & ~umask
+    assert r.folder.stat().st_mode & 0o777 == 0o777 & ~umask
+
+
+# --------------------------------------------------------------------- text stays text
+INJECTIONS = [
+    # (site name, site note): each begins with a character a spreadsheet reads as a formula
+    ("=SUM(1,2)", "+1+2 planning note"),
+    ("-2+3 ridge site", "@SUM(A1:A2)"),
+]
+
+
+@pytest.mark.parametrize("name, note", INJECTIONS, ids=["equals-plus", "minus-at"])
+def test_formula_like_text_stays_text(tmp_path, name, note):
+    case = copy_demo("millrace-flats-low-head", tmp_path / "case")
+    edit_file(case / "site.toml", 'name = "Millrace Flats (invented low-head demo)"',
+              f"name = {json.dumps(name)}")
+    edit_file(case / "site.toml", 'note = "Invented site with a synthetic flow record, '
+              'bundled to demonstrate the tool."', f"note = {json.dumps(note)}")
+    book = tmp_path / "out" / "book.xlsx"
+    code, _, err = run_cli(["run", case, "--out", book, "--quiet"])
+    assert code == 0, err
+
+    ws = openpyxl.load_workbook(book)["Summary"]
+    for text in (name, note):
+        cells = [c for row in ws.iter_rows() for c in row if c.value == text]
+        assert cells, f"{text!r} not found on the Summary sheet"
+        assert all(c.data_type == "s" for c in cells), [c.coordinate for c in cells]
+    # every cell on any sheet that holds the name (titles, headers) is text too
+    wb = openpyxl.load_workbook(book)
+    for sheet in wb.worksheets:
+        for row in sheet.iter_rows():
+            for c in row:
+                if isinstance(c.value, str) and name in c.value:
+                    assert c.data_type == "s", f"{sheet.title}!{c.coordinate}"
+
+    summary = pd.read_csv(book.with_suffix("") / "summary.csv", dtype=str,
+                          keep_default_na=False)
+    values = dict(zip(summary["quantity"], summary["value"], strict=True))
+    assert values["site"] == name
+    assert values["note"] == note
