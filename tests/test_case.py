@@ -547,11 +547,9 @@ def test_malformed_case_raises_case_error(bad_case):
         load_case(folder)
 
 
-@pytest.mark.xfail(strict=True, reason="loader bug: CSV row numbers in messages do not count "
-                   "the '#' comment lines above the header, so 'row N' is not the file's row N "
-                   "in an editor or spreadsheet (off by the number of comment lines)")
 @pytest.mark.parametrize("bad", [b for b in CATALOGUE if b.csv_row], ids=lambda b: b.id)
 def test_csv_error_names_the_row_as_seen_in_the_file(bad, tmp_path):
+    """'row N' is line N of the file, counting the '#' comment lines and the header."""
     folder = copy_demo(bad.base, tmp_path)
     bad.mutate(folder)
     lines = (folder / bad.file).read_text(encoding="utf-8").splitlines()

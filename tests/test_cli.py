@@ -116,10 +116,6 @@ def test_csv_tables_read_back(demo_runs, name):
 
 #: Numeric columns that are labels or counts, not quantities: no unit expected.
 NO_UNIT = {"year", "month", "steps", "units running"}
-#: Dimensionless numbers written without "[-]" (see the xfail test below).
-KNOWN_UNITLESS = {"suitability score"}
-
-
 def _unitless_numeric_columns(folder: Path) -> list[str]:
     bad = []
     for f in sorted(folder.glob("*.csv")):
@@ -135,15 +131,7 @@ def _unitless_numeric_columns(folder: Path) -> list[str]:
 
 @pytest.mark.parametrize("name", DEMO_CASES)
 def test_csv_numeric_columns_carry_units(demo_runs, name):
-    bad = _unitless_numeric_columns(demo_runs[name].folder)
-    assert [b for b in bad if b.split(": ", 1)[1] not in KNOWN_UNITLESS] == []
-
-
-@pytest.mark.xfail(strict=True, reason="report tables: 'suitability score' in "
-                   "turbine_choice.csv is a dimensionless number written without '[-]', unlike "
-                   "'specific speed [-]'")
-def test_csv_dimensionless_columns_are_marked(demo_runs):
-    assert _unitless_numeric_columns(demo_runs["alder-gorge-high-head"].folder) == []
+    assert _unitless_numeric_columns(demo_runs[name].folder) == []
 
 
 def test_units_us_on_an_si_case(demo_runs):

@@ -110,3 +110,131 @@ def loss_function(case, route, props, points: int = 400):
         return c * q * a
 
     return head_loss
+
+
+# --------------------------------------------------------------------------- tables
+def _grade_table(route, gl, flow_names) -> pd.DataFrame:
+    n_flow, n_node = gl.energy.shape
+    return pd.DataFrame({
+        "flow case": np.repeat(flow_names, n_node),
+        "flow [m^3/s]": np.repeat(gl.flow, n_node),
+        "chainage [m]": np.tile(route.chainage, n_flow),
+        "point": np.tile(route.node_label, n_flow),
+        "pipe elevation [m]": np.tile(route.elevation, n_flow),
+        "energy grade line [m]": gl.energy.ravel(),
+        "hydraulic grade line [m]": gl.hydraulic.ravel(),
+        "velocity head [m]": gl.velocity_head.ravel(),
+        "pressure head [m]": gl.pressure_head.ravel(),
+    })
+
+
+def _profile_table(case, route) -> pd.DataFrame:
+    df = pd.DataFrame({"chainage [m]": case.profile["chainage"],
+                       "pipe elevation [m]": case.profile["elevation"]})
+    if "ground" in case.profile:
+        df["ground [m]"] = case.profile["ground"]
+    return df
+
+
+def _pressure_checks(case, route, gl, flow_names, atm_head, vap_head, warns):
+    rows, stretch_rows = [], []
+    pipe = ~route.is_reservoir
+    x = route.chainage[pipe]
+    for i, name in enumerate(flow_names):
+        q = float(gl.flow[i])
+        p = gl.pressure_head[i, pipe]
+        j = int(np.argmin(p))
+        rows.append({"flow case": name, "flow [m^3/s]": q,
+                     "minimum pressure head [m]": float(p[j]),
+                     "at chainage [m]": float(x[j]),
+                     "minimum absolute pressure head [m]": float(p[j] + atm_head),
+                     "vapour pressure head [m]": vap_head})
+        checks = [
+            ("sub-atmospheric", 0.0, "pressure head below zero (sub-atmospheric)"),
+            ("below margin", case.pressure_margin,
+             f"pressure head below the {case.pressure_margin:g} m margin"),
+            ("vapour pressure", vap_head - atm_head,
+             "absolute pressure at or below the vapour pressure: column separation"),
+        ]
+        for check, limit, text in checks:
+            for x0, x1, low, at in gradeline.flagged_stretches(x, p, limit):
+                stretch_rows.append({"flow case": name, "flow [m^3/s]": q, "check": check,
+                                     "from chainage [m]": x0, "to chainage [m]": x1,
+                                     "lowest pressure head [m]": low, "at chainage [m]": at})
+                if check == "below margin" and low < 0:
+                    continue  # reported as sub-atmospheric already
+                warns.append(Warning_("grade line", f"{text} from {x0:.1f} to {x1:.1f} m "
+                                      f"(lowest {low:.2f} m at {at:.1f} m) at the {name}",
+                                      chainage=at, flow=q))
+    stretch_cols = ["flow case", "flow [m^3/s]", "check", "from chainage [m]",
+                    "to chainage [m]", "lowest pressure head [m]", "at chainage [m]"]
+    return pd.DataFrame(rows), pd.DataFrame(stretch_rows, columns=stretch_cols)
+
+
+def _siphon_check(case, route, warns):
+    """Profile points above the minimum headwater make the pipe a siphon there."""
+    pipe = ~route.is_reservoir
+    above = route.elevation[pipe] > case.headwater_min
+    if above.any():
+        x = route.chainage[pipe][above]
+        warns.append(Warning_("route", f"the pipe rises above the minimum headwater level "
+                              f"({case.headwater_min:g} m) between {x.min():g} and {x.max():g} "
+                              "m: it runs as a siphon there, with sub-atmospheric pressure "
+                              "even at no flow, and needs priming and air release",
+                              chainage=float(x[0])))
+
+
+def _submergence(case, route, flows, flow_names, warns, methods, checks):
+    d0 = route.intake_diameter
+    v = flows / (np.pi * d0**2 / 4.0)
+    need = gradeline.submergence_gordon(v, d0, case.intake_approach)
+    have = case.headwater_min - (route.intake_elevation + d0 / 2.0)
+    checks["intake submergence available [m]"] = have
+    checks["intake submergence required [m]"] = need
+    methods.add("Intake submergence", f"Gordon's criterion S = c·V·√D ({case.intake_approach} "
+                "approach), at the minimum headwater level",
+                "Gordon, J.L. (1970). Vortices at intakes. Water Power 22(4), 137–138")
+    for q, name, s in zip(flows, flow_names, need):
+        if have < s and "after" not in name:
+            warns.append(Warning_("intake", f"intake crown submergence {have:.2f} m at minimum "
+                                  f"headwater is below the {s:.2f} m Gordon requires at the "
+                                  f"{name}: vortices may draw air", chainage=route.chainage[0],
+                                  flow=float(q)))
+
+
+def _loss_breakdown(case, route, gl, flow_names) -> pd.DataFrame:
+    gross = case.headwater - case.tailwater
+    groups = route.element_group
+    names = list(dict.fromkeys(groups))
+    cols = {}
+    for i, fname in enumerate(flow_names):
+        total = gl.friction_loss[i] + gl.local_loss[i]
+        per = np.array([total[[g == n for g in groups]].sum() for n in names])
+        q = gl.flow[i]
+        cols[(fname, q)] = per
+    rows = []
+    for k, n in enumerate(names):
+        kind = route.group_kind[n]
+        for (fname, q), per in cols.items():
+            rows.append({"component": n, "type": kind, "flow case": fname, "flow [m^3/s]": q,
+                         "head loss [m]": per[k], "share of gross head [%]": 100 * per[k] / gross})
+    for (fname, q), per in cols.items():
+        rows.append({"component": "total", "type": "all", "flow case": fname, "flow [m^3/s]": q,
+                     "head loss [m]": per.sum(),
+                     "share of gross head [%]": 100 * per.sum() / gross})
+    return pd.DataFrame(rows)
+
+
+#: Usual velocity range in steel penstocks at the design flow (common practice).
+VELOCITY_RANGE = (2.0, 6.0)
+
+
+def _velocity_checks(case, route, flows, flow_names, warns):
+    q = case.design_flow
+    for i, seg in enumerate(case.segments, start=1):
+        v = q / seg.area
+        lo, hi = VELOCITY_RANGE
+        if not lo <= v <= hi:
+            warns.append(Warning_("velocity", f"velocity {v:.2f} m/s in pipe {i} at the design "
+                                  f"flow is outside the usual {lo:g}–{hi:g} m/s range for "
+                                  "penstocks (common practice)", chainage=seg.start, flow=q))
