@@ -132,7 +132,15 @@ _HEADER = re.compile(r"^\s*([^\[\]]+?)\s*(?:\[\s*([^\[\]]*?)\s*\])?\s*$")
 _DIMENSIONLESS_UNITS = {"-", "1", "", "%"}
 
 
+#: Other names of the trade for a choice, offered as hints.
+ALIASES = {"banki": "crossflow", "banki-michell": "crossflow", "michell-banki": "crossflow",
+           "cross-flow": "crossflow", "cross_flow": "crossflow", "impulse": "pelton"}
+
+
 def _did_you_mean(word: str, options) -> str:
+    alias = ALIASES.get(str(word).strip().lower())
+    if alias in options:
+        return f"; did you mean '{alias}'?"
     close = difflib.get_close_matches(word, list(options), n=1, cutoff=0.6)
     return f"; did you mean '{close[0]}'?" if close else ""
 
@@ -188,9 +196,13 @@ class _Reader:
             return "the name of a CSV file inside the case folder"
         if f.kind == "integer":
             return "a whole number"
-        if f.kind == "flow_list":
-            return 'a list of flows, e.g. ["1.0 m^3/s", "2.0 m^3/s"]'
-        return f"a {units._describe(f.kind)} with its unit, e.g. {units._example(f.kind)}"
+        if f.kind.endswith("_list"):
+            example = {"flow_list": '["1.0 m^3/s", "2.0 m^3/s"]', "length_list": '["500 m"]',
+                       "time_list": '["5 s", "10 s"]'}[f.kind]
+            return f"a list, e.g. {example}"
+        what = units._describe(f.kind)
+        article = "an" if what[0] in "aeiou" else "a"
+        return f"{article} {what} with its unit, e.g. {units._example(f.kind)}"
 
     def _convert(self, raw, f: Field, key: str):
         kind = f.kind
@@ -209,19 +221,20 @@ class _Reader:
         if kind == "integer":
             if isinstance(raw, bool) or not isinstance(raw, int):
                 raise CaseError(self.file, key, f"{raw!r} is not a whole number")
-            self._range(float(raw), f, key)
+            self._range(float(raw), f, key, raw)
             return int(raw)
-        if kind == "flow_list":
+        if kind.endswith("_list"):
+            item_kind = kind[:-5]
             if not isinstance(raw, list):
                 raise CaseError(self.file, key, f"{raw!r} is not a list; expected "
                                 f"{self._expect(f)}")
             out = []
             for i, item in enumerate(raw):
                 try:
-                    q = units.parse_quantity(item, "flow")
+                    q = units.parse_quantity(item, item_kind)
                 except units.UnitError as exc:
                     raise CaseError(self.file, f"{key}[{i + 1}]", str(exc)) from None
-                if not q > 0:
+                if item_kind != "length" and not q > 0:
                     raise CaseError(self.file, f"{key}[{i + 1}]", f"{item!r} must be above zero")
                 out.append(q)
             return out
@@ -289,7 +302,11 @@ class _Reader:
             if not m:
                 raise CaseError(name, f"column '{col}'", "cannot read the header; expected "
                                 "'name [unit]', e.g. 'chainage [m]'")
-            headers[m.group(1).strip().lower()] = (col, m.group(2))
+            key = m.group(1).strip().lower()
+            if key in headers:
+                raise CaseError(name, f"column '{col}'", f"repeats the quantity of column "
+                                f"'{headers[key][0]}'; expected each quantity once")
+            headers[key] = (col, m.group(2))
         out = {}
         wanted = list(columns) + [(c, k) for c, k in optional]
         for cname, kind in wanted:
@@ -315,8 +332,11 @@ class _Reader:
         bad = values.isna()
         if bad.any():
             row = int(np.flatnonzero(bad.to_numpy())[0])
+            cell = series.iloc[row]
+            what = ("is empty" if cell is None or (isinstance(cell, float) and math.isnan(cell))
+                    or not str(cell).strip() else f"{cell!r} is not a number")
             raise CaseError(name, f"row {self.line(name, row)}, column '{col}'",
-                            f"{series.iloc[row]!r} is not a number")
+                            f"{what}; expected a number")
         arr = values.to_numpy(dtype=float)
         if not np.all(np.isfinite(arr)):
             row = int(np.flatnonzero(~np.isfinite(arr))[0])
@@ -496,8 +516,9 @@ def load_case(path) -> Case:
         levels["tailwater"], float(np.interp(float(record.max()), rating["flow"],
                                              rating["level"])))
     if tw_top >= hw_min:
-        raise CaseError(CASE_FILE, "levels", f"tailwater {tw_top:g} m is not below the "
-                        f"headwater {hw_min:g} m; expected headwater above tailwater")
+        raise CaseError(CASE_FILE, "levels", f"the highest tailwater {tw_top:g} m is not below "
+                        f"the minimum headwater {hw_min:g} m; expected headwater above "
+                        "tailwater")
     turbine = dict(turbine)
     if turbine["efficiency_table"] is not None:
         from .turbines import TURBINE_TYPES
@@ -505,6 +526,7 @@ def load_case(path) -> Case:
         minimum = (q_min * turbine["units"] / q_design if q_min is not None
                    else TURBINE_TYPES[turbine["type"]]["minimum_relative_flow"])
         turbine["efficiency_table"] = _efficiency_table(rd, turbine["efficiency_table"], minimum)
+    surge = _surge(rd, dict(values["surge"]), ch)
     draft = values.get("draft_tube")
     if draft is not None and turbine["type"] in ("pelton", "turgo", "crossflow"):
         raise CaseError(CASE_FILE, "[draft_tube]", f"is given for an impulse turbine "
@@ -524,7 +546,7 @@ def load_case(path) -> Case:
         gap_method=flows["gaps"], residual_monthly=list(flows["residual_monthly"]),
         residual_percent=flows["residual_percent"], firm_exceedance=flows["firm_exceedance"],
         turbine=turbine, draft_tube=draft, economics=values["economics"],
-        surge=values["surge"], echo=rd.echo,
+        surge=surge, echo=rd.echo,
     )
 
 
@@ -583,11 +605,15 @@ def _losses(doc: dict, rd: _Reader, chainage: np.ndarray) -> list[LocalLoss]:
     for i, t in enumerate(tables, start=1):
         where = f"loss {i}."
         kind = t.get("kind")
+        if kind is None:
+            raise CaseError(CASE_FILE, f"{where}kind", "is missing; expected one of " +
+                            ", ".join(fittings.LOSS_KINDS))
         if not isinstance(kind, str) or kind not in fittings.LOSS_KINDS:
             raise CaseError(CASE_FILE, f"{where}kind", f"{kind!r} is not a loss kind" +
                             (_did_you_mean(str(kind), fittings.LOSS_KINDS) or
                              "; expected one of " + ", ".join(fittings.LOSS_KINDS)))
-        extra = {name: (Field(name, dim, desc), default)
+        extra = {name: (Field(name, dim, desc, minimum=0.0,
+                               exclusive_minimum=dim in ("length", "area")), default)
                  for name, (dim, default, desc) in route.case_parameters(kind).items()}
         rd.check_keys(t, sec, where, allowed=extra)
         v = {f.name: rd.value("loss", t, f, where) for f in sec.fields}
@@ -633,7 +659,7 @@ def _flow_record(rd: _Reader, path: Path, gap_method: str) -> pd.Series:
     dup = idx.duplicated()
     if dup.any():
         row = int(np.flatnonzero(dup)[0])
-        raise CaseError(fname, f"row {rd.line(fname, row)}, column 'date'", f"date {idx[row]} appears "
+        raise CaseError(fname, f"row {rd.line(fname, row)}, column 'date'", f"date {idx[row]:%Y-%m-%d %H:%M} appears "
                         "twice; expected each date once")
     ns = idx.values.astype("datetime64[ns]").astype(np.int64)
     back = np.diff(ns) <= 0
@@ -652,8 +678,11 @@ def _flow_record(rd: _Reader, path: Path, gap_method: str) -> pd.Series:
     if len(full) != len(idx) or not full.equals(idx):
         missing = full.difference(idx)
         if gap_method == "refuse":
-            raise CaseError(fname, "column 'date'", f"{len(missing)} time steps are missing, the "
-                            f"first at {missing[0]}; fill the record or set "
+            shown = f"{missing[0]:%Y-%m-%d}" if step == pd.Timedelta(days=1) else \
+                f"{missing[0]:%Y-%m-%d %H:%M}"
+            steps_word = "time step is" if len(missing) == 1 else "time steps are"
+            raise CaseError(fname, "column 'date'", f"{len(missing)} {steps_word} missing, the "
+                            f"first at {shown}; fill the record or set "
                             "flows.gaps = \"linear\" in site.toml")
         series = series.reindex(full).interpolate(method="time")
         rd.echo.append({"section": "flows", "key": "flows.record gaps",
@@ -768,3 +797,37 @@ def _efficiency_table(rd: _Reader, path: Path, minimum_relative_flow=None) -> np
                     "value (SI)": f"{len(df)} points, best {e.max():.3f}", "SI unit": "-",
                     "source": name})
     return table
+
+
+def _surge(rd: _Reader, surge: dict, chainage: np.ndarray) -> dict:
+    """Consistency of the water-hammer settings; reads the closure table."""
+    law = surge["closure_law"]
+    if law == "two_stage":
+        for key in ("knee_time", "knee_opening"):
+            if surge[key] is None:
+                raise CaseError(CASE_FILE, f"surge.{key}", "is missing; a two_stage closure "
+                                "needs knee_time and knee_opening")
+        if surge["knee_time"] >= surge["closure_time"]:
+            raise CaseError(CASE_FILE, "surge.knee_time", f"{surge['knee_time']:g} s is not "
+                            f"before the closure time {surge['closure_time']:g} s")
+    if law == "table":
+        if surge["closure_table"] is None:
+            raise CaseError(CASE_FILE, "surge.closure_table", "is missing; a table closure "
+                            "needs a CSV of opening against time")
+        path = surge["closure_table"]
+        df = rd.table(path, (("time", "time"), ("opening", "fraction")))
+        t, o = df["time"].to_numpy(), df["opening"].to_numpy()
+        if t[0] != 0 or np.any(np.diff(t) <= 0):
+            raise CaseError(path.name, "column 'time'", "must start at 0 and increase")
+        if np.any((o < 0) | (o > 1)) or np.any(np.diff(o) > 0):
+            row = int(np.flatnonzero((o < 0) | (o > 1) | np.concatenate([[False],
+                                                                         np.diff(o) > 0]))[0])
+            raise CaseError(path.name, f"row {rd.line(path.name, row)}, column 'opening'",
+                            "opening must lie in 0..1 and never rise during a closure")
+        surge["closure_table"] = (t, o)
+        surge["closure_time"] = float(t[np.argmax(o <= o[-1])])
+    for i, x in enumerate(surge["record_at"]):
+        if not chainage[0] <= x <= chainage[-1]:
+            raise CaseError(CASE_FILE, f"surge.record_at[{i + 1}]", f"chainage {x:g} m is off "
+                            f"the route ({chainage[0]:g} to {chainage[-1]:g} m)")
+    return surge

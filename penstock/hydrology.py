@@ -442,7 +442,7 @@ def available_flow(river_flow, residual, plant_max, plant_min):
     released = np.minimum(requirement, river)
     surplus = river - released
     turbined = np.minimum(surplus, plant_max)
-    turbined = np.where(turbined < plant_min, 0.0, turbined)
+    turbined = np.where(turbined < plant_min * (1.0 - 1e-9), 0.0, turbined)  # rounding-safe
     spill = np.maximum(surplus - turbined, 0.0)
     return FlowAllocation(_same_kind(river_flow, turbined, "turbined_flow"),
                           _same_kind(river_flow, spill, "spill_flow"),

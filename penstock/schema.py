@@ -5,7 +5,7 @@ the template written by ``penstock new`` and the reference in the README.
 Defaults are written the way a user would write them, with their unit.
 
 Kinds are those of :data:`penstock.units.SI_UNITS`, plus ``text``, ``choice``,
-``file``, ``integer``, ``boolean`` and ``flow_list``.
+``file``, ``integer`` and lists: ``flow_list``, ``length_list``, ``time_list``.
 """
 
 from __future__ import annotations
@@ -191,15 +191,42 @@ SECTIONS: tuple[Section, ...] = (
         Field("life", "age", "Economic life.", default="40 year", minimum=0.0,
               exclusive_minimum=True, maximum=200.0),
     ), required=False),
-    Section("surge", "Water hammer settings.", (
-        Field("closure_time", "time", "Effective closure time of the turbine gates or valve "
-              "on load rejection.", default="10 s", minimum=0.0, exclusive_minimum=True),
-        Field("pipe_modulus", "stress", "Young's modulus of the pipe wall, for the wave speed.",
-              default="207 GPa", minimum=1e8, maximum=5e11),
-        Field("wave_speed", "velocity", "Pressure wave speed; overrides the Korteweg value.",
-              optional=True, minimum=100.0, maximum=1500.0),
+    Section("surge", "Water hammer settings: a load rejection from the design flow (and any "
+            "listed flow) closes the turbine gates or valve at the end of the penstock.", (
+        Field("closure_time", "time", "Effective closure time of the turbine gates, nozzle or "
+              "valve on load rejection.", default="10 s", minimum=0.0, exclusive_minimum=True),
+        Field("closure_law", "choice", "How the opening falls with time: linear, two_stage "
+              "(fast to a knee, then slow), or a table of opening against time.",
+              default="linear", choices=("linear", "two_stage", "table")),
+        Field("knee_time", "time", "two_stage: time of the knee.", optional=True, minimum=0.0,
+              exclusive_minimum=True),
+        Field("knee_opening", "fraction", "two_stage: relative opening at the knee.",
+              optional=True, minimum=0.0, maximum=1.0),
+        Field("closure_table", "file", "table law: CSV of relative opening against time.",
+              optional=True, columns=(("time", "time"), ("opening", "fraction"))),
+        Field("pipe_modulus", "stress", "Young's modulus of the pipe wall; defaults to the "
+              "material's value.", optional=True, minimum=1e8, maximum=5e11),
+        Field("poisson_ratio", "dimensionless", "Poisson ratio of the pipe wall.",
+              default=0.3, minimum=0.0, maximum=0.5),
+        Field("restraint", "choice", "Axial restraint of the pipe, for the wave speed "
+              "(Wylie & Streeter's three cases).", default="expansion_joints",
+              choices=("expansion_joints", "anchored", "upstream_anchor")),
+        Field("air_content", "fraction", "Free air as a volume fraction of the water; lowers "
+              "the wave speed.", default="0 %", minimum=0.0, maximum=0.05),
+        Field("wave_speed", "velocity", "Pressure wave speed; overrides the computed value "
+              "for every segment.", optional=True, minimum=100.0, maximum=1500.0),
         Field("allowable_rise", "fraction", "Largest acceptable transient rise as a fraction "
-              "of the static head.", default="30 %", minimum=0.0, exclusive_minimum=True),
+              "of the static head at the turbine.", default="30 %", minimum=0.0,
+              exclusive_minimum=True),
+        Field("rejection_flows", "flow_list", "Further initial flows to reject, besides the "
+              "design flow.", default=[]),
+        Field("record_at", "length_list", "Chainages where the head history is recorded.",
+              default=[]),
+        Field("study_closure_times", "time_list", "Closure times of the closure-time study; "
+              "default: eight times from 0.5 to 8 pipe periods 2L/a.", default=[]),
+        Field("inertia", "moment_of_inertia", "Rotating inertia (turbine + generator) of one "
+              "unit, for the mechanical starting time.", optional=True, minimum=0.0,
+              exclusive_minimum=True),
     ), required=False),
 )
 
@@ -214,8 +241,8 @@ def reference_markdown() -> str:
     from . import route, units
 
     def unit_of(f: Field) -> str:
-        if f.kind in ("text", "choice", "file", "integer", "flow_list"):
-            return {"flow_list": "flow (list)"}.get(f.kind, f.kind)
+        if f.kind in ("text", "choice", "file", "integer") or f.kind.endswith("_list"):
+            return f.kind.replace("_list", " (list)")
         si = units.SI_UNITS.get(f.kind, "")
         return f"{f.kind} [{si}]" if si else "number"
 

@@ -397,7 +397,9 @@ def turbine_efficiency(relative_flow, turbine_type="francis", table=None,
         raise ValueError(f"relative_flow: {x.ravel()[i]} at {_position(relative_flow, i)} "
                          f"exceeds the end of the efficiency curve ({xs[-1]}); cap the flow "
                          f"per unit at the rated flow")
-    eta = np.where(x < x_min, 0.0, np.interp(x, xs, etas))
+    # a relative tolerance keeps a flow computed as exactly the minimum (in any unit
+    # system) on the running side of it
+    eta = np.where(x < x_min * (1.0 - 1e-9), 0.0, np.interp(x, xs, etas))
     return _same_kind(relative_flow, eta, "efficiency")
 
 

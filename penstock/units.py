@@ -111,18 +111,18 @@ def parse_quantity(value, kind: str) -> float:
     ureg = registry()
     si = SI_UNITS[kind]
     if isinstance(value, bool):
-        raise UnitError(f"expected a {_describe(kind)}, got {value!r}")
+        raise UnitError(f"expected {_a(kind)}, got {value!r}")
     if isinstance(value, (int, float)):
         if si == "":
             return float(value)
-        raise UnitError(f"{value!r} has no unit; expected a {_describe(kind)}, e.g. {_example(kind)}")
+        raise UnitError(f"{value!r} has no unit; expected {_a(kind)}, e.g. {_example(kind)}")
     if not isinstance(value, str):
         raise UnitError(f"expected text with a unit such as {_example(kind)}, got {value!r}")
     text = value.strip()
     if not text:
-        raise UnitError(f"is empty; expected a {_describe(kind)}, e.g. {_example(kind)}")
+        raise UnitError(f"is empty; expected {_a(kind)}, e.g. {_example(kind)}")
     if _NUMBER_ONLY.match(text) and si != "":
-        raise UnitError(f"'{text}' has no unit; expected a {_describe(kind)}, e.g. {_example(kind)}")
+        raise UnitError(f"'{text}' has no unit; expected {_a(kind)}, e.g. {_example(kind)}")
     try:
         q = ureg.Quantity(text)
     except Exception as exc:  # pint raises several unrelated exception types
@@ -131,7 +131,7 @@ def parse_quantity(value, kind: str) -> float:
     if not isinstance(q, ureg.Quantity):
         q = ureg.Quantity(float(q))
     if q.dimensionality != _dimensionality(kind):
-        raise UnitError(f"'{text}' is not a {_describe(kind)} (its dimension is "
+        raise UnitError(f"'{text}' is not {_a(kind)} (its dimension is "
                         f"{q.dimensionality}); expected e.g. {_example(kind)}")
     try:
         out = float(q.to(si).magnitude) if si else float(q.to("dimensionless").magnitude)
@@ -156,6 +156,12 @@ def _example(kind: str) -> str:
     return _EXAMPLES.get(kind, SI_UNITS[kind])
 
 
+def _a(kind: str) -> str:
+    """The description of a kind with its article ("a length", "an area")."""
+    what = _describe(kind)
+    return f"{'an' if what[0] in 'aeiou' else 'a'} {what}"
+
+
 def _describe(kind: str) -> str:
     return {
         "flow": "flow rate", "dimensionless": "number", "fraction": "fraction",
@@ -177,7 +183,7 @@ def parse_unit(text: str, kind: str) -> str:
     except Exception:
         raise UnitError(f"unknown unit '{text}'; expected e.g. {_example(kind)}") from None
     if q.dimensionality != _dimensionality(kind):
-        raise UnitError(f"unit '{text}' is not a {_describe(kind)}; expected e.g. {_example(kind)}")
+        raise UnitError(f"unit '{text}' is not {_a(kind)}; expected e.g. {_example(kind)}")
     return text
 
 

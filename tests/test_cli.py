@@ -246,9 +246,6 @@ def test_internal_error_exits_1_without_traceback(tmp_path, monkeypatch):
     assert list(tmp_path.iterdir()) == []
 
 
-@pytest.mark.xfail(strict=True, reason="report writer bug: the workbook comes from "
-                   "tempfile.mkstemp (mode 0600) and the folder from mkdtemp (mode 0700), so "
-                   "the reports ignore the umask and other users cannot read them")
 def test_reports_have_ordinary_permissions(demo_runs):
     r = demo_runs["millrace-flats-low-head"]
     umask = os.umask(0)

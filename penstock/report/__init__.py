@@ -62,9 +62,14 @@ def write_reports(results, workbook_path, system: str | None = None) -> dict:
     fd, tmp_book = tempfile.mkstemp(prefix=f".{book.stem}.", suffix=".tmp.xlsx",
                                     dir=book.parent)
     os.close(fd)
+    umask = os.umask(0)
+    os.umask(umask)
     try:
         write_workbook(results, tmp_book, system)
         files = write_tables(results, tmp_dir, system) + write_figures(results, tmp_dir, system)
+        # temporary files are private (0600/0700); give the reports the user's usual mode
+        os.chmod(tmp_book, 0o666 & ~umask)
+        os.chmod(tmp_dir, 0o777 & ~umask)
         old = None
         if folder.exists():
             old = Path(tempfile.mkdtemp(prefix=f".{folder.name}.old.", dir=book.parent))
