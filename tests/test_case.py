@@ -472,7 +472,7 @@ CATALOGUE = [
     Bad("flow-gap-refused", ALDER, lambda d: (edit_file(d / "flows.csv", FLOW_ROW + "\n", ""),
                                               edit_file(d / TOML, "[flows]\n",
                                                         '[flows]\ngaps = "refuse"\n')),
-        "flows.csv", ("1 time steps are missing", "2008-01-03", 'flows.gaps = "linear"')),
+        "flows.csv", ("1 time step is missing", "2008-01-03", 'flows.gaps = "linear"')),
     Bad("flow-record-not-daily", ALDER,
         _put("flows.csv", "date,flow [m^3/s]\n2008-01-01,1\n2008-01-08,2\n2008-01-15,3\n"),
         "flows.csv", ("column 'date'", "daily or hourly")),
@@ -491,7 +491,7 @@ CATALOGUE = [
         TOML, ("loss 1.rack_area", "out of range")),
     Bad("tailwater-rating-above-headwater", MILLRACE,
         _put("tailwater.csv", "flow [m^3/s],level [m]\n0,112.0\n200,115.0\n"), TOML,
-        ("levels", "not below the headwater")),
+        ("levels", "not below the minimum headwater")),
 ]
 
 assert len({b.id for b in CATALOGUE}) == len(CATALOGUE)
