@@ -223,7 +223,8 @@ SECTIONS: tuple[Section, ...] = (
         Field("record_at", "length_list", "Chainages where the head history is recorded.",
               default=[]),
         Field("study_closure_times", "time_list", "Closure times of the closure-time study; "
-              "default: eight times from 0.5 to 8 pipe periods 2L/a.", default=[]),
+              "default: nine times, geometrically spaced from half a pipe period 2L/a to the "
+              "larger of 8 periods and twice the closure time.", default=[]),
         Field("inertia", "moment_of_inertia", "Rotating inertia (turbine + generator) of one "
               "unit, for the mechanical starting time.", optional=True, minimum=0.0,
               exclusive_minimum=True),

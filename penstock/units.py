@@ -137,6 +137,10 @@ def parse_quantity(value, kind: str) -> float:
         out = float(q.to(si).magnitude) if si else float(q.to("dimensionless").magnitude)
     except Exception:
         raise UnitError(f"cannot convert '{text}' to {si}") from None
+    if kind == "temperature":
+        # °F -> °C leaves float noise (50 °F -> 10.000000000000057 °C); the water-property
+        # solvers turn it into 1e-10 differences, so keep temperatures to 1e-9 degC
+        out = round(out, 9)
     return out
 
 

@@ -147,6 +147,8 @@ TO_US = {
     "GPa": ("psi", lambda v: v * 1e9 / PSI),
     "m/s": ("ft/s", lambda v: v / FOOT),
     "mm/year": ("in/year", lambda v: v / 1000.0 / INCH),
+    # the international pound 0.45359237 kg exactly (NIST SP 811, B.8)
+    "kg*m^2": ("lb*ft^2", lambda v: v / 0.45359237 / FOOT**2),
 }
 TO_SI = {
     "ft": ("m", lambda v: v * FOOT),
@@ -158,6 +160,7 @@ TO_SI = {
     "psi": ("Pa", lambda v: v * PSI),
     "ft/s": ("m/s", lambda v: v * FOOT),
     "in/year": ("mm/year", lambda v: v * INCH * 1000.0),
+    "lb*ft^2": ("kg*m^2", lambda v: v * 0.45359237 * FOOT**2),
 }
 
 

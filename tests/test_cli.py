@@ -115,7 +115,7 @@ def test_csv_tables_read_back(demo_runs, name):
 
 
 #: Numeric columns that are labels or counts, not quantities: no unit expected.
-NO_UNIT = {"year", "month", "steps", "units running"}
+NO_UNIT = {"year", "month", "steps", "units running", "pipe"}
 def _unitless_numeric_columns(folder: Path) -> list[str]:
     bad = []
     for f in sorted(folder.glob("*.csv")):

@@ -17,7 +17,7 @@ import pandas as pd
 
 from .. import __version__, water
 from .core import STANDING_CAUTION, TABLE_ORDER, Methods, Results, Warning_
-from . import production, steady
+from . import hammer, production, steady
 
 __all__ = ["STANDING_CAUTION", "TABLE_ORDER", "Results", "Warning_", "run_case"]
 
@@ -51,8 +51,9 @@ def run_case(case, progress=None) -> Results:
 
     st = steady.run(case, props, warns, methods, tick)
     prod = production.run(case, props, st, warns, methods, tick)
+    ham = hammer.run(case, props, st, prod, warns, methods, tick)
 
-    headline = {**prod["headline"], "density": props.density,
+    headline = {**prod["headline"], **ham["headline"], "density": props.density,
                 "min_pressure_head": float(st["pressure_checks"]["minimum pressure head [m]"]
                                            .min())}
     tick("cautions")
@@ -60,7 +61,7 @@ def run_case(case, progress=None) -> Results:
         [{"severity": w.severity, "topic": w.topic, "message": w.message,
           "chainage [m]": w.chainage, "flow [m^3/s]": w.flow} for w in warns],
         columns=["severity", "topic", "message", "chainage [m]", "flow [m^3/s]"])
-    tables = {k: v for k, v in {**st, **prod}.items() if isinstance(v, pd.DataFrame)}
+    tables = {k: v for k, v in {**st, **prod, **ham}.items() if isinstance(v, pd.DataFrame)}
     return Results(
         case=case, run_date=_dt.date.today().isoformat(), version=__version__,
         summary=_summary(case, props, headline, st["route"]), inputs=pd.DataFrame(case.echo),
@@ -83,6 +84,11 @@ def _summary(case, props, h, route) -> pd.DataFrame:
          h["firm_power"] / 1e3, "kW"),
         ("energy lost to penstock friction, mean annual", h["friction_energy"] / 3.6e9, "MWh"),
         ("minimum steady pressure head", h["min_pressure_head"], "m"),
+        ("maximum transient rise on load rejection", h["max_surge_rise"], "m"),
+        ("minimum transient pressure head along the route", h["min_transient_pressure_head"],
+         "m"),
+        ("shortest closure keeping the rise within the allowable", h["shortest_closure"], "s"),
+        ("water starting time", h["water_starting_time"], "s"),
         ("penstock length", float(route.length.sum()), "m"),
         ("water temperature", case.temperature, "degC"),
         ("water density", props.density, "kg/m^3"),

@@ -56,6 +56,12 @@ TABLE_ORDER = {
     "turbine_choice": "turbine_choice",
     "turbine_setting": "turbine_setting",
     "draft_tube": "draft_tube",
+    "surge_checks": "water_hammer_checks",
+    "wave_speeds": "wave_speeds",
+    "transient_envelope": "transient_envelope",
+    "valve_history": "turbine_head_history",
+    "closure_study": "closure_time_study",
+    "design_pressure": "design_pressure_line",
     "warnings": "cautions",
     "methods": "methods",
 }
@@ -88,6 +94,12 @@ class Results:
     turbine_choice: pd.DataFrame | None = None
     turbine_setting: pd.DataFrame | None = None
     draft_tube: pd.DataFrame | None = None
+    surge_checks: pd.DataFrame | None = None
+    wave_speeds: pd.DataFrame | None = None
+    transient_envelope: pd.DataFrame | None = None
+    valve_history: pd.DataFrame | None = None
+    closure_study: pd.DataFrame | None = None
+    design_pressure: pd.DataFrame | None = None
     headline: dict = field(default_factory=dict)
 
     def tables(self) -> dict[str, pd.DataFrame]:

@@ -121,14 +121,57 @@ def design_flow_figure(results, system: str):
     return fig
 
 
+def hammer_figure(results, system: str):
+    """Transient envelopes over the route, the head history, and the closure-time study."""
+    lu = _units.label(report_unit("m", system))
+    env = results.transient_envelope
+    env = env[env["rejection from"] == "design flow"]
+    cv = lambda v: np.asarray(convert_value(np.asarray(v, float), "m", system))  # noqa: E731
+    fig, axes = plt.subplots(1, 3, figsize=(16, 5), dpi=110)
+    a1, a2, a3 = axes
+    x = cv(env["chainage [m]"])
+    a1.plot(x, cv(env["pipe elevation [m]"]), "k", lw=2, label="pipe")
+    a1.plot(x, cv(env["static line [m]"]), color="0.5", ls="--", label="static line")
+    a1.plot(x, cv(env["steady hydraulic grade line [m]"]), color="C0", label="steady HGL")
+    a1.plot(x, cv(env["maximum head [m]"]), color="C3", label="maximum head")
+    a1.plot(x, cv(env["minimum head [m]"]), color="C2", label="minimum head")
+    a1.set_xlabel(f"chainage [{lu}]")
+    a1.set_ylabel(f"head [{lu}]")
+    a1.set_title("Envelopes, rejection from the design flow")
+    a1.legend(fontsize=8)
+    h = results.valve_history
+    a2.plot(h["time [s]"], cv(h["head at the turbine [m]"]), color="C3", label="at the turbine")
+    for col in h.columns[4:]:
+        a2.plot(h["time [s]"], cv(h[col]), lw=1, label=col.split(" [")[0].replace("head ", ""))
+    a2.set_xlabel("time [s]")
+    a2.set_ylabel(f"head [{lu}]")
+    a2.set_title("Head history")
+    a2.legend(fontsize=8)
+    c = results.closure_study
+    a3.plot(c["closure time [s]"], cv(c["maximum head rise [m]"]), "o-", color="C3",
+            label="maximum head rise")
+    allow = results.case.surge["allowable_rise"] * float(
+        results.surge_checks.set_index("quantity").loc["static head at the turbine", "value"])
+    a3.axhline(float(cv(allow)), color="C3", ls=":", label="allowable rise")
+    a3.set_xlabel("closure time [s]")
+    a3.set_ylabel(f"head rise [{lu}]")
+    a3.set_title("Closure-time study")
+    a3.legend(fontsize=8)
+    for a in axes:
+        a.grid(True, alpha=0.3)
+    fig.suptitle(results.case.name, fontsize=10)
+    fig.tight_layout()
+    return fig
+
+
 FIGURES = {"route_profile": route_figure, "loss_breakdown": loss_figure,
            "duration_curves": duration_figure, "monthly_energy": monthly_energy_figure,
-           "design_flow_study": design_flow_figure}
+           "design_flow_study": design_flow_figure, "water_hammer": hammer_figure}
 
 
 #: Figures that need a table of a stage that may not have run.
 NEEDS = {"duration_curves": "flow_duration", "monthly_energy": "energy_monthly",
-         "design_flow_study": "design_flow_study"}
+         "design_flow_study": "design_flow_study", "water_hammer": "transient_envelope"}
 
 
 def write_figures(results, folder, system: str) -> list[str]:

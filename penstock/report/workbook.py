@@ -19,6 +19,7 @@ from ..constants import GRAVITY
 from ..model import STANDING_CAUTION
 from . import energy_sheets as es
 from . import sheets as sh
+from .hammer_sheet import hammer_sheet
 from .units import convert_table, convert_value, report_unit
 
 #: Sheet names, in reading order (plain trade terms).
@@ -32,6 +33,7 @@ SHEET_NAMES = {
     "energy": "Energy by year and month",
     "design_flow": "Design-flow study",
     "turbine": "Turbine setting",
+    "hammer": "Water hammer",
     "cautions": "Cautions",
     "methods": "Methods and sources",
 }
@@ -63,6 +65,8 @@ def write_workbook(results, path, system: str | None = None) -> None:
         es.energy_sheet(wb.create_sheet(SHEET_NAMES["energy"]), ctx, _title)
         es.design_flow_sheet(wb.create_sheet(SHEET_NAMES["design_flow"]), ctx, _title)
         es.turbine_sheet(wb.create_sheet(SHEET_NAMES["turbine"]), ctx, _title)
+    if results.surge_checks is not None:
+        hammer_sheet(wb.create_sheet(SHEET_NAMES["hammer"]), ctx, _title)
     _cautions_sheet(wb.create_sheet(SHEET_NAMES["cautions"]), ctx)
     _methods_sheet(wb.create_sheet(SHEET_NAMES["methods"]), ctx)
     props = wb.properties

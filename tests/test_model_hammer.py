@@ -1,0 +1,131 @@
+"""The water-hammer stage on the demo cases, against the steady stage and hand formulas.
+
+References: Joukowsky's rise a·ΔV/g and Michaud's 2LV/(gTc) as in Wylie & Streeter,
+Fluid Transients in Systems (1993), ch. 1 (from memory); the method-of-characteristics
+solver itself is checked against them in tests/test_transients.py.
+"""
+
+import math
+import re
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+import penstock
+from penstock.constants import GRAVITY
+
+CASES = Path(__file__).resolve().parents[1] / "cases"
+
+
+@pytest.fixture(scope="module")
+def alder():
+    case = penstock.load_case(CASES / "alder-gorge-high-head")
+    return case, penstock.run_case(case)
+
+
+def _check(r, name):
+    return float(r.surge_checks.set_index("quantity").loc[name, "value"])
+
+
+def test_steady_state_before_closure_matches_the_steady_stage(alder):
+    # local losses are folded into the segments' friction factors, so the MOC steady head
+    # at the turbine equals the steady stage's energy line there (the MOC carries no
+    # velocity head)
+    case, r = alder
+    env = r.transient_envelope[r.transient_envelope["rejection from"] == "design flow"]
+    gl = r.grade_lines[r.grade_lines["flow case"] == "design flow"]
+    assert env["steady hydraulic grade line [m]"].iloc[-1] == pytest.approx(
+        gl["energy grade line [m]"].iloc[-1], rel=1e-9)
+    assert env["steady hydraulic grade line [m]"].iloc[0] == pytest.approx(case.headwater)
+
+
+def test_joukowsky_and_michaud_by_hand(alder):
+    case, r = alder
+    a, v = r.headline["joukowsky_inputs"]
+    seg = case.segments[-1]
+    assert v == pytest.approx(case.design_flow / seg.area, rel=1e-12)
+    assert _check(r, "Joukowsky rise a·ΔV/g, full instant closure") == pytest.approx(
+        a * v / GRAVITY, rel=1e-12)
+    wave = r.wave_speeds
+    length = _check(r, "pipe length along the route")
+    tc = case.surge["closure_time"]
+    v_mean = sum(case.design_flow / s.area * L for s, L in zip(
+        case.segments, _segment_lengths(r, case))) / length
+    assert _check(r, "Michaud rise 2·L·V/(g·Tc)") == pytest.approx(
+        2 * length * v_mean / (GRAVITY * tc), rel=1e-9)
+    assert _check(r, "wave travel time Σ L/a") == pytest.approx(
+        sum(L / a for L, a in zip(_segment_lengths(r, case), wave["wave speed [m/s]"])),
+        rel=1e-12)
+
+
+def _segment_lengths(r, case):
+    gl = r.grade_lines[r.grade_lines["flow case"] == "design flow"]
+    x = gl["chainage [m]"].to_numpy()
+    z = gl["pipe elevation [m]"].to_numpy()
+    seg_len = np.hypot(np.diff(x), np.diff(z))
+    mid = 0.5 * (x[1:] + x[:-1])
+    return [float(seg_len[(mid > s.start) & (mid < s.end)].sum()) for s in case.segments]
+
+
+def test_slow_closure_rise_is_of_michaud_order(alder):
+    # for a slow linear closure the simulated rise lies below Michaud's (which assumes the
+    # velocity falls linearly at the valve) and above a tenth of it (common practice)
+    _, r = alder
+    rise = _check(r, "simulated maximum transient rise (largest at any node)")
+    michaud = _check(r, "Michaud rise 2·L·V/(g·Tc)")
+    assert 0.1 * michaud < rise <= 1.05 * michaud
+
+
+def test_shortest_closure_meets_the_limit(alder):
+    case, r = alder
+    t = r.headline["shortest_closure"]
+    assert t is not None
+    allowable = _check(r, "allowable rise")
+    cs = r.closure_study
+    rise_at_t = np.interp(t, cs["closure time [s]"], cs["maximum head rise [m]"])
+    assert rise_at_t == pytest.approx(allowable, rel=1e-9)
+    assert allowable == pytest.approx(case.surge["allowable_rise"] * (
+        case.headwater - case.profile["elevation"].iloc[-1]), rel=1e-12)
+    # longer closures give smaller rises
+    assert np.all(np.diff(cs["maximum head rise [m]"]) < 0)
+
+
+def test_design_pressure_line_is_static_plus_rise(alder):
+    case, r = alder
+    env = r.transient_envelope[r.transient_envelope["rejection from"] == "design flow"]
+    static = case.headwater - env["pipe elevation [m]"]
+    np.testing.assert_allclose(env["design pressure head [m]"],
+                               static + env["maximum transient rise [m]"], rtol=1e-12)
+    assert np.all(r.design_pressure["design pressure head [m]"] >= static.to_numpy() - 1e-9)
+
+
+def test_down_surge_at_the_high_point_is_flagged(alder):
+    # the steady grade line clears the high point at 1,250 m; the down-surge does not
+    _, r = alder
+    msgs = [m for m in r.warnings["message"] if "down-surge" in m]
+    assert msgs
+    start, end = (float(v) for v in re.search(r"from ([\d.]+) to ([\d.]+) m", msgs[0]).groups())
+    assert start < 1250.0 < end
+    steady_min = r.pressure_checks.set_index("flow case").loc["design flow",
+                                                              "minimum pressure head [m]"]
+    assert steady_min > 0 > r.headline["min_transient_pressure_head"]
+
+
+def test_mechanical_starting_time_by_hand(alder):
+    case, r = alder
+    omega = r.headline["speed"] * 2 * math.pi / 60
+    p = r.headline["installed_capacity"] / case.turbine["units"]
+    assert _check(r, "mechanical starting time Tm = J·ω²/P") == pytest.approx(
+        case.surge["inertia"] * omega**2 / p, rel=1e-12)
+
+
+def test_closure_study_contains_the_case_closure(alder):
+    # the study runs the case's own closure time too: its row must equal the main run
+    case, r = alder
+    cs = r.closure_study.set_index("closure time [s]")
+    row = cs.loc[case.surge["closure_time"]]
+    assert row["maximum head rise [m]"] == pytest.approx(
+        r.headline["max_surge_rise"], rel=1e-12)
+    assert row["minimum head along the route [m]"] == pytest.approx(
+        _check(r, "simulated minimum head along the route"), rel=1e-12)
