@@ -100,6 +100,9 @@ class Case:
     draft_tube: dict | None
     economics: dict
     surge: dict
+    wall: dict = field(default_factory=dict)
+    costs: dict = field(default_factory=dict)
+    diameter_study: dict = field(default_factory=dict)
     echo: list[dict] = field(default_factory=list)
 
     @property
@@ -546,7 +549,8 @@ def load_case(path) -> Case:
         gap_method=flows["gaps"], residual_monthly=list(flows["residual_monthly"]),
         residual_percent=flows["residual_percent"], firm_exceedance=flows["firm_exceedance"],
         turbine=turbine, draft_tube=draft, economics=values["economics"],
-        surge=surge, echo=rd.echo,
+        surge=surge, wall=values["wall"], costs=values["costs"],
+        diameter_study=values["diameter_study"], echo=rd.echo,
     )
 
 

@@ -28,6 +28,12 @@ examples:
   penstock check cases/millrace-flats-low-head
   penstock check my-site && echo "inputs are valid"
 """,
+    "compare": """\
+examples:
+  penstock compare cases/alder-gorge-high-head --diameters 1.0,1.1,1.2
+  penstock compare cases/cedar-fork-us-units --diameters "60 in,66 in,72 in" --out cmp.xlsx
+  penstock compare cases/alder-gorge-high-head my-variant --out variants.xlsx
+""",
     "new": """\
 examples:
   penstock new my-site          # then edit my-site/site.toml and its CSV files
@@ -95,6 +101,103 @@ def cmd_run(args) -> int:
     return 0
 
 
+def _diameters(text: str, case) -> list[float]:
+    """``"1.2,1.4"`` (the case's length unit) or ``"48 in, 54 in"`` -> metres."""
+    from . import units
+    from .report.units import report_unit
+
+    default = report_unit("m", case.unit_system)
+    out = []
+    for item in text.split(","):
+        item = item.strip()
+        if not item:
+            continue
+        try:
+            value = float(item)
+            item = f"{value} {default}"
+        except ValueError:
+            pass
+        try:
+            d = units.parse_quantity(item, "length")
+        except units.UnitError as exc:
+            raise CaseError("--diameters", "", f"{exc}") from None
+        if not d > 0:
+            raise CaseError("--diameters", "", f"'{item}' is not above zero; expected "
+                            "positive diameters")
+        out.append(d)
+    if not out:
+        raise CaseError("--diameters", "", "no diameter given; expected e.g. 1.2,1.4,1.6")
+    return out
+
+
+def cmd_compare(args) -> int:
+    import atexit
+    import os
+    import tempfile
+
+    import pandas as pd
+
+    from .model import run_case
+    from .report import ReportError
+    from .report.compare import case_comparison, diameter_comparison, write_comparison_workbook
+
+    cases = [load_case(c) for c in args.case]
+    if args.diameters and len(cases) > 1:
+        raise CaseError("--diameters", "", "compares the diameters of one case; give one case "
+                        "folder, or leave --diameters out to compare several cases")
+    if not args.diameters and len(cases) < 2:
+        raise CaseError("--diameters", "", "is missing; give --diameters for one case, or "
+                        "two or more case folders")
+    tick, close = _progress(args.quiet)
+    try:
+        if args.diameters:
+            case = cases[0]
+            case.diameter_study = {**case.diameter_study,
+                                   "candidates": _diameters(args.diameters, case)}
+            results = run_case(case, progress=tick)
+            if results.diameter_candidates is None:
+                raise CaseError(case.slug, "", "the diameter study does not apply to this case "
+                                "(see its cautions)")
+            system = args.units or case.unit_system
+            table = diameter_comparison(results, system)
+            title = f"Diameter comparison - {case.name}"
+            notes = [f"Uniform inside diameter along the route; optimum of the study "
+                     f"{results.headline['optimum_diameter']:.3f} m."]
+            version, name = results.version, case.name
+        else:
+            all_results = [run_case(c, progress=tick) for c in cases]
+            table = case_comparison(all_results, args.units)
+            title = "Case comparison"
+            notes = []
+            version, name = all_results[0].version, "case comparison"
+    finally:
+        close()
+    if not args.quiet:
+        with pd.option_context("display.width", 200, "display.max_columns", 20,
+                               "display.float_format", "{:,.3f}".format):
+            print(table.to_string(index=False))
+    if args.out:
+        out = args.out
+        if not out.lower().endswith(".xlsx"):
+            raise CaseError("--out", "", f"'{out}' is not an .xlsx file name")
+        folder = os.path.dirname(os.path.abspath(out))
+        os.makedirs(folder, exist_ok=True)
+        lock = os.path.join(folder, f".~lock.{os.path.basename(out)}#")
+        if os.path.exists(lock):
+            raise ReportError(f"{out}: the workbook is open in a spreadsheet application; "
+                              "close it and run again")
+        fd, tmp = tempfile.mkstemp(prefix=".compare.", suffix=".tmp.xlsx", dir=folder)
+        os.close(fd)
+        atexit.register(lambda: os.path.exists(tmp) and os.unlink(tmp))
+        write_comparison_workbook(table, tmp, title, name, version, notes)
+        umask = os.umask(0)
+        os.umask(umask)
+        os.chmod(tmp, 0o666 & ~umask)
+        os.replace(tmp, out)
+        _say(args.quiet, f"wrote {out}")
+    return 0
+
+
 def cmd_new(args) -> int:
     from .template import write_template
 
@@ -112,7 +215,8 @@ def build_parser() -> argparse.ArgumentParser:
                     "codes, standards and a licensed engineer govern design.",
         formatter_class=argparse.RawDescriptionHelpFormatter,
         epilog="examples:\n  penstock new my-site\n  penstock check my-site\n"
-               "  penstock run cases/alder-gorge-high-head\n",
+               "  penstock run cases/alder-gorge-high-head\n"
+               "  penstock compare cases/alder-gorge-high-head --diameters 1.0,1.1,1.2\n",
     )
     p.add_argument("--version", action="version", version=f"penstock {__version__}")
     sub = p.add_subparsers(dest="command", required=True, metavar="COMMAND")
@@ -134,6 +238,17 @@ def build_parser() -> argparse.ArgumentParser:
                         formatter_class=argparse.RawDescriptionHelpFormatter)
     common(sp)
     sp.set_defaults(func=cmd_check)
+
+    sp = sub.add_parser("compare", help="compare penstock diameters of a case, or several cases",
+                        epilog=EXAMPLES["compare"],
+                        formatter_class=argparse.RawDescriptionHelpFormatter)
+    sp.add_argument("case", metavar="CASE", nargs="+", help="case folder(s)")
+    sp.add_argument("-q", "--quiet", action="store_true", help="print nothing on success")
+    sp.add_argument("--diameters", metavar="LIST", help="comma-separated inside diameters, in "
+                    "the case's length unit unless written with one (e.g. 1.2,1.4 or 48 in)")
+    sp.add_argument("--out", metavar="PATH", help="also write the comparison as a workbook")
+    sp.add_argument("--units", choices=("si", "us"), help="report units (default: the case's)")
+    sp.set_defaults(func=cmd_compare)
 
     sp = sub.add_parser("new", help="write a commented template case folder",
                         epilog=EXAMPLES["new"], formatter_class=argparse.RawDescriptionHelpFormatter)

@@ -191,6 +191,56 @@ SECTIONS: tuple[Section, ...] = (
         Field("life", "age", "Economic life.", default="40 year", minimum=0.0,
               exclusive_minimum=True, maximum=200.0),
     ), required=False),
+    Section("wall", "Steel wall design along the route.", (
+        Field("grade", "choice", "Steel grade of the wall (allowable stress, modulus, density "
+              "from the materials table).", default="astm_a516_gr70",
+              choices=("astm_a36", "astm_a516_gr70", "astm_a537_cl1", "astm_a572_gr50",
+                       "en_s275", "en_s355")),
+        Field("joint_efficiency", "fraction", "Longitudinal weld joint efficiency.",
+              default=0.9, minimum=0.0, exclusive_minimum=True, maximum=1.0),
+        Field("corrosion_allowance", "length", "Added to the hoop thickness.",
+              default="1.5 mm", minimum=0.0, maximum=0.02),
+        Field("plates", "length_list", "Available plate thicknesses; default 6 to 50 mm.",
+              default=[]),
+        Field("handling_rule", "choice", "Minimum thickness for handling: usbr (D+0.508 m)/400 "
+              "or pge D/288.", default="usbr", choices=("usbr", "pge")),
+        Field("buckling_safety", "dimensionless", "Safety factor on the critical buckling "
+              "pressure under full vacuum.", default=1.5, minimum=1.0, maximum=5.0),
+    ), required=False),
+    Section("costs", "Pipe costs for the diameter study, in the economics currency. The "
+            "defaults are illustrative only: give the project's own prices.", (
+        Field("steel_price", "price_per_mass", "Delivered steel plate price.",
+              default="1600 /t", minimum=0.0),
+        Field("fabrication_factor", "fraction", "Fabrication as a fraction of the steel "
+              "cost.", default="60 %", minimum=0.0, maximum=10.0),
+        Field("installation_factor", "fraction", "Installation as a fraction of the steel "
+              "cost.", default="80 %", minimum=0.0, maximum=10.0),
+        Field("civil_fixed", "price_per_length", "Civil works per metre of route (supports, "
+              "anchors, access), part independent of the diameter.", default="150 /m",
+              minimum=0.0),
+        Field("civil_per_diameter", "price_per_area", "Civil works per metre of route and per "
+              "metre of diameter (trench, saddles).", default="400 /m^2", minimum=0.0),
+        Field("civil_exponent", "dimensionless", "Exponent on the diameter in the civil "
+              "cost.", default=1.0, minimum=0.0, maximum=3.0),
+        Field("contingency", "fraction", "Contingency on the pipe capital cost.",
+              default="15 %", minimum=0.0, maximum=2.0),
+        Field("om_fraction", "fraction", "Yearly operation and maintenance as a fraction of "
+              "the capital cost.", default="1 %", minimum=0.0, maximum=0.2),
+    ), required=False),
+    Section("diameter_study", "Sweep and optimum of a uniform penstock diameter.", (
+        Field("minimum", "length", "Smallest diameter of the sweep; default: the diameter "
+              "at 6 m/s at the design flow.", optional=True, minimum=0.0,
+              exclusive_minimum=True),
+        Field("maximum", "length", "Largest diameter of the sweep; default: the diameter at "
+              "1.5 m/s.", optional=True, minimum=0.0, exclusive_minimum=True),
+        Field("sizes", "length_list", "Available diameters to snap the optimum to; default "
+              "50 mm steps.", default=[]),
+        Field("candidates", "length_list", "Diameters to tabulate in full (with a water-"
+              "hammer run each); default: the optimum's neighbours and the case's diameter.",
+              default=[]),
+        Field("points", "integer", "Diameters in the sweep.", default=200, minimum=10,
+              maximum=2000),
+    ), required=False),
     Section("surge", "Water hammer settings: a load rejection from the design flow (and any "
             "listed flow) closes the turbine gates or valve at the end of the penstock.", (
         Field("closure_time", "time", "Effective closure time of the turbine gates, nozzle or "

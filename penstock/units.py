@@ -40,6 +40,7 @@ SI_UNITS: dict[str, str] = {
     "price_per_energy": "1/kWh",
     "price_per_mass": "1/t",
     "price_per_length": "1/m",
+    "price_per_area": "1/m^2",
     "roughness_growth": "m/year",
 }
 
@@ -152,7 +153,7 @@ _EXAMPLES = {
     "moment_of_inertia": '"25000 kg*m^2"', "rotational_speed": '"600 rpm"', "frequency": '"50 Hz"',
     "dimensionless": "0.9", "fraction": '0.92 or "92 %"',
     "price_per_energy": '"0.08 /kWh"', "price_per_mass": '"2500 /t"',
-    "price_per_length": '"150 /m"', "roughness_growth": '"0.02 mm/year"',
+    "price_per_length": '"150 /m"', "price_per_area": '"400 /m^2"', "roughness_growth": '"0.02 mm/year"',
 }
 
 
@@ -170,7 +171,7 @@ def _describe(kind: str) -> str:
     return {
         "flow": "flow rate", "dimensionless": "number", "fraction": "fraction",
         "price_per_energy": "price per unit energy", "price_per_mass": "price per unit mass",
-        "price_per_length": "price per unit length", "roughness_growth": "roughness growth rate",
+        "price_per_length": "price per unit length", "price_per_area": "price per unit area", "roughness_growth": "roughness growth rate",
         "moment_of_inertia": "moment of inertia", "rotational_speed": "rotational speed",
     }.get(kind, kind)
 

@@ -268,6 +268,9 @@ def test_same_site_in_other_units_gives_same_results(tmp_path, name, system):
     res_a, res_b = penstock.run_case(case_a), penstock.run_case(case_b)
     _assert_tables_equal(res_a.tables(), res_b.tables())
     for key, value in res_a.headline.items():
+        if key == "optimum_relative_derivative":   # a diagnostic of the optimizer, ~0 by design
+            assert abs(res_b.headline[key]) < 1e-5 and abs(value) < 1e-5
+            continue
         assert res_b.headline[key] == pytest.approx(value, rel=1e-9, abs=1e-12), key
 
 

@@ -17,7 +17,7 @@ import pandas as pd
 
 from .. import __version__, water
 from .core import STANDING_CAUTION, TABLE_ORDER, Methods, Results, Warning_
-from . import hammer, production, steady
+from . import hammer, production, sizing, steady
 
 __all__ = ["STANDING_CAUTION", "TABLE_ORDER", "Results", "Warning_", "run_case"]
 
@@ -52,8 +52,10 @@ def run_case(case, progress=None) -> Results:
     st = steady.run(case, props, warns, methods, tick)
     prod = production.run(case, props, st, warns, methods, tick)
     ham = hammer.run(case, props, st, prod, warns, methods, tick)
+    size = sizing.run(case, props, st, prod, ham, warns, methods, tick)
 
-    headline = {**prod["headline"], **ham["headline"], "density": props.density,
+    headline = {**prod["headline"], **ham["headline"], **size["headline"],
+                "density": props.density,
                 "min_pressure_head": float(st["pressure_checks"]["minimum pressure head [m]"]
                                            .min())}
     tick("cautions")
@@ -61,7 +63,8 @@ def run_case(case, progress=None) -> Results:
         [{"severity": w.severity, "topic": w.topic, "message": w.message,
           "chainage [m]": w.chainage, "flow [m^3/s]": w.flow} for w in warns],
         columns=["severity", "topic", "message", "chainage [m]", "flow [m^3/s]"])
-    tables = {k: v for k, v in {**st, **prod, **ham}.items() if isinstance(v, pd.DataFrame)}
+    tables = {k: v for k, v in {**st, **prod, **ham, **size}.items()
+              if isinstance(v, pd.DataFrame)}
     return Results(
         case=case, run_date=_dt.date.today().isoformat(), version=__version__,
         summary=_summary(case, props, headline, st["route"]), inputs=pd.DataFrame(case.echo),
@@ -73,16 +76,21 @@ def _summary(case, props, h, route) -> pd.DataFrame:
     rows = [
         ("site", case.name, ""),
         ("note", case.note, ""),
+        ("recommended penstock diameter (diameter study)", h.get("selected_diameter"), "m"),
+        ("its wall, thinnest to thickest plate", _wall_text(h), ""),
         ("gross head at design flow", h["gross_head"], "m"),
         ("design flow", h["design_flow"], "m^3/s"),
-        ("penstock losses at design flow", h["total_loss"], "m"),
+        ("penstock losses at design flow" if case.draft_tube is None else
+         "penstock and draft-tube losses at design flow", h["total_loss"], "m"),
         ("net head at design flow", h["net_head"], "m"),
         ("installed capacity", h["installed_capacity"] / 1e3, "kW"),
         ("mean annual energy", h["mean_annual_energy"] / 3.6e9, "MWh"),
         ("capacity factor", 100 * h["capacity_factor"], "%"),
         (f"firm power (exceeded {100 * case.firm_exceedance:g} % of the time)",
          h["firm_power"] / 1e3, "kW"),
-        ("energy lost to penstock friction, mean annual", h["friction_energy"] / 3.6e9, "MWh"),
+        ("energy lost to penstock losses, mean annual" if case.draft_tube is None else
+         "energy lost to penstock and draft-tube losses, mean annual",
+         h["friction_energy"] / 3.6e9, "MWh"),
         ("minimum steady pressure head", h["min_pressure_head"], "m"),
         ("maximum transient rise on load rejection", h["max_surge_rise"], "m"),
         ("minimum transient pressure head along the route", h["min_transient_pressure_head"],
@@ -95,3 +103,9 @@ def _summary(case, props, h, route) -> pd.DataFrame:
         ("atmospheric pressure at site", props.atmospheric_pressure / 1e3, "kPa"),
     ]
     return pd.DataFrame(rows, columns=["quantity", "value", "unit"])
+
+
+def _wall_text(h) -> str:
+    if h.get("selected_wall_min") is None:
+        return "not studied"
+    return f"{1e3 * h['selected_wall_min']:.0f} to {1e3 * h['selected_wall_max']:.0f} mm"

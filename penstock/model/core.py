@@ -62,6 +62,12 @@ TABLE_ORDER = {
     "valve_history": "turbine_head_history",
     "closure_study": "closure_time_study",
     "design_pressure": "design_pressure_line",
+    "diameter_candidates": "diameter_candidates",
+    "diameter_sweep": "diameter_sweep",
+    "diameter_empirical": "diameter_empirical_checks",
+    "diameter_sensitivity": "diameter_sensitivity",
+    "diameter_one_at_a_time": "diameter_one_at_a_time",
+    "wall_profile": "wall_profile",
     "warnings": "cautions",
     "methods": "methods",
 }
@@ -100,6 +106,12 @@ class Results:
     valve_history: pd.DataFrame | None = None
     closure_study: pd.DataFrame | None = None
     design_pressure: pd.DataFrame | None = None
+    diameter_candidates: pd.DataFrame | None = None
+    diameter_sweep: pd.DataFrame | None = None
+    diameter_empirical: pd.DataFrame | None = None
+    diameter_sensitivity: pd.DataFrame | None = None
+    diameter_one_at_a_time: pd.DataFrame | None = None
+    wall_profile: pd.DataFrame | None = None
     headline: dict = field(default_factory=dict)
 
     def tables(self) -> dict[str, pd.DataFrame]:

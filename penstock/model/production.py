@@ -166,6 +166,9 @@ def run(case, props, steady, warns, methods, tick) -> dict:
     out["turbine_setting"] = _setting(case, props, steady, total_loss, speed, table, drive,
                                       warns, methods)
     out["draft_tube"] = _draft_tube_table(case, props, steady, table, drive, methods)
+    out["operation"] = {"index": index, "river": river, "gross": gross, "op": op,
+                        "table": table, "drive": drive, "dt_loss": dt_loss,
+                        "step_seconds": float(hydrology.time_step(index).total_seconds())}
     out["headline"] = {
         "gross_head": h_design, "net_head": hn_design, "total_loss": loss_design,
         "design_flow": case.design_flow, "installed_capacity": capacity,

@@ -19,6 +19,7 @@ from ..constants import GRAVITY
 from ..model import STANDING_CAUTION
 from . import energy_sheets as es
 from . import sheets as sh
+from .diameter_sheet import diameter_sheet
 from .hammer_sheet import hammer_sheet
 from .units import convert_table, convert_value, report_unit
 
@@ -34,6 +35,7 @@ SHEET_NAMES = {
     "design_flow": "Design-flow study",
     "turbine": "Turbine setting",
     "hammer": "Water hammer",
+    "diameter": "Diameter study",
     "cautions": "Cautions",
     "methods": "Methods and sources",
 }
@@ -64,9 +66,12 @@ def write_workbook(results, path, system: str | None = None) -> None:
         es.duration_sheet(wb.create_sheet(SHEET_NAMES["duration"]), ctx, _title)
         es.energy_sheet(wb.create_sheet(SHEET_NAMES["energy"]), ctx, _title)
         es.design_flow_sheet(wb.create_sheet(SHEET_NAMES["design_flow"]), ctx, _title)
-        es.turbine_sheet(wb.create_sheet(SHEET_NAMES["turbine"]), ctx, _title)
+    if results.diameter_candidates is not None:
+        diameter_sheet(wb.create_sheet(SHEET_NAMES["diameter"]), ctx, _title)
     if results.surge_checks is not None:
         hammer_sheet(wb.create_sheet(SHEET_NAMES["hammer"]), ctx, _title)
+    if es.has_energy(results):
+        es.turbine_sheet(wb.create_sheet(SHEET_NAMES["turbine"]), ctx, _title)
     _cautions_sheet(wb.create_sheet(SHEET_NAMES["cautions"]), ctx)
     _methods_sheet(wb.create_sheet(SHEET_NAMES["methods"]), ctx)
     props = wb.properties
@@ -265,7 +270,7 @@ def _route_chart(ctx, ws, table, cols, first, last, cases, pcol, pfirst, plast, 
         if name == "design flow" or len(cases) == 1:
             sh.add_line(ch, ws, 1, e, first, last, f"EGL, {name}", color, dash="dash")
     fl = _col(cols, "flagged")
-    if fl is not None:
+    if fl is not None and np.isfinite(table.iloc[:, fl - 1].to_numpy(dtype=float)).any():
         sh.add_line(ch, ws, 1, fl, first, last, "pressure below margin", "D62728", markers=True)
     return ch
 

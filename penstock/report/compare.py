@@ -1,0 +1,82 @@
+"""Comparison tables and workbook: several diameters of one case, or several cases."""
+
+from __future__ import annotations
+
+import datetime as _dt
+
+import pandas as pd
+from openpyxl import Workbook
+
+from ..model import STANDING_CAUTION
+from . import sheets as sh
+from .units import convert_table
+
+#: Rows of a diameter comparison: candidate-table column -> shown name.
+DIAMETER_ROWS = [
+    "diameter [m]", "thinnest plate [mm]", "thickest plate [mm]", "steel mass [t]",
+    "capital cost [currency]", "head loss at design flow [m]", "net head at design flow [m]",
+    "mean annual energy [MWh]", "value of energy lost [currency/year]",
+    "annualized cost [currency/year]", "maximum surge rise [m]",
+    "minimum pressure margin, steady [m]", "minimum pressure head, transient [m]",
+    "velocity at design flow [m/s]", "water starting time [s]",
+    "reaches needing stiffeners under vacuum [-]",
+]
+
+
+def diameter_comparison(results, system: str) -> pd.DataFrame:
+    """Candidate diameters side by side: one row per quantity, one column per diameter."""
+    cand = results.diameter_candidates[DIAMETER_ROWS]
+    cur = results.case.economics["currency"]
+    t = convert_table(cand, system)
+    t.columns = [c.replace("[currency", f"[{cur}") for c in t.columns]
+    names = [f"D = {d:.3f}" for d in t.iloc[:, 0]]
+    out = t.T
+    out.columns = names
+    out.index.name = "quantity"
+    return out.reset_index()
+
+
+def case_comparison(results_list, system: str | None = None) -> pd.DataFrame:
+    """Headline summaries of several cases side by side."""
+    cols = {}
+    base = None
+    for r in results_list:
+        s = convert_table(r.summary, system or r.case.unit_system)
+        s = s[~s["quantity"].isin(["note"])]
+        label = r.case.slug
+        cols[label] = [f"{_num(v)} {u}".strip() if isinstance(v, (int, float)) else str(v)
+                       for v, u in zip(s["value"], s["unit"])]
+        base = s["quantity"].tolist() if base is None else base
+    return pd.DataFrame({"quantity": base, **cols})
+
+
+def _num(v: float) -> str:
+    return f"{v:,.0f}" if abs(v) >= 1000 else f"{v:.4g}"
+
+
+def write_comparison_workbook(table: pd.DataFrame, path, title: str, case_name: str,
+                              version: str, notes=()) -> None:
+    """A one-sheet workbook holding a comparison table, with the standing caution."""
+    wb = Workbook()
+    ws = wb.active
+    ws.title = "Comparison"
+    sh.put(ws, 1, 1, title, font=sh.TITLE)
+    sh.put(ws, 2, 1, f"penstock {version}, run {_dt.date.today().isoformat()}", font=sh.NOTE)
+    c = sh.put(ws, 3, 1, "Caution: " + STANDING_CAUTION, font=sh.CAUTION)
+    c.alignment = sh.WRAP
+    ws.merge_cells(start_row=3, start_column=1, end_row=3, end_column=max(4, table.shape[1]))
+    ws.row_dimensions[3].height = 45
+    row = 5
+    for note in notes:
+        sh.put(ws, row, 1, note, font=sh.NOTE)
+        row += 1
+    first, _ = sh.write_table(ws, table, row=row + 1, widths={"quantity": 46})
+    for j in range(2, table.shape[1] + 1):
+        ws.cell(row=row + 1, column=j)
+        for i in range(first, first + len(table)):
+            ws.cell(row=i, column=j).number_format = "#,##0.000"
+    ws.freeze_panes = ws.cell(row=first, column=2)
+    sh.page_setup(ws, case_name, version, _dt.date.today().isoformat())
+    wb.properties.title = title
+    wb.properties.creator = f"penstock {version}"
+    wb.save(path)

@@ -1,0 +1,117 @@
+"""Workbook sheet of the diameter study: candidates with live cost formulas, sweep, wall."""
+
+from __future__ import annotations
+
+from openpyxl.chart import Reference, Series
+from openpyxl.utils import get_column_letter
+
+from . import sheets as sh
+from .units import convert_table
+
+
+def _currency(df, cur):
+    return df.rename(columns={c: c.replace("[currency", f"[{cur}") for c in df.columns})
+
+
+def diameter_sheet(ws, ctx, title):
+    r = ctx.r
+    h = r.headline
+    cur = r.case.economics["currency"]
+    row = title(ws, ctx, "Diameter study")
+    sh.put(ws, row, 1, f"Uniform inside diameter along the whole route. Optimum "
+           f"{ctx.v(h['optimum_diameter'], 'm'):.3f} {ctx.u('m')}; recommended size "
+           f"{ctx.v(h['selected_diameter'], 'm'):.3f} {ctx.u('m')} (the cheaper available size "
+           "beside it). Costs in " + cur + "; the cost inputs are the case's.", font=sh.SUBTITLE)
+    row += 2
+    # capital recovery factor as a live formula
+    e = r.case.economics
+    sh.put(ws, row, 1, "Capital recovery factor (live formula)", font=sh.SUBTITLE)
+    sh.put(ws, row + 1, 1, "discount rate i")
+    c = sh.put(ws, row + 1, 2, e["discount_rate"], fmt="0.00%")
+    c.fill = sh.INPUT_FILL
+    sh.put(ws, row + 2, 1, "economic life n [years]")
+    c = sh.put(ws, row + 2, 2, e["life"], fmt="0")
+    c.fill = sh.INPUT_FILL
+    sh.put(ws, row + 3, 1, "CRF = i(1+i)^n / ((1+i)^n − 1)")
+    i_c, n_c = f"B{row + 1}", f"B{row + 2}"
+    crf_cell = f"$B${row + 3}"
+    sh.formula(ws, row + 3, 2, f"=IF({i_c}=0,1/{n_c},{i_c}*(1+{i_c})^{n_c}/((1+{i_c})^{n_c}-1))",
+               fmt="0.000000", font=sh.SUBTITLE)
+    ctx.formula_cells["crf"] = (ws.title, f"B{row + 3}", h["crf"])
+    row += 5
+    # candidates, with the annualized cost recomputed live from the visible columns
+    cand = _currency(convert_table(r.diameter_candidates, ctx.system), cur)
+    sh.put(ws, row, 1, "Candidate diameters (each with its own water-hammer run and real "
+           "plates). The annualized cost column is a live formula: CRF × capital + O&M + "
+           "value of energy lost.", font=sh.NOTE)
+    first, last = sh.write_table(ws, cand, row=row + 1)
+    cols = list(cand.columns)
+    col = {name.split(" [")[0]: j + 1 for j, name in enumerate(cols)}
+    L = lambda name: get_column_letter(col[name])  # noqa: E731
+    ctx.formula_cells.setdefault("annualized cost", [])
+    for i in range(first, last + 1):
+        sh.formula(ws, i, col["annualized capital"], f"={crf_cell}*{L('capital cost')}{i}",
+                   fmt="#,##0")
+        sh.formula(ws, i, col["annualized cost"],
+                   f"={L('annualized capital')}{i}+{L('operation and maintenance')}{i}"
+                   f"+{L('value of energy lost')}{i}", fmt="#,##0", font=sh.SUBTITLE)
+        ctx.formula_cells["annualized cost"].append(
+            (ws.title, f"{L('annualized cost')}{i}",
+             float(r.diameter_candidates["annualized cost [currency/year]"].iloc[i - first])))
+    ws.freeze_panes = ws.cell(row=first, column=2)
+    row = last + 2
+    chart_row = row
+    row += 24
+    # the sweep table (for the chart) and the optimum as its own series
+    sweep = _currency(convert_table(r.diameter_sweep, ctx.system), cur)
+    sh.put(ws, row, 1, "Sweep of the annualized cost (wall without rounding to plates, which "
+           "keeps the curve smooth; Allievi rise for the design pressure)", font=sh.NOTE)
+    sfirst, slast = sh.write_table(ws, sweep, row=row + 1)
+    ocol = len(sweep.columns) + 2
+    sh.put(ws, row + 1, ocol, f"optimum diameter [{ctx.u('m')}]", font=sh.HEADER).fill = \
+        sh.HEADER_FILL
+    sh.put(ws, row + 1, ocol + 1, f"annualized cost [{cur}/year]", font=sh.HEADER).fill = \
+        sh.HEADER_FILL
+    sh.put(ws, row + 2, ocol, ctx.v(h["optimum_diameter"], "m"), fmt="0.000")
+    sh.put(ws, row + 2, ocol + 1, h["optimum_cost"], fmt="#,##0")
+    ch = sh.scatter_chart("Annualized cost against diameter", f"diameter [{ctx.u('m')}]",
+                          f"cost [{cur}/year]", x_format="0.00", y_format="#,##0", width=20,
+                          height=11)
+    for j, color in ((3, "9467BD"), (4, "8C564B"), (5, "2CA02C"), (6, "D62728")):
+        sh.add_line(ch, ws, 1, j, sfirst, slast, sweep.columns[j - 1].split(" [")[0], color)
+    s = Series(Reference(ws, min_col=ocol + 1, min_row=row + 2, max_row=row + 2),
+               Reference(ws, min_col=ocol, min_row=row + 2, max_row=row + 2), title="optimum")
+    s.marker.symbol = "diamond"
+    s.marker.size = 11
+    s.marker.graphicalProperties.solidFill = "000000"
+    s.marker.graphicalProperties.line.solidFill = "000000"
+    s.graphicalProperties.line.noFill = True
+    ch.series.append(s)
+    ws.add_chart(ch, f"A{chart_row}")
+    # wall and design pressure along the route at the recommended size
+    wp = convert_table(r.wall_profile, ctx.system)
+    wcol = ocol + 3
+    sh.put(ws, row, wcol, "Wall at the recommended size", font=sh.NOTE)
+    wfirst, wlast = sh.write_table(ws, wp, row=row + 1, col=wcol)
+    ch2 = sh.scatter_chart("Plate thickness along the route (recommended size)",
+                           f"chainage [{ctx.u('m')}]", f"thickness [{ctx.u('mm')}]",
+                           x_format="0", y_format="0", width=18, height=11)
+    sh.add_line(ch2, ws, wcol + 1, wcol + 4, wfirst, wlast, "plate", "1F77B4", markers=True)
+    sh.add_line(ch2, ws, wcol + 1, wcol + 3, wfirst, wlast, "required", "D62728", dash="dash")
+    ws.add_chart(ch2, f"L{chart_row}")
+    row = max(slast, wlast) + 3
+    # empirical checks and sensitivity
+    sh.put(ws, row, 1, "Sanity checks: empirical diameters", font=sh.SUBTITLE)
+    _, last = sh.write_table(ws, convert_table(r.diameter_empirical, ctx.system), row=row + 1,
+                             widths={"source": 50, "validity": 50})
+    row = last + 2
+    sh.put(ws, row, 1, "Sensitivity: optimum over energy price × discount rate",
+           font=sh.SUBTITLE)
+    _, last = sh.write_table(ws, _currency(convert_table(r.diameter_sensitivity, ctx.system),
+                                           cur), row=row + 1)
+    row = last + 2
+    sh.put(ws, row, 1, "Sensitivity: one input at a time", font=sh.SUBTITLE)
+    sh.write_table(ws, _currency(convert_table(r.diameter_one_at_a_time, ctx.system), cur),
+                   row=row + 1)
+    ctx.page(ws)
+
