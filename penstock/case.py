@@ -161,6 +161,7 @@ class _Reader:
         self.file = CASE_FILE
         self.echo: list[dict] = []
         self.lines: dict[str, list[int]] = {}
+        self.say = None   # set once [site] is read: formats chainages in the case's units
 
     def line(self, name: str, row: int) -> int:
         """The file's line number of data row ``row`` (0-based) of a CSV read by :meth:`table`."""
@@ -442,6 +443,9 @@ def load_case(path) -> Case:
                             for f in sec.fields}
 
     site, water, levels, route = (values[k] for k in ("site", "water", "levels", "route"))
+    from .model.core import Say
+
+    rd.say = Say(site["units"])
     flows, turbine = values["flows"], values["turbine"]
 
     # ---- profile
@@ -474,6 +478,10 @@ def load_case(path) -> Case:
                         f"headwater level {hw:g} m; expected at most the normal level")
     rating = _rating(rd, levels["tailwater_rating"], "tailwater") \
         if levels["tailwater_rating"] is not None else None
+    if rating is not None and levels["tailwater"] is not None:
+        raise CaseError(CASE_FILE, "levels.tailwater", "is given together with "
+                        "tailwater_rating; expected one of the two (with a rating, the "
+                        "reference tailwater is the rating at the design flow)")
     if rating is None and levels["tailwater"] is None:
         raise CaseError(CASE_FILE, "levels.tailwater", "is missing; expected a tailwater "
                         "level, e.g. \"1180 m\", or a tailwater_rating file")
@@ -645,7 +653,8 @@ def _losses(doc: dict, rd: _Reader, chainage: np.ndarray) -> list[LocalLoss]:
                 route.loss_k_and_area(kind, params, d_up, d_down)
             except (ValueError, TypeError) as exc:
                 raise CaseError(CASE_FILE, f"loss {i}", f"{exc}") from None
-        out.append(LocalLoss(kind, at, v["label"] or f"{kind} at {at:g} m", v["k"], params))
+        out.append(LocalLoss(kind, at, v["label"] or f"{kind} at {rd.say.ch(at)}", v["k"],
+                             params))
     return out
 
 

@@ -22,6 +22,7 @@ examples:
   penstock run cases/alder-gorge-high-head
   penstock run cases/cedar-fork-us-units --units si --out reports/cedar-si.xlsx
   penstock run my-site --quiet
+  penstock run cases/* --workers 2            # a batch, with reports/portfolio.xlsx
 """,
     "check": """\
 examples:
@@ -71,6 +72,53 @@ def cmd_check(args) -> int:
 
 
 def cmd_run(args) -> int:
+    from .batch import expand
+
+    folders = expand(args.case)
+    if len(folders) > 1 or args.workers or args.scheduler != "process":
+        return _run_batch(args, folders)
+    args.case = str(folders[0])
+    return _run_single(args)
+
+
+def _run_batch(args, folders) -> int:
+    from . import __version__
+    from .batch import portfolio_table, run_many, write_portfolio
+
+    out_dir = Path(args.out) if args.out else Path("reports")
+    if out_dir.suffix.lower() == ".xlsx":
+        raise CaseError("--out", "", f"'{out_dir}' is a workbook name; for several cases "
+                        "--out names the folder the reports go to")
+    bar = None
+    if not (args.quiet or os.environ.get("CI") or not sys.stderr.isatty()):
+        from tqdm import tqdm
+
+        bar = tqdm(total=len(folders), desc="cases", unit="case", file=sys.stderr)
+    done = [0]
+
+    def tick(n):
+        if bar is not None:
+            bar.update(n - done[0])
+        done[0] = n
+
+    try:
+        outcomes = run_many(folders, out_dir, workers=args.workers, units=args.units,
+                            progress=tick, scheduler=args.scheduler, address=args.dask_address)
+    finally:
+        if bar is not None:
+            bar.close()
+    write_portfolio(outcomes, out_dir / "portfolio.xlsx", __version__)
+    table = portfolio_table(outcomes)
+    n_bad = int((table["status"] != "ok").sum())
+    for o in outcomes:
+        if not o.ok:
+            print(f"penstock: error: {o.error}", file=sys.stderr)
+    _say(args.quiet, f"{len(outcomes) - n_bad} of {len(outcomes)} cases ran; wrote "
+         f"{out_dir / 'portfolio.xlsx'} and one workbook per case in {out_dir}/")
+    return min(n_bad, 100)
+
+
+def _run_single(args) -> int:
     from .model import run_case
     from .report import write_reports
 
@@ -225,11 +273,22 @@ def build_parser() -> argparse.ArgumentParser:
         sp.add_argument("case", metavar="CASE", help="case folder (holding site.toml)")
         sp.add_argument("-q", "--quiet", action="store_true", help="print nothing on success")
 
-    sp = sub.add_parser("run", help="run a case and write the workbook, CSV tables and figures",
-                        epilog=EXAMPLES["run"], formatter_class=argparse.RawDescriptionHelpFormatter)
-    common(sp)
+    sp = sub.add_parser("run", help="run a case (or many) and write the workbook, CSV tables and "
+                        "figures", epilog=EXAMPLES["run"],
+                        formatter_class=argparse.RawDescriptionHelpFormatter)
+    sp.add_argument("case", metavar="CASE", nargs="+", help="case folder(s), or folders holding "
+                    "case folders; several run as a batch with a portfolio workbook")
+    sp.add_argument("-q", "--quiet", action="store_true", help="print nothing on success")
     sp.add_argument("--out", metavar="PATH", help="workbook path (default reports/<case>.xlsx); "
-                    "tables and figures go to a folder of the same name")
+                    "tables and figures go to a folder of the same name. For a batch: the "
+                    "folder for all reports (default reports/)")
+    sp.add_argument("--workers", type=int, metavar="N", help="processes for a batch "
+                    "(default: the machine's cores)")
+    sp.add_argument("--scheduler", choices=("process", "dask"), default="process",
+                    help="run a batch in a local process pool (default) or on a Dask cluster "
+                    "(optional extra)")
+    sp.add_argument("--dask-address", metavar="HOST:PORT", help="a running Dask scheduler; "
+                    "default: start a local cluster")
     sp.add_argument("--units", choices=("si", "us"), help="report units (default: the case's)")
     sp.set_defaults(func=cmd_run)
 

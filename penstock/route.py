@@ -116,7 +116,9 @@ def build_route(case, warns=None, methods=None) -> Route:
     -------
     Route
     """
-    from .model import Warning_  # local import: model imports this module
+    from .model.core import Say, Warning_  # local import: model imports this module
+
+    say = Say(case.unit_system)
 
     prof = case.profile
     px, pz = prof["chainage"].to_numpy(float), prof["elevation"].to_numpy(float)
@@ -171,17 +173,18 @@ def build_route(case, warns=None, methods=None) -> Route:
             d1, d2 = changes[x]
             kind = "contraction" if d2 < d1 else "expansion"
             k, ref_area = loss_k_and_area(kind, {"angle": DEFAULT_TRANSITION_ANGLE}, d1, d2)
-            name = f"{kind} at {x:g} m (assumed 15° cone)"
+            name = f"{kind} at {say.ch(x)} (assumed 15° cone)"
             step(j, k, ref_area, name, segs[down].area, d1)
             if warns is not None:
-                warns.append(Warning_("losses", f"diameter changes from {d1:g} to {d2:g} m at "
-                                      f"{x:g} m with no transition loss given; a 15° conical "
-                                      f"{kind} is assumed (K = {k:.3f})", chainage=float(x),
-                                      severity="note"))
+                warns.append(Warning_("losses", f"diameter changes from {say.m(d1, 3)} to "
+                                      f"{say.m(d2, 3)} at {say.ch(x)} with no transition loss "
+                                      f"given; a 15° conical {kind} is assumed (K = {k:.3f})",
+                                      chainage=float(x), severity="note"))
         if j < len(xs) - 1:
             s = downstream_segment(0.5 * (x + xs[j + 1]))
             seg = segs[s]
-            name = f"friction, pipe {s + 1} ({seg.start:g}–{seg.end:g} m, D {seg.diameter:g} m)"
+            name = (f"friction, pipe {s + 1} ({say.ch(seg.start)} to {say.ch(seg.end)}, "
+                    f"D {say.m(seg.diameter, 3)})")
             elems.append((math.hypot(xs[j + 1] - x, zs[j + 1] - zs[j]), seg.diameter,
                           seg.roughness, 0.0, seg.area, name, s))
             nodes.append((xs[j + 1], zs[j + 1], seg.area, "profile", False))

@@ -67,10 +67,11 @@ SECTIONS: tuple[Section, ...] = (
     )),
     Section("levels", "Water levels.", (
         Field("headwater", "length", "Normal headwater (intake pond or forebay) level."),
-        Field("headwater_min", "length", "Minimum operating headwater level; used for the "
-              "pressure and submergence checks. Defaults to the normal level.", optional=True),
-        Field("tailwater", "length", "Tailwater level when no rating is given; also the level "
-              "used for the grade lines.", optional=True),
+        Field("headwater_min", "length", "Minimum operating headwater level; the pressure and "
+              "submergence checks hold at it. Defaults to the normal level.", optional=True),
+        Field("tailwater", "length", "Constant tailwater level; give either this or a "
+              "tailwater_rating (whose level at the design flow is then the reference).",
+              optional=True),
         Field("tailwater_rating", "file", "CSV of tailwater level against river flow.",
               optional=True, columns=(("flow", "flow"), ("level", "length"))),
         Field("headwater_rating", "file", "CSV of headwater level against river flow (e.g. "

@@ -72,6 +72,8 @@ def registry() -> pint.UnitRegistry:
     # cfs and cumecs are common in hydrology; pint knows neither by default.
     ureg.define("cfs = foot ** 3 / second")
     ureg.define("cumec = meter ** 3 / second = cumecs")
+    if "ksi" not in ureg:
+        ureg.define("ksi = 1000 * psi")
     return ureg
 
 

@@ -35,9 +35,9 @@ def test_steady_state_before_closure_matches_the_steady_stage(alder):
     case, r = alder
     env = r.transient_envelope[r.transient_envelope["rejection from"] == "design flow"]
     gl = r.grade_lines[r.grade_lines["flow case"] == "design flow"]
-    assert env["steady hydraulic grade line [m]"].iloc[-1] == pytest.approx(
+    assert env["initial steady head [m]"].iloc[-1] == pytest.approx(
         gl["energy grade line [m]"].iloc[-1], rel=1e-9)
-    assert env["steady hydraulic grade line [m]"].iloc[0] == pytest.approx(case.headwater)
+    assert env["initial steady head [m]"].iloc[0] == pytest.approx(case.headwater)
 
 
 def test_joukowsky_and_michaud_by_hand(alder):
@@ -108,7 +108,7 @@ def test_down_surge_at_the_high_point_is_flagged(alder):
     start, end = (float(v) for v in re.search(r"from ([\d.]+) to ([\d.]+) m", msgs[0]).groups())
     assert start < 1250.0 < end
     steady_min = r.pressure_checks.set_index("flow case").loc["design flow",
-                                                              "minimum pressure head [m]"]
+                                                              "minimum pressure head at the crown [m]"]
     assert steady_min > 0 > r.headline["min_transient_pressure_head"]
 
 

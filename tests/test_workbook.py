@@ -570,9 +570,6 @@ def test_open_workbook_is_left_alone(earlier_report):
     assert sorted(p.name for p in book.parent.iterdir()) == sorted([book.name, lock.name])
 
 
-@pytest.mark.xfail(strict=True, reason="writer bug: a read-only report folder makes "
-                   "tempfile.mkdtemp raise PermissionError, which write_reports does not turn "
-                   "into ReportError; the run ends as an 'internal error' with exit 1")
 def test_read_only_folder_is_bad_input(earlier_report):
     if os.geteuid() == 0:
         pytest.skip("running as root: directory permissions do not stop root from writing")
@@ -630,15 +627,8 @@ def test_frozen_panes_below_a_header(demos, name, sheet):
 #: Common practice: the frozen block must leave most of a screen to scroll; a laptop screen
 #: at 100 % zoom shows about 30-40 rows, so more than 20 frozen rows leaves little or nothing.
 MAX_FROZEN_ROWS = 20
-_FROZEN_BUG = pytest.mark.xfail(strict=True, reason="writer bug: the panes are frozen below a "
-                                "chart placed above the table, freezing some 30 rows, more "
-                                "than a screen shows; the table cannot be scrolled")
-
-
 @pytest.mark.parametrize("name", DEMO_CASES)
-@pytest.mark.parametrize("sheet", [
-    s if s not in ("Route and grade lines", "Flow and power duration")
-    else pytest.param(s, marks=_FROZEN_BUG) for s in DATA_SHEETS])
+@pytest.mark.parametrize("sheet", DATA_SHEETS)
 def test_frozen_block_fits_a_screen(demos, name, sheet):
     ws = demos[name].wb[sheet]
     _, row = coordinate_from_string(ws.freeze_panes)
@@ -753,13 +743,7 @@ def test_charts_cover_no_filled_cell(demos, name):
     assert bad == []
 
 
-_OVERLAP_BUG = pytest.mark.xfail(strict=True, reason="writer bug: on 'Flow and power "
-                                 "duration' the power-duration chart is anchored at column F, "
-                                 "inside the 16 cm wide flow-duration chart, and hides its "
-                                 "right-hand part (time exceeded 90-100 %) in the printout")
-
-
-@pytest.mark.parametrize("name", [pytest.param(n, marks=_OVERLAP_BUG) for n in DEMO_CASES])
+@pytest.mark.parametrize("name", DEMO_CASES)
 def test_charts_do_not_overlap(demos, name):
     bad = []
     for ws, boxes in _charts_layout(demos, name):

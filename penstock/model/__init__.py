@@ -56,8 +56,8 @@ def run_case(case, progress=None) -> Results:
 
     headline = {**prod["headline"], **ham["headline"], **size["headline"],
                 "density": props.density,
-                "min_pressure_head": float(st["pressure_checks"]["minimum pressure head [m]"]
-                                           .min())}
+                "min_pressure_head": float(
+                    st["pressure_checks"]["minimum pressure head at the crown [m]"].min())}
     tick("cautions")
     warn_df = pd.DataFrame(
         [{"severity": w.severity, "topic": w.topic, "message": w.message,
@@ -91,10 +91,11 @@ def _summary(case, props, h, route) -> pd.DataFrame:
         ("energy lost to penstock losses, mean annual" if case.draft_tube is None else
          "energy lost to penstock and draft-tube losses, mean annual",
          h["friction_energy"] / 3.6e9, "MWh"),
-        ("minimum steady pressure head", h["min_pressure_head"], "m"),
+        ("minimum steady pressure head at the crown (minimum headwater)",
+         h["min_pressure_head"], "m"),
         ("maximum transient rise on load rejection", h["max_surge_rise"], "m"),
-        ("minimum transient pressure head along the route", h["min_transient_pressure_head"],
-         "m"),
+        ("minimum transient pressure head at the crown (minimum headwater)",
+         h["min_transient_pressure_head"], "m"),
         ("shortest closure keeping the rise within the allowable", h["shortest_closure"], "s"),
         ("water starting time", h["water_starting_time"], "s"),
         ("penstock length", float(route.length.sum()), "m"),

@@ -14,6 +14,40 @@ STANDING_CAUTION = (
 )
 
 
+FOOT = 0.3048   # m, exact (international foot, 1959)
+
+
+class Say:
+    """Formats quantities in cautions and labels in the case's unit system.
+
+    The model computes in SI; text meant for the reader (cautions, notes) follows the
+    case's units (``site.units``), as the tables do in the writers.
+    """
+
+    def __init__(self, system: str = "si"):
+        self.us = system == "us"
+
+    def m(self, x: float, digits: int = 2) -> str:
+        """A length or head."""
+        return f"{x / FOOT:.{digits}f} ft" if self.us else f"{x:.{digits}f} m"
+
+    def ch(self, x: float) -> str:
+        """A chainage."""
+        return f"{x / FOOT:.0f} ft" if self.us else f"{x:.1f} m"
+
+    def q(self, x: float) -> str:
+        """A flow."""
+        return f"{x / FOOT**3:.4g} cfs" if self.us else f"{x:.4g} m³/s"
+
+    def v(self, x: float) -> str:
+        """A velocity."""
+        return f"{x / FOOT:.2f} ft/s" if self.us else f"{x:.2f} m/s"
+
+    def mm(self, x: float) -> str:
+        """A thickness."""
+        return f"{x / 0.0254:.3f} in" if self.us else f"{1e3 * x:.1f} mm"
+
+
 @dataclass
 class Warning_:
     """One caution raised by a check."""

@@ -147,7 +147,7 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
     dh_jouk = float(surge.joukowsky(speeds[-1], vel[-1]))
     dh_mich = float(surge.michaud(l_total, v_mean, tc))
     h0 = case.headwater - downstream
-    h_allievi = float(surge.allievi_max_head(l_total, v_mean, h0, tc))
+    rise_allievi = float(surge.allievi_max_head(l_total, v_mean, h0, tc)) - h0
     hn = prod["headline"]["net_head"]
     tw = float(surge.water_starting_time(lengths, vel, hn))
     rows = [
@@ -158,7 +158,7 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
         ("closure regime", "rapid (Tc ≤ 2L/a)" if regime == "rapid" else "slow (Tc > 2L/a)", ""),
         ("Joukowsky rise a·ΔV/g, full instant closure", dh_jouk, "m"),
         ("Michaud rise 2·L·V/(g·Tc)", dh_mich, "m"),
-        ("Allievi maximum head above the outlet level, uniform closure", h_allievi, "m"),
+        ("Allievi maximum rise above the static level, uniform closure", rise_allievi, "m"),
         ("static head at the turbine", static_head, "m"),
         ("allowable rise", allowable, "m"),
         ("water starting time Tw = Σ L·V/(g·Hn)", tw, "s"),
@@ -217,19 +217,24 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
         x = to_x(res.chainage)
         z = np.interp(x, case.profile["chainage"], case.profile["elevation"])
         name = "design flow" if q is q_d else f"{q:.4g} m^3/s"
+        # the crown at the minimum headwater: conservative as in the steady checks
+        d_node = np.interp(x, [seg.start for seg in case.segments] + [case.segments[-1].end],
+                           [seg.diameter for seg in case.segments]
+                           + [case.segments[-1].diameter])
+        crown_drop = d_node / 2 + (case.headwater - case.headwater_min)
         rise = np.maximum(res.max_head - res.steady_head, 0.0)
         dp = transients.design_pressure_line(case.headwater - z, res.max_head, res.steady_head)
         design_head = dp if design_head is None else np.maximum(design_head, dp)
         env_rows.append(pd.DataFrame({
             "rejection from": name, "initial flow [m^3/s]": q, "chainage [m]": x,
             "pipe elevation [m]": z, "static line [m]": case.headwater,
-            "steady hydraulic grade line [m]": res.steady_head,
+            "initial steady head [m]": res.steady_head,
             "maximum head [m]": res.max_head, "minimum head [m]": res.min_head,
             "maximum transient rise [m]": rise,
-            "minimum pressure head [m]": res.min_head - z,
+            "minimum pressure head at the crown [m]": res.min_head - z - crown_drop,
             "design pressure head [m]": dp,
         }))
-        pmin = res.min_head - z
+        pmin = res.min_head - z - crown_drop
         for check, limit, text in (("sub-atmospheric", 0.0, "the down-surge takes the pressure "
                                     "below atmospheric"),
                                    ("vapour pressure", vap_head - atm_head,
@@ -309,7 +314,7 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
         "headline": {"max_surge_rise": rise_valve, "joukowsky": dh_jouk,
                      "joukowsky_inputs": (float(speeds[-1]), float(vel[-1])),
                      "shortest_closure": shortest, "water_starting_time": tw,
-                     "min_transient_pressure_head": float(envelope["minimum pressure head [m]"]
+                     "min_transient_pressure_head": float(envelope["minimum pressure head at the crown [m]"]
                                                           .min())},
     }
 

@@ -21,6 +21,8 @@ import pandas as pd
 from .. import drafttube, energy, hydrology, turbines
 from ..constants import GRAVITY
 from ..turbines import TURBINE_TYPES
+from ..case import CaseError
+from ..schema import CASE_FILE
 from .core import Warning_
 
 J_PER_MWH = 3.6e9
@@ -122,6 +124,11 @@ def run(case, props, steady, warns, methods, tick) -> dict:
         h_design = case.headwater - max(case.tailwater, z_run)
     loss_design = float(total_loss(case.design_flow))
     hn_design = h_design - loss_design
+    if hn_design <= 0.05 * h_design:
+        raise CaseError(CASE_FILE, "flows.design", f"the penstock loses {loss_design:.1f} m of "
+                        f"the {h_design:.1f} m gross head at the design flow "
+                        f"{case.design_flow:.4g} m^3/s; expected a smaller design flow or a "
+                        "larger pipe")
     eta_rated = float(turbines.turbine_efficiency(1.0, ttype, table=table))
     capacity = float(energy.electrical_power(case.design_flow, hn_design, rho, eta_rated,
                                              **drive))
@@ -142,7 +149,7 @@ def run(case, props, steady, warns, methods, tick) -> dict:
         "flow_duration": _flow_duration(river, residual.to_numpy(), op.turbined_flow),
         "power_duration": pd.DataFrame({
             "exceedance [%]": 100 * summ.power_duration.exceedance,
-            "power [kW]": summ.power_duration.flow / 1e3}),
+            "power when available [kW]": summ.power_duration.flow / 1e3 / t["availability"]}),
         "energy_annual": _annual(summ),
         "energy_monthly": _monthly(summ),
     }
@@ -234,7 +241,7 @@ def _turbine_choice(case, net_head, q_unit, power_unit, rho, warns, methods):
                      "head range low [m]": e["head_range"][0],
                      "head range high [m]": e["head_range"][1],
                      "flow in range": c.flow_in_range,
-                     "specific speed [-]": c.specific_speed,
+                     "specific speed n·√P/H^1.25 (rpm, kW, m) [-]": c.specific_speed,
                      "specific speed in range": c.specific_speed_in_range,
                      "chosen": c.turbine_type == ttype})
     methods.add("Turbine type", "application ranges of head, flow and metric specific speed "
@@ -255,7 +262,8 @@ def _turbine_choice(case, net_head, q_unit, power_unit, rho, warns, methods):
     if ttype not in set(df["turbine type"]) if len(df) else True:
         df = pd.concat([df, pd.DataFrame([{
             "turbine type": ttype, "suitability score [-]": 0.0, "head range low [m]": lo,
-            "head range high [m]": hi, "flow in range": False, "specific speed [-]": ns,
+            "head range high [m]": hi, "flow in range": False,
+            "specific speed n·√P/H^1.25 (rpm, kW, m) [-]": ns,
             "specific speed in range": slo <= ns <= shi, "chosen": True}])], ignore_index=True)
     df["speed [rpm]"] = speed
     return df, speed
@@ -268,10 +276,11 @@ def _setting(case, props, steady, total_loss, speed, table, drive, warns, method
     entry = TURBINE_TYPES[ttype]
     flows = np.asarray(steady["flows"], float)
     names = steady["flow_names"]
-    q_plant = np.minimum(flows, case.design_flow)
+    q_plant = np.minimum(flows, case.maximum_flow)
     tw = np.asarray(case.tailwater_at(q_plant + case.residual_flow), float)
-    hn = case.headwater - tw - total_loss(q_plant)
     z_run = t["runner_elevation"]
+    bottom = np.maximum(tw, z_run) if entry["impulse"] and z_run is not None else tw
+    hn = case.headwater - bottom - total_loss(q_plant)
     rows = []
     if entry["impulse"]:
         tw_max = float(case.tailwater_at(float(case.flow_record.max())))
@@ -299,7 +308,8 @@ def _setting(case, props, steady, total_loss, speed, table, drive, warns, method
     for name, q, h, w in zip(names, q_plant, hn, tw):
         k = int(units_running(q, q_rated, n))
         q_u = q / k
-        eta = float(turbines.turbine_efficiency(q_u / q_rated, ttype, table=table))
+        # overload above the rated flow keeps the rated efficiency (the curves end at 1)
+        eta = float(turbines.turbine_efficiency(min(q_u / q_rated, 1.0), ttype, table=table))
         p_unit = props.density * GRAVITY * q_u * h * eta
         ns = float(turbines.specific_speed(speed, max(p_unit, 1.0), h))
         ns_c = float(np.clip(ns, lo, hi))
@@ -309,7 +319,7 @@ def _setting(case, props, steady, total_loss, speed, table, drive, warns, method
                                                     sigma, h))
         actual = None if z_run is None else z_run - w
         rows.append({"flow case": name, "plant flow [m^3/s]": q, "units running": k,
-                     "net head [m]": h, "specific speed [-]": ns, "Thoma sigma [-]": sigma,
+                     "net head [m]": h, "specific speed n·√P/H^1.25 (rpm, kW, m) [-]": ns, "Thoma sigma [-]": sigma,
                      "tailwater [m]": w, "allowable suction head [m]": hs,
                      "highest runner elevation [m]": w + hs,
                      "runner elevation [m]": z_run,
@@ -332,13 +342,13 @@ def _draft_tube_table(case, props, steady, table, drive, methods):
                 "against an abrupt exit that loses the whole outlet velocity head",
                 "Gibson, A.H. (1910). On the flow of water through pipes and passages having "
                 "converging or diverging boundaries. Proc. R. Soc. Lond. A 83, 366–378")
-    flows = np.minimum(np.asarray(steady["flows"], float), case.design_flow)
+    flows = np.minimum(np.asarray(steady["flows"], float), case.maximum_flow)
     k = units_running(flows, case.design_flow / n, n)
     q_u = flows / k
     exit_head = drafttube.abrupt_exit_loss(q_u, dt["inlet_diameter"])
     gain = drafttube.velocity_head_recovery(q_u, dt["inlet_diameter"], dt["area_ratio"],
                                             dt["cone_angle"])
-    eta = np.array([float(turbines.turbine_efficiency(max(q / (case.design_flow / n), 1e-6),
+    eta = np.array([float(turbines.turbine_efficiency(min(q / (case.design_flow / n), 1.0),
                                                       t["type"], table=table)) for q in q_u])
     factor = drive["gearbox_efficiency"] * drive["generator_efficiency"] * \
         drive["transformer_efficiency"]

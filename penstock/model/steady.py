@@ -12,7 +12,7 @@ from .. import gradeline
 from ..constants import GRAVITY
 from ..route import build_route
 from ..turbines import TURBINE_TYPES
-from .core import Warning_
+from .core import Say, Warning_
 
 def _study_flows(case) -> tuple[np.ndarray, list[str]]:
     """Flows at which grade lines are drawn, with their names, in rising order."""
@@ -137,24 +137,38 @@ def _profile_table(case, route) -> pd.DataFrame:
 
 
 def _pressure_checks(case, route, gl, flow_names, atm_head, vap_head, warns):
+    """Pressure checks at the pipe crown with the headwater at its minimum level.
+
+    The grade lines are drawn from the normal headwater; the losses do not depend on
+    the level, so at the minimum headwater every head falls by the difference.  The
+    crown sees D/2 less than the centreline.  Both make the checks conservative.
+    """
+    say = Say(case.unit_system)
     rows, stretch_rows = [], []
     pipe = ~route.is_reservoir
     x = route.chainage[pipe]
+    crown = np.sqrt(4.0 * route.node_area[pipe] / np.pi) / 2.0
+    drawdown = case.headwater - case.headwater_min
     for i, name in enumerate(flow_names):
         q = float(gl.flow[i])
-        p = gl.pressure_head[i, pipe]
+        p_centre = gl.pressure_head[i, pipe]
+        p = p_centre - drawdown - crown
         j = int(np.argmin(p))
         rows.append({"flow case": name, "flow [m^3/s]": q,
-                     "minimum pressure head [m]": float(p[j]),
+                     "minimum pressure head at the crown [m]": float(p[j]),
                      "at chainage [m]": float(x[j]),
                      "minimum absolute pressure head [m]": float(p[j] + atm_head),
-                     "vapour pressure head [m]": vap_head})
+                     "vapour pressure head [m]": vap_head,
+                     "minimum pressure head at the centreline, normal headwater [m]":
+                         float(p_centre.min())})
         checks = [
-            ("sub-atmospheric", 0.0, "pressure head below zero (sub-atmospheric)"),
+            ("sub-atmospheric", 0.0, "pressure head at the crown below zero "
+             "(sub-atmospheric)"),
             ("below margin", case.pressure_margin,
-             f"pressure head below the {case.pressure_margin:g} m margin"),
+             f"pressure head at the crown below the {say.m(case.pressure_margin)} margin"),
             ("vapour pressure", vap_head - atm_head,
-             "absolute pressure at or below the vapour pressure: column separation"),
+             "absolute pressure at or below the vapour pressure: the water column separates "
+             "and the flow as computed cannot exist"),
         ]
         for check, limit, text in checks:
             for x0, x1, low, at in gradeline.flagged_stretches(x, p, limit):
@@ -163,9 +177,9 @@ def _pressure_checks(case, route, gl, flow_names, atm_head, vap_head, warns):
                                      "lowest pressure head [m]": low, "at chainage [m]": at})
                 if check == "below margin" and low < 0:
                     continue  # reported as sub-atmospheric already
-                warns.append(Warning_("grade line", f"{text} from {x0:.1f} to {x1:.1f} m "
-                                      f"(lowest {low:.2f} m at {at:.1f} m) at the {name}",
-                                      chainage=at, flow=q))
+                warns.append(Warning_("grade line", f"{text} from {say.ch(x0)} to "
+                                      f"{say.ch(x1)} (lowest {say.m(low)} at {say.ch(at)}) at "
+                                      f"the {name}, minimum headwater", chainage=at, flow=q))
     stretch_cols = ["flow case", "flow [m^3/s]", "check", "from chainage [m]",
                     "to chainage [m]", "lowest pressure head [m]", "at chainage [m]"]
     return pd.DataFrame(rows), pd.DataFrame(stretch_rows, columns=stretch_cols)

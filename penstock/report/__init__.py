@@ -58,9 +58,18 @@ def write_reports(results, workbook_path, system: str | None = None) -> dict:
                           f"(lock file {lock.name}); close it and run again")
     if book.exists() and not os.access(book, os.W_OK):
         raise ReportError(f"{book}: the existing workbook is read-only; expected a writable file")
-    tmp_dir = Path(tempfile.mkdtemp(prefix=f".{folder.name}.", dir=book.parent))
-    fd, tmp_book = tempfile.mkstemp(prefix=f".{book.stem}.", suffix=".tmp.xlsx",
-                                    dir=book.parent)
+    try:
+        tmp_dir = Path(tempfile.mkdtemp(prefix=f".{folder.name}.", dir=book.parent))
+    except OSError as exc:
+        raise ReportError(f"{book.parent}: cannot write the reports there "
+                          f"({exc.strerror}); expected a writable folder") from None
+    try:
+        fd, tmp_book = tempfile.mkstemp(prefix=f".{book.stem}.", suffix=".tmp.xlsx",
+                                        dir=book.parent)
+    except OSError as exc:
+        shutil.rmtree(tmp_dir, ignore_errors=True)
+        raise ReportError(f"{book.parent}: cannot write the reports there "
+                          f"({exc.strerror}); expected a writable folder") from None
     os.close(fd)
     umask = os.umask(0)
     os.umask(umask)
@@ -79,6 +88,11 @@ def write_reports(results, workbook_path, system: str | None = None) -> dict:
         os.replace(tmp_book, book)
         if old is not None:
             shutil.rmtree(old, ignore_errors=True)
+    except PermissionError as exc:
+        shutil.rmtree(tmp_dir, ignore_errors=True)
+        Path(tmp_book).unlink(missing_ok=True)
+        raise ReportError(f"{book}: cannot replace the report ({exc.strerror}); is it open "
+                          "or read-only?") from None
     except BaseException:
         shutil.rmtree(tmp_dir, ignore_errors=True)
         Path(tmp_book).unlink(missing_ok=True)

@@ -70,7 +70,7 @@ def write_comparison_workbook(table: pd.DataFrame, path, title: str, case_name: 
     for note in notes:
         sh.put(ws, row, 1, note, font=sh.NOTE)
         row += 1
-    first, _ = sh.write_table(ws, table, row=row + 1, widths={"quantity": 46})
+    first, _ = sh.write_table(ws, table, row=row + 1, widths={table.columns[0]: 46})
     for j in range(2, table.shape[1] + 1):
         ws.cell(row=row + 1, column=j)
         for i in range(first, first + len(table)):

@@ -22,8 +22,6 @@ def duration_sheet(ws, ctx, title):
                f"({r.case.flow_record.index[0]:%Y-%m-%d} to "
                f"{r.case.flow_record.index[-1]:%Y-%m-%d}).", font=sh.NOTE)
     row += 1
-    chart_row = row
-    row += 27
     fd = convert_table(r.flow_duration, ctx.system)
     first, last = sh.write_table(ws, fd, row=row)
     ws.freeze_panes = ws.cell(row=first, column=1)
@@ -33,16 +31,18 @@ def duration_sheet(ws, ctx, title):
     ch.x_axis.scaling.min, ch.x_axis.scaling.max = 0, 100
     for j, color in zip((2, 3, 4), ("1F77B4", "2CA02C", "D62728")):
         sh.add_line(ch, ws, 1, j, first, last, _name(fd.columns[j - 1]), color)
-    ws.add_chart(ch, f"A{chart_row}")
     pd_ = convert_table(r.power_duration.iloc[::max(1, len(r.power_duration) // 200)],
                         ctx.system)
     pcol = len(fd.columns) + 2
     pfirst, plast = sh.write_table(ws, pd_, row=row, col=pcol)
-    ch2 = sh.scatter_chart("Power-duration curve", "time exceeded [%]", "power [kW]",
+    ch2 = sh.scatter_chart("Power-duration curve", "time exceeded [%]",
+                           "power when available [kW]",
                            x_major=10, y_format="#,##0", width=16, height=12)
     ch2.x_axis.scaling.min, ch2.x_axis.scaling.max = 0, 100
     sh.add_line(ch2, ws, pcol, pcol + 1, pfirst, plast, "electrical power", "9467BD")
-    ws.add_chart(ch2, f"{get_column_letter(6)}{chart_row}")
+    ccol = get_column_letter(pcol + len(pd_.columns) + 1)
+    ws.add_chart(ch, f"{ccol}{row}")
+    ws.add_chart(ch2, f"{ccol}{row + 26}")
     ctx.page(ws)
 
 
@@ -102,10 +102,12 @@ def energy_sheet(ws, ctx, title):
     chart.legend = None
     chart.height, chart.width = 9, 22
     data = Reference(ws, min_col=2, max_col=13, min_row=mean_row, max_row=mean_row)
-    cats = Reference(ws, min_col=2, max_col=13, min_row=first - 1, max_row=first - 1)
+    for j in range(12):   # plain month names as the chart's categories
+        sh.put(ws, mean_row + 1, 2 + j, MONTHS[j], font=sh.NOTE)
+    cats = Reference(ws, min_col=2, max_col=13, min_row=mean_row + 1, max_row=mean_row + 1)
     chart.add_data(data, from_rows=True, titles_from_data=False)
     chart.set_categories(cats)
-    row = mean_row + 2
+    row = mean_row + 3
     ws.add_chart(chart, f"A{row}")
     row += 20
     sh.put(ws, row, 1, "Energy lost by year [MWh]: to penstock friction (what a loss-free "

@@ -57,6 +57,14 @@ def hammer_sheet(ws, ctx, title):
                 markers=True)
     sh.add_line(ch3, ws, 1, 5, cfirst, clast, "minimum head along the route", "2CA02C",
                 markers=True)
+    cs = r.closure_study
+    lo3 = float(ctx.v(min(cs["minimum head along the route [m]"].min(),
+                          cs["maximum head at the turbine [m]"].min()), "m"))
+    hi3 = float(ctx.v(cs["maximum head at the turbine [m]"].max(), "m"))
+    step3 = sh.nice_step(hi3 - lo3, 6)
+    ch3.y_axis.majorUnit = step3
+    ch3.y_axis.scaling.min = float((lo3 // step3) * step3)
+    ch3.y_axis.scaling.max = float((hi3 // step3 + 1) * step3)
     ws.add_chart(ch3, f"H{row}")
     row = max(clast + 2, row + 20)
     chart_row = row
@@ -82,7 +90,7 @@ def hammer_sheet(ws, ctx, title):
     ch.y_axis.scaling.min = float((lo // step) * step)
     ch.y_axis.scaling.max = float((hi // step + 1) * step)
     for name, color, dash in (("pipe elevation", "000000", None), ("static line", "7F7F7F", "dash"),
-                              ("steady hydraulic grade line", "1F77B4", None),
+                              ("initial steady head", "1F77B4", None),
                               ("maximum head", "D62728", None), ("minimum head", "2CA02C", None)):
         j = next(k for k, c in enumerate(cols) if c.startswith(name)) + 1
         sh.add_line(ch, ws, 2, j, efirst, elast, name, color, dash=dash)

@@ -101,7 +101,13 @@ def _shown(v) -> str:
 
 def _format_for(header: str) -> str | None:
     _, unit = split_header(header)
-    return FORMATS.get(unit, "0.000") if unit else None
+    if not unit:
+        return None
+    if unit in FORMATS:
+        return FORMATS[unit]
+    if unit[:3].isalpha() and unit[:3].isupper():   # a currency, e.g. USD or USD/year
+        return "#,##0"
+    return "0.000"
 
 
 def page_setup(ws, case_name: str, version: str, run_date: str, title_rows: str | None = None):

@@ -209,16 +209,16 @@ def _route_sheet(ws, ctx):
     table = convert_table(wide, ctx.system)
     sh.put(ws, row, 1, "Flows: " + "; ".join(
         f"{k} {ctx.v(q, 'm^3/s'):.3f} {ctx.u('m^3/s')}" for k, q in flows.items()), font=sh.NOTE)
-    chart_row = row + 1
-    row += 29   # the chart sits above the table
+    row += 1
     first, last = sh.write_table(ws, table, row=row, widths={c: 13 for c in table.columns[2:]})
     ws.column_dimensions["B"].width = 34
     ws.freeze_panes = ws.cell(row=first, column=2)
     ctx.page(ws)
     # the profile with its ground line, below the grade-line table
     prof = convert_table(r.profile, ctx.system)
-    sh.put(ws, last + 2, 1, "Route profile as given", font=sh.SUBTITLE)
-    pfirst, plast = sh.write_table(ws, prof, row=last + 3, col=1)
+    chart_row = last + 2
+    sh.put(ws, last + 30, 1, "Route profile as given", font=sh.SUBTITLE)
+    pfirst, plast = sh.write_table(ws, prof, row=last + 31, col=1)
     cols = list(table.columns)
     chart = _route_chart(ctx, ws, table, cols, first, last, cases, 1, pfirst, plast, prof)
     ws.add_chart(chart, f"A{chart_row}")
@@ -314,9 +314,11 @@ def _col(cols, prefix):
 def _pressure_sheet(ws, ctx):
     r = ctx.r
     row = _title(ws, ctx, "Pressure checks along the route")
-    sh.put(ws, row, 1, f"Pressure head is gauge pressure at the pipe centreline in metres of "
-           f"water. Margin required: {ctx.v(ctx.case.pressure_margin, 'm'):.2f} {ctx.u('m')}.",
-           font=sh.NOTE)
+    lu = ctx.u("m")
+    sh.put(ws, row, 1, f"Pressure head is gauge pressure in {lu} of water. The checks hold at "
+           f"the pipe crown (D/2 above the centreline) with the headwater at its minimum "
+           f"level; the grade-line sheet shows the centreline at the normal headwater. "
+           f"Margin required: {ctx.v(ctx.case.pressure_margin, 'm'):.2f} {lu}.", font=sh.NOTE)
     row += 1
     first, last = sh.write_table(ws, convert_table(r.pressure_checks, ctx.system), row=row)
     ws.freeze_panes = ws.cell(row=first, column=1)

@@ -1,0 +1,205 @@
+"""Batch runs: many case folders, one workbook each, and a portfolio workbook.
+
+Cases run in a process pool (or, with the optional ``dask`` extra, on a Dask
+cluster); each writes its reports atomically, so an interrupted batch leaves the
+finished workbooks intact and no partial files.  One case's bad input is reported
+and the others still run.
+"""
+
+from __future__ import annotations
+
+import concurrent.futures as cf
+import os
+from dataclasses import dataclass
+from pathlib import Path
+
+import pandas as pd
+
+from .case import CaseError
+from .schema import CASE_FILE
+
+#: Columns of the portfolio table, from each case's headline.
+PORTFOLIO = [
+    ("net head at design flow [m]", "net_head", 1.0),
+    ("installed capacity [kW]", "installed_capacity", 1e-3),
+    ("mean annual energy [MWh]", "mean_annual_energy", 1 / 3.6e9),
+    ("capacity factor [%]", "capacity_factor", 100.0),
+    ("recommended diameter [m]", "selected_diameter", 1.0),
+    ("maximum transient rise [m]", "max_surge_rise", 1.0),
+    ("minimum steady pressure head [m]", "min_pressure_head", 1.0),
+    ("minimum transient pressure head [m]", "min_transient_pressure_head", 1.0),
+]
+
+
+@dataclass
+class Outcome:
+    """What one case of a batch produced."""
+
+    folder: str
+    ok: bool
+    row: dict
+    error: str = ""
+
+
+def expand(paths) -> list[Path]:
+    """Case folders named directly, or found one level inside folders that hold cases.
+
+    Plain files among several paths (as a shell glob gives them) are passed over.
+    """
+    paths = list(paths)
+    out = []
+    for p in map(Path, paths):
+        if (p / CASE_FILE).is_file() or p.name == CASE_FILE:
+            out.append(p.parent if p.name == CASE_FILE else p)
+        elif p.is_dir():
+            inner = sorted(q for q in p.iterdir() if (q / CASE_FILE).is_file())
+            if not inner:
+                out.append(p)   # reported by the loader: not a case folder
+            out.extend(inner)
+        elif p.exists() and len(list(paths)) > 1:
+            continue   # a plain file picked up by a shell glob such as cases/*
+        else:
+            out.append(p)
+    seen, unique = set(), []
+    for p in out:
+        key = p.resolve()
+        if key not in seen:
+            seen.add(key)
+            unique.append(p)
+    return unique
+
+
+def run_one(folder: str, out_dir: str, units: str | None) -> Outcome:
+    """Load, run and write one case; never raises for a case's own problems."""
+    from . import load_case, run_case
+    from .report import ReportError, write_reports
+
+    try:
+        case = load_case(folder)
+        results = run_case(case)
+        write_reports(results, Path(out_dir) / f"{case.slug}.xlsx", units)
+    except (CaseError, ReportError) as exc:
+        return Outcome(str(folder), False, {}, str(exc))
+    except Exception as exc:   # an internal error in one case must not stop the batch
+        return Outcome(str(folder), False, {}, f"internal error: {type(exc).__name__}: {exc}")
+    h = results.headline
+    row = {"site": case.name, "folder": str(folder)}
+    for name, key, scale in PORTFOLIO:
+        v = h.get(key)
+        row[name] = None if v is None else float(v) * scale
+    row["warnings"] = int((results.warnings["severity"] == "warning").sum())
+    row["notes"] = int((results.warnings["severity"] == "note").sum())
+    return Outcome(str(folder), True, row)
+
+
+def run_many(folders, out_dir="reports", workers=None, units=None, progress=None,
+             scheduler="process", address=None) -> list[Outcome]:
+    """Run many cases; outcomes come back in the order of ``folders``.
+
+    Parameters
+    ----------
+    folders : list of path-like
+        Case folders.
+    out_dir : path-like
+        Where each case's workbook and folder are written.
+    workers : int, optional
+        Processes (default: the machine's cores, at most the number of cases).
+    units : {"si", "us"}, optional
+        Report units; default each case's own.
+    progress : callable, optional
+        Called with the number of cases finished so far.
+    scheduler : {"process", "dask"}
+        ``dask`` needs the optional extra; ``address`` names a running scheduler,
+        else a local cluster is started.
+    """
+    folders = [str(f) for f in folders]
+    Path(out_dir).mkdir(parents=True, exist_ok=True)
+    tick = progress or (lambda n: None)
+    if scheduler == "dask":
+        return _run_dask(folders, str(out_dir), units, address, tick)
+    workers = max(1, min(workers or os.cpu_count() or 1, len(folders)))
+    if workers == 1:
+        out = []
+        for i, f in enumerate(folders):
+            out.append(run_one(f, str(out_dir), units))
+            tick(i + 1)
+        return out
+    results: dict[int, Outcome] = {}
+    pool = cf.ProcessPoolExecutor(max_workers=workers)
+    try:
+        futures = {pool.submit(run_one, f, str(out_dir), units): i
+                   for i, f in enumerate(folders)}
+        for fut in cf.as_completed(futures):
+            results[futures[fut]] = fut.result()
+            tick(len(results))
+    except KeyboardInterrupt:
+        pool.shutdown(wait=True, cancel_futures=True)
+        raise
+    pool.shutdown(wait=True)
+    return [results[i] for i in range(len(folders))]
+
+
+def _run_dask(folders, out_dir, units, address, tick):
+    try:
+        from dask.distributed import Client, LocalCluster, as_completed
+    except ImportError:
+        raise CaseError("--scheduler", "", "dask is not installed; install the optional "
+                        "extra: pip install -e \".[dask]\"") from None
+    cluster = None
+    if address:
+        client = Client(address)
+    else:
+        cluster = LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
+                               dashboard_address=None)
+        client = Client(cluster)
+    try:
+        futs = [client.submit(run_one, f, out_dir, units, pure=False) for f in folders]
+        done = 0
+        for _ in as_completed(futs):
+            done += 1
+            tick(done)
+        return [f.result() for f in futs]
+    finally:
+        client.close()
+        if cluster is not None:
+            cluster.close()
+
+
+def portfolio_table(outcomes) -> pd.DataFrame:
+    """One row per case: headline results and the warnings count, or the error."""
+    rows = []
+    for o in outcomes:
+        row = {"site": o.row.get("site", ""), "folder": o.folder,
+               "status": "ok" if o.ok else "failed", **{k: v for k, v in o.row.items()
+                                                        if k not in ("site", "folder")},
+               "error": o.error}
+        rows.append(row)
+    cols = ["site", "folder", "status"] + [c for c, _, _ in PORTFOLIO] + ["warnings", "notes",
+                                                                          "error"]
+    return pd.DataFrame(rows).reindex(columns=cols)
+
+
+def write_portfolio(outcomes, path, version: str) -> None:
+    """The portfolio workbook, written atomically."""
+    import tempfile
+
+    from .report.compare import write_comparison_workbook
+
+    table = portfolio_table(outcomes)
+    path = Path(path)
+    fd, tmp = tempfile.mkstemp(prefix=".portfolio.", suffix=".tmp.xlsx", dir=path.parent)
+    os.close(fd)
+    try:
+        n_bad = int((table["status"] != "ok").sum())
+        write_comparison_workbook(
+            table, tmp, "Portfolio of sites",
+            "portfolio", version,
+            notes=[f"{len(table)} cases, {n_bad} failed. Each case has its own workbook "
+                   "beside this one."])
+        umask = os.umask(0)
+        os.umask(umask)
+        os.chmod(tmp, 0o666 & ~umask)
+        os.replace(tmp, path)
+    except BaseException:
+        Path(tmp).unlink(missing_ok=True)
+        raise
