@@ -103,6 +103,7 @@ class Case:
     wall: dict = field(default_factory=dict)
     costs: dict = field(default_factory=dict)
     diameter_study: dict = field(default_factory=dict)
+    uncertainty: dict = field(default_factory=dict)
     echo: list[dict] = field(default_factory=list)
 
     @property
@@ -558,7 +559,8 @@ def load_case(path) -> Case:
         residual_percent=flows["residual_percent"], firm_exceedance=flows["firm_exceedance"],
         turbine=turbine, draft_tube=draft, economics=values["economics"],
         surge=surge, wall=values["wall"], costs=values["costs"],
-        diameter_study=values["diameter_study"], echo=rd.echo,
+        diameter_study=values["diameter_study"], uncertainty=values["uncertainty"],
+        echo=rd.echo,
     )
 
 

@@ -22,6 +22,7 @@ examples:
   penstock run cases/alder-gorge-high-head
   penstock run cases/cedar-fork-us-units --units si --out reports/cedar-si.xlsx
   penstock run my-site --quiet
+  penstock run cases/alder-gorge-high-head --samples 2000   # P50/P90 energy
   penstock run cases/* --workers 2            # a batch, with reports/portfolio.xlsx
 """,
     "check": """\
@@ -128,7 +129,9 @@ def _run_single(args) -> int:
         raise CaseError("--out", "", f"'{out}' is not an .xlsx file name")
     tick, close = _progress(args.quiet)
     try:
-        results = run_case(case, progress=tick)
+        if args.samples is not None and args.samples < 0:
+            raise CaseError("--samples", "", f"{args.samples} is negative; expected 0 or more")
+        results = run_case(case, progress=tick, samples=args.samples)
         if tick:
             tick("writing reports")
         written = write_reports(results, out, args.units)
@@ -282,6 +285,8 @@ def build_parser() -> argparse.ArgumentParser:
     sp.add_argument("--out", metavar="PATH", help="workbook path (default reports/<case>.xlsx); "
                     "tables and figures go to a folder of the same name. For a batch: the "
                     "folder for all reports (default reports/)")
+    sp.add_argument("--samples", type=int, metavar="N", help="Monte Carlo samples (overrides the "
+                    "case's uncertainty.samples; 0 for none)")
     sp.add_argument("--workers", type=int, metavar="N", help="processes for a batch "
                     "(default: the machine's cores)")
     sp.add_argument("--scheduler", choices=("process", "dask"), default="process",

@@ -242,6 +242,32 @@ SECTIONS: tuple[Section, ...] = (
         Field("points", "integer", "Diameters in the sweep.", default=200, minimum=10,
               maximum=2000),
     ), required=False),
+    Section("uncertainty", "Monte Carlo of the energy and cost (run with samples > 0 or "
+            "penstock run --samples N). Spreads default to zero; with all zero every sample "
+            "equals the deterministic run.", (
+        Field("samples", "integer", "Number of samples; 0 runs no Monte Carlo.", default=0,
+              minimum=0, maximum=100000),
+        Field("seed", "integer", "Seed of the random generator (same seed, same samples).",
+              default=1, minimum=0, maximum=2**31 - 1),
+        Field("roughness_factor", "fraction", "Spread of the pipes' roughness: σ of its "
+              "logarithm (median factor 1).", default="0 %", minimum=0.0, maximum=2.0),
+        Field("roughness_growth", "roughness_growth", "Spread (standard deviation) of the "
+              "roughness growth rate around the pipes' own; the energy uses the roughness at "
+              "half the service life, the pressure margin at its end.",
+              default="0 mm/year", minimum=0.0, maximum=0.005),
+        Field("efficiency_offset", "fraction", "Spread (standard deviation) of an offset added "
+              "to the turbine efficiency at every flow, in efficiency points.",
+              default="0 %", minimum=0.0, maximum=0.2),
+        Field("flow_scale", "fraction", "Spread (standard deviation) of a factor on the whole "
+              "flow record (median 1).", default="0 %", minimum=0.0, maximum=1.0),
+        Field("flow_method", "choice", "scale: the factor alone; bootstrap: the factor, and "
+              "the complete years of the record resampled with replacement.",
+              default="scale", choices=("scale", "bootstrap")),
+        Field("energy_price", "fraction", "Spread of the energy price: σ of its logarithm.",
+              default="0 %", minimum=0.0, maximum=2.0),
+        Field("capital_cost", "fraction", "Spread of the pipe capital cost: σ of its "
+              "logarithm.", default="0 %", minimum=0.0, maximum=2.0),
+    ), required=False),
     Section("surge", "Water hammer settings: a load rejection from the design flow (and any "
             "listed flow) closes the turbine gates or valve at the end of the penstock.", (
         Field("closure_time", "time", "Effective closure time of the turbine gates, nozzle or "

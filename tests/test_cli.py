@@ -115,7 +115,7 @@ def test_csv_tables_read_back(demo_runs, name):
 
 
 #: Numeric columns that are labels or counts, not quantities: no unit expected.
-NO_UNIT = {"year", "month", "steps", "units running", "pipe"}
+NO_UNIT = {"year", "month", "steps", "units running", "pipe", "sample", "samples"}
 def _unitless_numeric_columns(folder: Path) -> list[str]:
     bad = []
     for f in sorted(folder.glob("*.csv")):
@@ -124,6 +124,7 @@ def _unitless_numeric_columns(folder: Path) -> list[str]:
             s = df[col]
             if (pd.api.types.is_numeric_dtype(s) and not pd.api.types.is_bool_dtype(s)
                     and s.notna().any() and col not in NO_UNIT
+                    and not (col == "value" and "unit" in df.columns)   # unit given per row
                     and not re.search(r"\[[^\[\]]+\]$", col)):
                 bad.append(f"{f.name}: {col}")
     return bad
@@ -234,7 +235,7 @@ def test_out_must_be_an_xlsx_name(tmp_path):
 def test_internal_error_exits_1_without_traceback(tmp_path, monkeypatch):
     import penstock.model
 
-    def broken(case, progress=None):
+    def broken(case, progress=None, samples=None):
         raise RuntimeError("simulated failure")
 
     monkeypatch.setattr(penstock.model, "run_case", broken)

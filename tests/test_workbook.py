@@ -47,7 +47,7 @@ TOOLS = REPO.parent / "shared" / "tools"
 LO_TIMEOUT = 240   # s per LibreOffice call; a conversion takes a few seconds
 
 #: Numeric columns that are labels or counts, not quantities: no unit expected.
-NO_UNIT = {"year", "month", "steps", "units running", "pipe"}
+NO_UNIT = {"year", "month", "steps", "units running", "pipe", "sample", "samples"}
 #: Sheets holding one long data table, whose header row should stay in view.
 DATA_SHEETS = ["Inputs", "Route and grade lines", "Pressure checks", "Loss breakdown",
                "Flow and power duration", "Energy by year and month", "Cautions"]

@@ -17,12 +17,12 @@ import pandas as pd
 
 from .. import __version__, water
 from .core import STANDING_CAUTION, TABLE_ORDER, Methods, Results, Warning_
-from . import hammer, production, sizing, steady
+from . import hammer, production, sizing, steady, uncertainty
 
 __all__ = ["STANDING_CAUTION", "TABLE_ORDER", "Results", "Warning_", "run_case"]
 
 
-def run_case(case, progress=None) -> Results:
+def run_case(case, progress=None, samples=None) -> Results:
     """Run a validated case through the models.
 
     Parameters
@@ -31,6 +31,8 @@ def run_case(case, progress=None) -> Results:
         From :func:`penstock.load_case`.
     progress : callable, optional
         Called as ``progress(step_name)`` before each stage, for a progress bar.
+    samples : int, optional
+        Monte Carlo samples; overrides the case's ``uncertainty.samples`` (0: none).
 
     Returns
     -------
@@ -53,8 +55,10 @@ def run_case(case, progress=None) -> Results:
     prod = production.run(case, props, st, warns, methods, tick)
     ham = hammer.run(case, props, st, prod, warns, methods, tick)
     size = sizing.run(case, props, st, prod, ham, warns, methods, tick)
+    mc = uncertainty.run(case, props, st, prod, size, warns, methods, tick, samples)
 
     headline = {**prod["headline"], **ham["headline"], **size["headline"],
+                **mc.get("headline", {}),
                 "density": props.density,
                 "min_pressure_head": float(
                     st["pressure_checks"]["minimum pressure head at the crown [m]"].min())}
@@ -63,7 +67,7 @@ def run_case(case, progress=None) -> Results:
         [{"severity": w.severity, "topic": w.topic, "message": w.message,
           "chainage [m]": w.chainage, "flow [m^3/s]": w.flow} for w in warns],
         columns=["severity", "topic", "message", "chainage [m]", "flow [m^3/s]"])
-    tables = {k: v for k, v in {**st, **prod, **ham, **size}.items()
+    tables = {k: v for k, v in {**st, **prod, **ham, **size, **mc}.items()
               if isinstance(v, pd.DataFrame)}
     return Results(
         case=case, run_date=_dt.date.today().isoformat(), version=__version__,

@@ -102,6 +102,10 @@ TABLE_ORDER = {
     "diameter_sensitivity": "diameter_sensitivity",
     "diameter_one_at_a_time": "diameter_one_at_a_time",
     "wall_profile": "wall_profile",
+    "mc_summary": "uncertainty_summary",
+    "mc_samples": "uncertainty_samples",
+    "mc_exceedance": "uncertainty_energy_exceedance",
+    "mc_cost_histogram": "uncertainty_cost_histogram",
     "warnings": "cautions",
     "methods": "methods",
 }
@@ -146,6 +150,10 @@ class Results:
     diameter_sensitivity: pd.DataFrame | None = None
     diameter_one_at_a_time: pd.DataFrame | None = None
     wall_profile: pd.DataFrame | None = None
+    mc_summary: pd.DataFrame | None = None
+    mc_samples: pd.DataFrame | None = None
+    mc_exceedance: pd.DataFrame | None = None
+    mc_cost_histogram: pd.DataFrame | None = None
     headline: dict = field(default_factory=dict)
 
     def tables(self) -> dict[str, pd.DataFrame]:

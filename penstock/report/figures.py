@@ -164,14 +164,40 @@ def hammer_figure(results, system: str):
     return fig
 
 
+
+def uncertainty_figure(results, system: str):
+    """Exceedance of the sampled mean annual energy, and the annualized-cost histogram."""
+    fig, (a1, a2) = plt.subplots(1, 2, figsize=(12, 4.6), dpi=110)
+    ex = results.mc_exceedance
+    a1.plot(ex["probability of exceedance [%]"], ex["mean annual energy [MWh]"], color="C0")
+    h = results.headline
+    for key, lab in (("p50_energy", "P50"), ("p90_energy", "P90"), ("p99_energy", "P99")):
+        a1.axhline(h[key] / 3.6e9, ls=":", color="0.4")
+        a1.annotate(lab, (2, h[key] / 3.6e9), fontsize=8, va="bottom")
+    a1.set_xlabel("probability of exceedance [%]")
+    a1.set_ylabel("mean annual energy [MWh]")
+    a1.set_title("Mean annual energy")
+    a1.grid(True, alpha=0.3)
+    cost = results.mc_samples["annualized cost [currency/year]"]
+    cur = results.case.economics["currency"]
+    if cost.notna().any():
+        a2.hist(cost.dropna(), bins=30, color="C1")
+    a2.set_xlabel(f"annualized cost [{cur}/year]")
+    a2.set_ylabel("samples")
+    a2.set_title("Annualized cost at the recommended diameter")
+    fig.suptitle(f"{results.case.name}: {len(results.mc_samples)} samples", fontsize=10)
+    fig.tight_layout()
+    return fig
+
+
 FIGURES = {"route_profile": route_figure, "loss_breakdown": loss_figure,
            "duration_curves": duration_figure, "monthly_energy": monthly_energy_figure,
-           "design_flow_study": design_flow_figure, "water_hammer": hammer_figure}
+           "design_flow_study": design_flow_figure, "water_hammer": hammer_figure, "uncertainty": uncertainty_figure}
 
 
 #: Figures that need a table of a stage that may not have run.
 NEEDS = {"duration_curves": "flow_duration", "monthly_energy": "energy_monthly",
-         "design_flow_study": "design_flow_study", "water_hammer": "transient_envelope"}
+         "design_flow_study": "design_flow_study", "water_hammer": "transient_envelope", "uncertainty": "mc_summary"}
 
 
 def write_figures(results, folder, system: str) -> list[str]:

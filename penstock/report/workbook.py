@@ -21,6 +21,7 @@ from . import energy_sheets as es
 from . import sheets as sh
 from .diameter_sheet import diameter_sheet
 from .hammer_sheet import hammer_sheet
+from .uncertainty_sheet import uncertainty_sheet
 from .units import convert_table, convert_value, report_unit
 
 #: Sheet names, in reading order (plain trade terms).
@@ -36,6 +37,7 @@ SHEET_NAMES = {
     "turbine": "Turbine setting",
     "hammer": "Water hammer",
     "diameter": "Diameter study",
+    "uncertainty": "Uncertainty",
     "cautions": "Cautions",
     "methods": "Methods and sources",
 }
@@ -72,6 +74,8 @@ def write_workbook(results, path, system: str | None = None) -> None:
         hammer_sheet(wb.create_sheet(SHEET_NAMES["hammer"]), ctx, _title)
     if es.has_energy(results):
         es.turbine_sheet(wb.create_sheet(SHEET_NAMES["turbine"]), ctx, _title)
+    if results.mc_summary is not None:
+        uncertainty_sheet(wb.create_sheet(SHEET_NAMES["uncertainty"]), ctx, _title)
     _cautions_sheet(wb.create_sheet(SHEET_NAMES["cautions"]), ctx)
     _methods_sheet(wb.create_sheet(SHEET_NAMES["methods"]), ctx)
     props = wb.properties

@@ -1,0 +1,300 @@
+"""Monte Carlo stage: P50/P90/P99 energy, annualized cost and pressure-margin risk.
+
+Vectorized across samples: the plant is operated over the flow record for a block of
+samples at once (arrays of shape ``(samples, steps)``; :func:`penstock.energy.
+simulate_plant` broadcasts over the leading axis).  The sampled inputs:
+
+* the pipes' roughness, a log-normal factor and a growth rate spread: the penstock
+  loss of each sample is the deterministic loss (pipe as new, as in the energy stage)
+  times the ratio of the sample's loss to the deterministic one, both with the
+  roughness at half the service life, tabulated on a grid of (factor, growth offset);
+* an offset on the turbine efficiency, applied to each step's efficiency (the
+  dispatch follows the unshifted curve, a planning simplification);
+* a factor on the flow record, or that factor and a block bootstrap of complete years;
+* log-normal factors on the energy price and the pipe capital cost.
+
+With every spread zero each sample reproduces the deterministic run.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+from .. import economics, energy, gradeline
+from .core import Warning_
+
+BLOCK_ELEMENTS = 2_000_000   # samples × steps per block, to bound memory
+
+
+def draw(u: dict, n: int) -> dict:
+    """The sampled factors, in a fixed order from the case's seed."""
+    rng = np.random.default_rng(u["seed"])
+    z = rng.standard_normal((6, n))
+    return {
+        "roughness factor": np.exp(u["roughness_factor"] * z[0]),
+        "growth offset": u["roughness_growth"] * z[1],
+        "efficiency offset": u["efficiency_offset"] * z[2],
+        "flow factor": np.maximum(1.0 + u["flow_scale"] * z[3], 0.05),
+        "price factor": np.exp(u["energy_price"] * z[4]),
+        "capital factor": np.exp(u["capital_cost"] * z[5]),
+        "rng": rng,
+    }
+
+
+def sampled_roughness(case, route, factor, growth, years):
+    """Element roughness: the pipe's own times ``factor``, plus its growth rate shifted by
+    ``growth`` (never below zero) over ``years``."""
+    rough = route.roughness * factor
+    for i, seg in enumerate(case.segments):
+        rate = max((seg.roughness_growth or 0.0) + growth, 0.0)
+        rough[route.element_segment == i] += rate * years
+    return rough
+
+
+class _LossRatio:
+    """Loss ratio h(Q; factor, growth) / h(Q; 1, 0) tabulated on a grid, interpolated."""
+
+    def __init__(self, case, props, route, years, factors, growth, n_flow=64):
+        self.years = years
+        q_top = 1.5 * case.maximum_flow
+        self.q = np.geomspace(1e-3 * q_top, q_top, n_flow)
+        self.active = bool(np.any(factors != 1.0) or np.any(growth != 0.0))
+        if not self.active:
+            return
+        self.f_grid = np.geomspace(max(factors.min(), 1e-3), max(factors.max(), 1e-3) * 1.0001,
+                                   7)
+        lo, hi = float(growth.min()), float(growth.max())
+        self.g_grid = np.linspace(lo, hi if hi > lo else lo + 1e-9, 5)
+        base = self._loss(case, props, route, 1.0, 0.0)
+        self.table = np.array([[self._loss(case, props, route, f, g) / base
+                                for g in self.g_grid] for f in self.f_grid])
+
+    def _loss(self, case, props, route, factor, growth):
+        rough = sampled_roughness(case, route, factor, growth, self.years)
+        g = gradeline.grade_lines(self.q, case.headwater, route.chainage, route.elevation,
+                                  route.node_area, route.length, route.diameter, rough,
+                                  route.k, route.reference_area, props.kinematic_viscosity)
+        return (g.friction_loss + g.local_loss).sum(axis=1)
+
+    def per_sample(self, factors, growth):
+        """Ratio on the flow grid for each sample -> (samples, n_flow)."""
+        if not self.active:
+            return np.ones((len(factors), len(self.q)))
+        lf = np.log(self.f_grid)
+        x = np.clip(np.log(factors), lf[0], lf[-1])
+        y = np.clip(growth, self.g_grid[0], self.g_grid[-1])
+        i = np.clip(np.searchsorted(lf, x) - 1, 0, len(lf) - 2)
+        j = np.clip(np.searchsorted(self.g_grid, y) - 1, 0, len(self.g_grid) - 2)
+        tx = (x - lf[i]) / (lf[i + 1] - lf[i])
+        ty = (y - self.g_grid[j]) / (self.g_grid[j + 1] - self.g_grid[j])
+        t = self.table
+        return ((1 - tx)[:, None] * (1 - ty)[:, None] * t[i, j] + tx[:, None] * (1 - ty)[:, None]
+                * t[i + 1, j] + (1 - tx)[:, None] * ty[:, None] * t[i, j + 1]
+                + tx[:, None] * ty[:, None] * t[i + 1, j + 1])
+
+
+def _block_loss(base_loss, ratio_q, ratio):
+    """A head-loss callable for a block of samples: base loss × the sample's ratio."""
+    log_q = np.log(ratio_q)
+
+    def loss(q):
+        q = np.asarray(q, float)
+        h = base_loss(q)
+        if np.all(ratio == 1.0):
+            return h
+        x = np.clip(np.log(np.maximum(np.abs(q), ratio_q[0])), log_q[0], log_q[-1])
+        k = np.clip(np.searchsorted(log_q, x) - 1, 0, len(log_q) - 2)
+        w = (x - log_q[k]) / (log_q[k + 1] - log_q[k])
+        # samples run along the second-to-last axis of q: (units, samples, steps)
+        shape = [1] * q.ndim
+        shape[q.ndim - 2] = ratio.shape[0]
+        rows = np.arange(ratio.shape[0]).reshape(shape)
+        return h * (ratio[rows, k] * (1 - w) + ratio[rows, k + 1] * w)
+
+    return loss
+
+
+def run(case, props, steady, prod, size, warns, methods, tick, samples=None) -> dict:
+    """Monte Carlo of the mean annual energy, annualized cost and minimum pressure margin."""
+    u = case.uncertainty
+    n = int(samples if samples is not None else u["samples"])
+    if n <= 0:
+        return {}
+    tick(f"Monte Carlo, {n} samples")
+    d = draw(u, n)
+    op = prod["operation"]
+    t = case.turbine
+    index, river, gross = op["index"], op["river"], op["gross"]
+    residual = _residual_series(case, index, river)
+    route = steady["route"]
+    life = case.service_life
+    # energy uses the roughness at half the service life; the margin at its end
+    ratio_e = _LossRatio(case, props, route, life / 2, d["roughness factor"],
+                         d["growth offset"])
+    ratio_s = ratio_e.per_sample(d["roughness factor"], d["growth offset"])
+    annual_steps = _year_blocks(index, prod)
+    complete = annual_steps["complete"]
+    step = op["step_seconds"]
+    energies = np.empty((n, len(complete)))
+    lost = np.empty(n)
+    block = max(1, BLOCK_ELEMENTS // max(len(river), 1))
+    min_rel = case.minimum_flow / (case.design_flow / t["units"]) \
+        if case.minimum_flow is not None else None
+    for a in range(0, n, block):
+        b = min(n, a + block)
+        rv = d["flow factor"][a:b, None] * river[None, :]
+        loss = _block_loss(steady["head_loss"], ratio_e.q, ratio_s[a:b])
+        dt_loss = op["dt_loss"]
+
+        def total(q, loss=loss, dt_loss=dt_loss):
+            out = loss(q)
+            return out + dt_loss(q) if dt_loss is not None else out
+
+        o = energy.simulate_plant(rv, gross, case.design_flow / t["units"],
+                                  density=props.density, n_units=t["units"],
+                                  turbine_type=t["type"], efficiency_table=op["table"],
+                                  head_loss=total, residual=residual[None, :],
+                                  minimum_relative_flow=min_rel,
+                                  availability=t["availability"], **op["drive"])
+        p = np.asarray(o.power, float)
+        eta = np.asarray(o.turbine_efficiency, float)
+        off = d["efficiency offset"][a:b, None]
+        if np.any(off != 0):
+            with np.errstate(invalid="ignore", divide="ignore"):
+                p = np.where(eta > 0, p * np.clip(eta + off, 0.0, 1.0) / eta, 0.0)
+        e_step = p * step
+        energies[a:b] = np.add.reduceat(e_step, annual_steps["starts"], axis=1)
+        gap = (np.asarray(o.power_without_friction, float) - np.asarray(o.power, float)) * step
+        by_year = np.add.reduceat(gap, annual_steps["starts"], axis=1)
+        lost[a:b] = by_year[:, complete].mean(axis=1) if complete.any() else by_year.sum(1)
+    if u["flow_method"] == "bootstrap" and complete.sum() >= 2:
+        years = np.flatnonzero(complete)
+        pick = d["rng"].integers(0, len(years), size=(n, len(years)))
+        mean_energy = np.take_along_axis(energies[:, years], pick, axis=1).mean(axis=1)
+    elif complete.any():
+        mean_energy = energies[:, complete].mean(axis=1)
+    else:
+        mean_energy = energies.sum(axis=1) * (8760 * 3600.0) / (len(river) * step)
+    # annualized cost at the recommended diameter
+    e = case.economics
+    crf = float(economics.capital_recovery_factor(e["discount_rate"], e["life"]))
+    cost = np.full(n, np.nan)
+    cost_note = ""
+    if size.get("diameter_candidates") is not None:
+        h = size["headline"]
+        cand = size["diameter_candidates"].set_index("diameter [m]")
+        row = cand.loc[h["selected_diameter"]]
+        base_lost = float(row["energy lost [MWh/year]"]) * 3.6e9
+        det_lost = prod["headline"]["friction_energy"]
+        scale = lost / det_lost if det_lost > 0 else np.ones(n)
+        cap = float(row["capital cost [currency]"]) * d["capital factor"]
+        price = e["energy_price"] / 3.6e6 * d["price factor"]
+        cost = crf * cap + case.costs["om_fraction"] * cap + base_lost * scale * price
+    else:
+        cost_note = "no diameter study: annualized cost not sampled"
+    margin = _pressure_margin(case, props, steady, route, life, d)
+    tick("Monte Carlo summary")
+    return _tables(case, n, d, mean_energy, cost, margin, prod, cost_note, warns, methods)
+
+
+def _residual_series(case, index, river):
+    from .production import _residual
+
+    return _residual(case, index, river).to_numpy(dtype=float)
+
+
+def _year_blocks(index, prod):
+    years = index.year.to_numpy()
+    starts = np.flatnonzero(np.concatenate([[True], years[1:] != years[:-1]]))
+    ann = prod["energy_annual"]
+    complete = ann["complete year"].astype(bool).to_numpy()
+    return {"starts": starts, "complete": complete}
+
+
+def _pressure_margin(case, props, steady, route, life, d):
+    """Minimum steady crown pressure margin per sample (end-of-life roughness)."""
+    flows = np.asarray(steady["flows"], float)
+    ratio = _LossRatio(case, props, route, life, d["roughness factor"], d["growth offset"])
+    pipe = ~route.is_reservoir
+    crown = np.sqrt(4 * route.node_area[pipe] / np.pi) / 2
+    drawdown = case.headwater - case.headwater_min
+
+    def margin(factor, growth):
+        rough = sampled_roughness(case, route, factor, growth, life)
+        g = gradeline.grade_lines(flows, case.headwater, route.chainage, route.elevation,
+                                  route.node_area, route.length, route.diameter, rough,
+                                  route.k, route.reference_area, props.kinematic_viscosity)
+        return float((g.pressure_head[:, pipe] - crown - drawdown).min() - case.pressure_margin)
+
+    if not ratio.active:
+        return np.full(len(d["roughness factor"]), margin(1.0, 0.0))
+    table = np.array([[margin(f, g) for g in ratio.g_grid] for f in ratio.f_grid])
+    lf = np.log(ratio.f_grid)
+    x = np.clip(np.log(d["roughness factor"]), lf[0], lf[-1])
+    y = np.clip(d["growth offset"], ratio.g_grid[0], ratio.g_grid[-1])
+    from scipy.interpolate import RegularGridInterpolator
+
+    return RegularGridInterpolator((lf, ratio.g_grid), table)(np.column_stack([x, y]))
+
+
+def _tables(case, n, d, energy_j, cost, margin, prod, cost_note, warns, methods):
+    e_mwh = energy_j / 3.6e9
+    det = prod["headline"]["mean_annual_energy"] / 3.6e9
+    rng = np.random.default_rng(case.uncertainty["seed"] + 1)
+    boot = np.median(e_mwh[rng.integers(0, n, size=(200, n))], axis=1)
+    se_p50 = float(boot.std(ddof=1)) if n > 1 else 0.0
+    p = lambda q: float(np.quantile(e_mwh, q))  # noqa: E731
+    rows = [
+        ("samples", n, ""), ("seed", case.uncertainty["seed"], ""),
+        ("deterministic mean annual energy", det, "MWh"),
+        ("P50 mean annual energy (exceeded with 50 % probability)", p(0.5), "MWh"),
+        ("standard error of the P50 (bootstrap, 200 resamples)", se_p50, "MWh"),
+        ("P90 mean annual energy (exceeded with 90 % probability)", p(0.10), "MWh"),
+        ("P99 mean annual energy (exceeded with 99 % probability)", p(0.01), "MWh"),
+        ("probability that the minimum pressure margin is negative",
+         100 * float(np.mean(margin < 0)), "%"),
+    ]
+    if np.isfinite(cost).all():
+        rows += [("annualized cost at the recommended diameter, P10", float(np.quantile(cost, .1)),
+                  "currency/year"),
+                 ("annualized cost at the recommended diameter, P50",
+                  float(np.quantile(cost, .5)), "currency/year"),
+                 ("annualized cost at the recommended diameter, P90",
+                  float(np.quantile(cost, .9)), "currency/year")]
+    samples = pd.DataFrame({
+        "sample": np.arange(1, n + 1),
+        "roughness factor [-]": d["roughness factor"],
+        "roughness growth offset [m/year]": d["growth offset"],
+        "efficiency offset [-]": d["efficiency offset"],
+        "flow factor [-]": d["flow factor"],
+        "energy price factor [-]": d["price factor"],
+        "capital cost factor [-]": d["capital factor"],
+        "mean annual energy [MWh]": e_mwh,
+        "annualized cost [currency/year]": cost,
+        "minimum pressure margin [m]": margin,
+    })
+    order = np.sort(e_mwh)[::-1]
+    exceed = pd.DataFrame({"probability of exceedance [%]": 100 * (np.arange(1, n + 1)) / (n + 1),
+                           "mean annual energy [MWh]": order})
+    if len(exceed) > 1000:
+        exceed = exceed.iloc[np.linspace(0, len(exceed) - 1, 1000).astype(int)]
+    counts, edges = np.histogram(cost[np.isfinite(cost)], bins=20) if np.isfinite(cost).any() \
+        else (np.zeros(0), np.zeros(1))
+    hist = pd.DataFrame({"annualized cost, bin centre [currency/year]":
+                         0.5 * (edges[1:] + edges[:-1]), "samples": counts})
+    methods.add("Uncertainty", "Monte Carlo over roughness, efficiency, flows, price and capital "
+                "cost, vectorized across samples; P-values as quantiles of the sampled mean "
+                "annual energy", "Seeded NumPy generator (PCG64); bootstrap standard error: "
+                "Efron & Tibshirani (1993), An Introduction to the Bootstrap, ch. 6")
+    if cost_note:
+        warns.append(Warning_("uncertainty", cost_note, severity="note"))
+    return {
+        "mc_summary": pd.DataFrame(rows, columns=["quantity", "value", "unit"]),
+        "mc_samples": samples, "mc_exceedance": exceed.reset_index(drop=True),
+        "mc_cost_histogram": hist,
+        "headline": {"p50_energy": p(0.5) * 3.6e9, "p90_energy": p(0.10) * 3.6e9,
+                     "p99_energy": p(0.01) * 3.6e9, "p50_standard_error": se_p50 * 3.6e9,
+                     "probability_negative_margin": float(np.mean(margin < 0))},
+    }
+
