@@ -239,7 +239,7 @@ class _Reader:
                     q = units.parse_quantity(item, item_kind)
                 except units.UnitError as exc:
                     raise CaseError(self.file, f"{key}[{i + 1}]", str(exc)) from None
-                if item_kind != "length" and not q > 0:
+                if not q > 0 and not (item_kind == "length" and f.name == "record_at"):
                     raise CaseError(self.file, f"{key}[{i + 1}]", f"{item!r} must be above zero")
                 out.append(q)
             return out
@@ -699,11 +699,18 @@ def _flow_record(rd: _Reader, path: Path, gap_method: str) -> pd.Series:
             raise CaseError(fname, "column 'date'", f"{len(missing)} {steps_word} missing, the "
                             f"first at {shown}; fill the record or set "
                             "flows.gaps = \"linear\" in site.toml")
-        series = series.reindex(full).interpolate(method="time")
+        from . import hydrology
+
+        filled = hydrology.fill_gaps(series, gap_method, freq=step)
+        series = filled.series.rename("flow")
+        series.attrs["filled_gaps"] = filled.gaps
         rd.echo.append({"section": "flows", "key": "flows.record gaps",
                         "as written": f"{len(missing)} missing steps",
-                        "value (SI)": "filled by linear interpolation", "SI unit": "",
-                        "source": fname})
+                        "value (SI)": f"filled in {len(filled.gaps)} gap"
+                        f"{'s' if len(filled.gaps) != 1 else ''}: " +
+                        {"linear": "linear interpolation", "previous": "previous value carried "
+                         "forward", "monthly_mean": "mean of the calendar month"}[gap_method],
+                        "SI unit": "", "source": fname})
     rd.echo.append({"section": "flows", "key": "flows.record", "as written": fname,
                     "value (SI)": f"{len(series)} steps of {step}, {series.index[0]:%Y-%m-%d} "
                     f"to {series.index[-1]:%Y-%m-%d}, mean {series.mean():.4g}",
@@ -817,6 +824,8 @@ def _efficiency_table(rd: _Reader, path: Path, minimum_relative_flow=None) -> np
 def _surge(rd: _Reader, surge: dict, chainage: np.ndarray) -> dict:
     """Consistency of the water-hammer settings; reads the closure table."""
     law = surge["closure_law"]
+    if law == "instant":
+        surge["closure_time"] = 1e-9   # named on purpose; the time is not used
     if law == "two_stage":
         for key in ("knee_time", "knee_opening"):
             if surge[key] is None:

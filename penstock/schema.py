@@ -144,8 +144,10 @@ SECTIONS: tuple[Section, ...] = (
         Field("firm_exceedance", "fraction", "Exceedance of the firm power (e.g. 95 %).",
               default="95 %", minimum=0.0, exclusive_minimum=True, maximum=1.0),
         Field("gaps", "choice", "What to do with gaps in the flow record: refuse the record, "
-              "or fill by linear interpolation.", default="refuse",
-              choices=("refuse", "linear")),
+              "or fill them (linear: straight line in time; previous: last value carried "
+              "forward; monthly_mean: mean of the same calendar month). Filled gaps are "
+              "listed in the inputs and the cautions.", default="refuse",
+              choices=("refuse", "linear", "previous", "monthly_mean")),
     )),
     Section("turbine", "The generating units.", (
         Field("type", "choice", "Turbine type.", choices=TURBINE_TYPE_CHOICES),
@@ -197,6 +199,12 @@ SECTIONS: tuple[Section, ...] = (
               "from the materials table).", default="astm_a516_gr70",
               choices=("astm_a36", "astm_a516_gr70", "astm_a537_cl1", "astm_a572_gr50",
                        "en_s275", "en_s355")),
+        Field("allowable_stress", "stress", "Your own allowable hoop stress, replacing the "
+              "grade's.", optional=True, minimum=1e6, exclusive_minimum=True, maximum=2e9),
+        Field("elastic_modulus", "stress", "Your own Young's modulus of the wall, replacing "
+              "the grade's.", optional=True, minimum=1e8, maximum=5e11),
+        Field("density", "density", "Your own density of the wall material, replacing the "
+              "grade's.", optional=True, minimum=500.0, maximum=20000.0),
         Field("joint_efficiency", "fraction", "Longitudinal weld joint efficiency.",
               default=0.9, minimum=0.0, exclusive_minimum=True, maximum=1.0),
         Field("corrosion_allowance", "length", "Added to the hoop thickness.",
@@ -273,8 +281,9 @@ SECTIONS: tuple[Section, ...] = (
         Field("closure_time", "time", "Effective closure time of the turbine gates, nozzle or "
               "valve on load rejection.", default="10 s", minimum=0.0, exclusive_minimum=True),
         Field("closure_law", "choice", "How the opening falls with time: linear, two_stage "
-              "(fast to a knee, then slow), or a table of opening against time.",
-              default="linear", choices=("linear", "two_stage", "table")),
+              "(fast to a knee, then slow), a table of opening against time, or instant "
+              "(named on purpose: the closure time is then ignored).",
+              default="linear", choices=("linear", "two_stage", "table", "instant")),
         Field("knee_time", "time", "two_stage: time of the knee.", optional=True, minimum=0.0,
               exclusive_minimum=True),
         Field("knee_opening", "fraction", "two_stage: relative opening at the knee.",

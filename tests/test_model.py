@@ -243,3 +243,38 @@ def test_draft_tube_recovers_part_of_the_exit_velocity_head():
     # the recovery cannot exceed the ideal diffuser (Borda–Carnot-free) value V1²/2g·(1 − 1/AR²)
     ideal = dt["inlet velocity head [m]"] * (1 - 1 / case.draft_tube["area_ratio"] ** 2)
     assert np.all(dt["head recovered over an abrupt exit [m]"] <= ideal + 1e-12)
+
+
+def test_instant_closure_by_name_gives_joukowsky(tmp_path):
+    # Joukowsky (1898): a full instant closure raises the head by a·V/g (Wylie & Streeter,
+    # Fluid Transients in Systems, 1993, eq. 1-6, from memory); friction and the intake
+    # loss make the simulated rise differ by well under 2 % in this short pipe
+    folder = copy_case(tmp_path, "millrace-flats-low-head",
+                       edit=[('[surge]\nclosure_time = "8 s"',
+                              '[surge]\nclosure_time = "8 s"\nclosure_law = "instant"')])
+    r = penstock.run_case(penstock.load_case(folder), samples=0)
+    a, v = r.headline["joukowsky_inputs"]
+    assert r.headline["max_surge_rise"] == pytest.approx(a * v / GRAVITY, rel=0.02)
+
+
+@pytest.mark.parametrize("method, word", [("previous", "previous"),
+                                          ("monthly_mean", "mean of the calendar month")])
+def test_named_gap_fills_are_echoed_and_cautioned(tmp_path, method, word):
+    folder = copy_case(tmp_path, edit=[("[flows]\n", f'[flows]\ngaps = "{method}"\n')])
+    lines = (folder / "flows.csv").read_text().splitlines()
+    (folder / "flows.csv").write_text("\n".join(lines[:5] + lines[8:]) + "\n")
+    case = penstock.load_case(folder)
+    echo = {row["key"]: row for row in case.echo}
+    assert word in echo["flows.record gaps"]["value (SI)"]
+    r = penstock.run_case(case, samples=0)
+    assert any("were filled" in m for m in r.warnings["message"])
+
+
+def test_own_wall_properties_replace_the_grade(tmp_path):
+    base = penstock.run_case(penstock.load_case(CASES / "alder-gorge-high-head"), samples=0)
+    folder = copy_case(tmp_path, edit=[("[economics]", '[wall]\nallowable_stress = "60 MPa"\n'
+                                                      '\n[economics]')])
+    weak = penstock.run_case(penstock.load_case(folder), samples=0)
+    # a weaker steel needs thicker plates at the bottom of the line
+    assert weak.wall_profile["plate thickness [mm]"].max() > \
+        base.wall_profile["plate thickness [mm]"].max()

@@ -114,6 +114,8 @@ def _law_args(s):
         args.update(knee_time=s["knee_time"], knee_opening=s["knee_opening"])
     if law == "table":
         args = {"law": "table", "closure_time": None, "opening_table": s["closure_table"]}
+    if law == "instant":
+        args = {"law": "instant", "closure_time": None}
     return args
 
 
@@ -273,9 +275,10 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
     tick("closure-time study")
     times = list(s["study_closure_times"]) or list(
         np.geomspace(0.5 * period, max(8 * period, 2 * tc), 9))
-    times = sorted(set(times) | {tc})
+    if s["closure_law"] != "instant":
+        times = sorted(set(times) | {tc})
     study_law = {k: v for k, v in law.items() if k != "closure_time"}
-    if study_law.get("law") == "table":
+    if study_law.get("law") in ("table", "instant"):
         study_law = {"law": "linear"}
     if study_law.get("law") == "two_stage":
         frac = s["knee_time"] / tc

@@ -137,6 +137,12 @@ def run(case, props, steady, warns, methods, tick) -> dict:
                                  power_without_friction=op.power_without_friction,
                                  spill_flow=op.spill_flow, residual_flow=op.residual_flow,
                                  gross_head=gross, density=rho)
+    gaps = record.attrs.get("filled_gaps")
+    if gaps is not None and len(gaps):
+        warns.append(Warning_("hydrology", f"{int(gaps['missing_steps'].sum())} missing steps "
+                              f"of the flow record in {len(gaps)} gaps were filled "
+                              f"({case.gap_method.replace('_', ' ')}), the first at "
+                              f"{gaps['start'].iloc[0]:%Y-%m-%d}"))
     if record.attrs.get("from_duration_table"):
         warns.append(Warning_("hydrology", "the flow record is a representative year built from "
                               "a flow-duration table: monthly energies are not meaningful",

@@ -34,11 +34,20 @@ import pandas as pd
 from .. import diameter as dia
 from .. import economics, gradeline, pipewall, surge, transients
 from ..constants import GRAVITY, P_ATM_SEA_LEVEL
-from ..materials import get_material
+from ..materials import get_material as _get_material
 from ..route import build_route
 from .core import Warning_
 
 STEEL = ("welded_steel", "riveted_steel")
+
+
+def wall_material(case):
+    """The wall's steel grade with the case's own property overrides, if any."""
+    w = case.wall
+    own = {k: w[k] for k in ("allowable_stress", "elastic_modulus", "density")
+           if w.get(k) is not None}
+    return _get_material(w["grade"], own or None)
+
 
 
 def uniform_case(case, d):
@@ -87,6 +96,9 @@ class DiameterModel:
         self.case_lost = (float(self.energy_factor * self.weights @ case_loss(self.q_grid)
                                 / years) if case_loss is not None else None)
         self.route = build_route(uniform_case(case, self.d_grid[0]))   # same nodes at any D
+        w = case.surge["wave_speed"]
+        # for the Joukowsky cap only; run() sets the case's computed value when it has one
+        self.wave_speed = w if w is not None else 1000.0
         self.lengths = self.route.length
         self._x_nodes = self.route.chainage
         self._s_nodes = np.concatenate([[0.0], np.cumsum(self.route.length)])
@@ -134,18 +146,20 @@ class DiameterModel:
         return static[None, :] + np.asarray(rise, float)[..., None] * s
 
     def allievi_rise(self, d):
+        """Allievi's slow-closure rise, at most Joukowsky's (rapid closure governs)."""
         d = np.asarray(d, float)
         case = self.case
         v = case.design_flow / (math.pi * d**2 / 4)
         l_total = float(self._s_nodes[-1])
         h0 = case.headwater - float(self.route.elevation[-1])
-        return surge.allievi_max_head(l_total, v, h0, case.surge["closure_time"]) - h0
+        slow = surge.allievi_max_head(l_total, v, h0, case.surge["closure_time"]) - h0
+        return np.minimum(slow, surge.joukowsky(self.wave_speed, v))
 
     def wall(self, d, design_head=None):
         """Plate thickness of each reach for diameters ``d`` -> (n_d, n_reach) [m]."""
         w = self.case.wall
         d = np.atleast_1d(np.asarray(d, float))
-        steel = get_material(w["grade"])
+        steel = wall_material(self.case)
         head = self.design_head(d) if design_head is None else np.atleast_2d(design_head)
         p = self.props.density * GRAVITY * np.maximum(head, 0.0)
         hoop = pipewall.hoop_thickness(p, d[:, None], steel.allowable_stress,
@@ -155,13 +169,13 @@ class DiameterModel:
         req = np.maximum(hoop, handling[:, None])
         plates = np.asarray(w["plates"]) if w["plates"] else \
             pipewall.standard_plate_thicknesses()
-        if np.any(req > np.max(plates)):
-            raise ValueError(f"wall: a required thickness {1e3 * req.max():.1f} mm exceeds the "
-                             f"thickest plate {1e3 * np.max(plates):.1f} mm")
-        return np.asarray(pipewall.round_up_to_plates(req, plates)), req
+        top = float(np.max(plates))
+        # beyond the thickest plate the required thickness stands (flagged by the caller)
+        rounded = np.asarray(pipewall.round_up_to_plates(np.minimum(req, top), plates))
+        return np.where(req > top, req, rounded), req
 
     def steel_mass(self, d, thickness):
-        steel = get_material(self.case.wall["grade"])
+        steel = wall_material(self.case)
         d = np.atleast_1d(np.asarray(d, float))
         reach = self.lengths[None, self.lengths > 0]
         return pipewall.steel_mass(d[:, None], thickness, reach, steel.density).sum(axis=1)
@@ -226,6 +240,8 @@ def run(case, props, steady, prod, ham, warns, methods, tick) -> dict:
         return {"headline": {}}
     tick("diameter study")
     model = DiameterModel(case, props, prod, case_loss=steady["head_loss"])
+    if ham.get("wave_speeds") is not None:   # the case's own wave speed, for Joukowsky's cap
+        model.wave_speed = float(ham["wave_speeds"]["wave speed [m/s]"].mean())
     lo, hi = model.bounds()
     st = case.diameter_study
     sizes = np.array(st["sizes"]) if st["sizes"] else dia.standard_sizes(
@@ -376,7 +392,7 @@ def candidate_table(case, props, steady, prod, model, diameters, warns):
     price = e["energy_price"] / 3.6e6
     gross = prod["headline"]["gross_head"]
     e0 = prod["headline"]["mean_annual_energy"] + model.case_lost
-    steel = get_material(case.wall["grade"])
+    steel = wall_material(case)
     for d in sorted(set(float(x) for x in diameters)):
         head, rise, pmin_t, route = _moc_design_head(case, props, model, d)
         t, _ = model.wall(d, design_head=head[None, :])
@@ -415,6 +431,12 @@ def candidate_table(case, props, steady, prod, model, diameters, warns):
             "velocity at design flow [m/s]": v, "water starting time [s]": tw,
             "reaches needing stiffeners under vacuum [-]": int(needs.sum()),
         })
+        top = max(case.wall["plates"]) if case.wall["plates"] else \
+            float(np.max(pipewall.standard_plate_thicknesses()))
+        if t.max() > top:
+            warns.append(Warning_("pipe wall", f"at D = {d:g} m the wall needs "
+                                  f"{1e3 * t.max():.1f} mm, more than the thickest plate "
+                                  f"({1e3 * top:.0f} mm)"))
         if needs.any():
             warns.append(Warning_("pipe wall", f"at D = {d:g} m, {int(needs.sum())} reaches "
                                   f"would buckle under full vacuum (safety factor "
