@@ -260,8 +260,11 @@ class _Reader:
             raise CaseError(self.file, key, f"{shown!r} is out of range; expected {op} "
                             f"{_fmt_si(lo, f.kind)}")
         if hi is not None and val > hi:
+            hint = ""
+            if f.kind == "fraction" and hi <= 1.0 and 1.0 < val <= 100.0:
+                hint = f" (did you mean {val / 100:g} or \"{val:g} %\"?)"
             raise CaseError(self.file, key, f"{shown!r} is out of range; expected at most "
-                            f"{_fmt_si(hi, f.kind)}")
+                            f"{_fmt_si(hi, f.kind)}{hint}")
 
     def _path(self, raw, key: str) -> Path:
         if not isinstance(raw, str) or not raw.strip():
@@ -294,6 +297,9 @@ class _Reader:
             raise CaseError(name, "", "the file is empty; expected a header row and data rows")
         except (pd.errors.ParserError, UnicodeDecodeError) as exc:
             raise CaseError(name, "", f"cannot be read as CSV ({str(exc).splitlines()[0]})")
+        if len(raw.columns) == 1 and ";" in str(raw.columns[0]):
+            raise CaseError(name, "", "the columns seem separated by ';'; expected commas, "
+                            "e.g. 'chainage [m],elevation [m]'")
         if raw.empty:
             raise CaseError(name, "", "has a header but no data rows")
         # line numbers of the data rows as an editor shows them (comments and blanks skipped)
@@ -379,6 +385,8 @@ def _as_written(raw) -> str:
 def _echo_value(val):
     if isinstance(val, list):
         return ", ".join(f"{v:.6g}" for v in val) if val else ""
+    if isinstance(val, float):
+        return float(f"{val:.9g}")   # the SI value as read, without float noise
     return val
 
 
@@ -532,6 +540,21 @@ def load_case(path) -> Case:
                         f"the minimum headwater {hw_min:g} m; expected headwater above "
                         "tailwater")
     turbine = dict(turbine)
+    if turbine["efficiency_table"] is None and q_min is not None:
+        from .turbines import TURBINE_TYPES
+
+        start = TURBINE_TYPES[turbine["type"]]["efficiency_table"][0][0]
+        rel = q_min * turbine["units"] / q_design
+        if rel < start * (1 - 1e-9):
+            raise CaseError(CASE_FILE, "flows.minimum", f"{q_min:g} m^3/s is {100 * rel:.0f} % of "
+                            f"one unit's design flow, below the {100 * start:.0f} % where the "
+                            f"typical {turbine['type']} efficiency curve starts; expected a "
+                            "larger minimum, or a turbine.efficiency_table that covers it")
+    study = values["diameter_study"]
+    if study["minimum"] is not None and study["maximum"] is not None and \
+            study["minimum"] >= study["maximum"]:
+        raise CaseError(CASE_FILE, "diameter_study.maximum", f"{study['maximum']:g} m is not "
+                        f"above the minimum {study['minimum']:g} m")
     if turbine["efficiency_table"] is not None:
         from .turbines import TURBINE_TYPES
 
@@ -654,7 +677,7 @@ def _losses(doc: dict, rd: _Reader, chainage: np.ndarray) -> list[LocalLoss]:
             try:
                 route.loss_k_and_area(kind, params, d_up, d_down)
             except (ValueError, TypeError) as exc:
-                raise CaseError(CASE_FILE, f"loss {i}", f"{exc}") from None
+                raise CaseError(CASE_FILE, f"loss {i} ({kind} at {at:g} m)", f"{exc}") from None
         out.append(LocalLoss(kind, at, v["label"] or f"{kind} at {rd.say.ch(at)}", v["k"],
                              params))
     return out

@@ -438,7 +438,9 @@ def design_flow_study(index, river_flow, gross_head, *, density, head_loss=None,
     Notes
     -----
     Installed capacity is the electrical output with all units at rated flow
-    (availability 1) under the largest gross head in ``gross_head``. Each
+    (availability 1) under the largest gross head in ``gross_head``, or the largest
+    output over the record if that is higher (a pipe whose loss grows faster than the
+    flow peaks below its design flow). Each
     design flow runs :func:`simulate_plant`, vectorized over the time steps;
     the few design flows are looped over, which keeps memory at O(number of
     steps).
@@ -471,7 +473,10 @@ def design_flow_study(index, river_flow, gross_head, *, density, head_loss=None,
         capacity = simulate_plant(np.array([design_q]), gross_at_rated, rated, **common)
         operation = simulate_plant(river, gross_head, rated, residual=residual,
                                    availability=availability, **common)
-        capacity_w = float(capacity.power[0])
+        # the installed capacity is at least the largest output the plant gives over the
+        # record (with a long pipe, the output can peak below the design flow)
+        peak = float(np.max(operation.power)) / availability if availability > 0 else 0.0
+        capacity_w = max(float(capacity.power[0]), peak)
         summary = energy_summary(index, operation.power,
                                  installed_capacity=capacity_w if capacity_w > 0 else None,
                                  power_without_friction=operation.power_without_friction,

@@ -182,8 +182,8 @@ SECTIONS: tuple[Section, ...] = (
               minimum=0.0, exclusive_minimum=True),
         Field("area_ratio", "dimensionless", "Outlet over inlet area.", minimum=1.0,
               maximum=16.0),
-        Field("cone_angle", "angle", "Total included cone angle.", minimum=0.0,
-              exclusive_minimum=True, maximum=3.1416),
+        Field("cone_angle", "angle", "Total included cone angle (Gibson's data: 5.5 to 180 "
+              "deg).", minimum=0.0959931088596881, maximum=3.141592653589793),
     ), required=False),
     Section("economics", "Money.", (
         Field("currency", "text", "Currency code printed beside every price.", default="USD"),

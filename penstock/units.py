@@ -134,6 +134,9 @@ def parse_quantity(value, kind: str) -> float:
     if not isinstance(q, ureg.Quantity):
         q = ureg.Quantity(float(q))
     if q.dimensionality != _dimensionality(kind):
+        if kind == "temperature" and text.rstrip().endswith((" F", " C")):
+            raise UnitError(f"'{text}' is read as farads or coulombs; expected a temperature "
+                            "such as \"50 degF\" or \"10 degC\"")
         raise UnitError(f"'{text}' is not {_a(kind)} (its dimension is "
                         f"{q.dimensionality}); expected e.g. {_example(kind)}")
     try:

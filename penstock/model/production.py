@@ -160,10 +160,26 @@ def run(case, props, steady, warns, methods, tick) -> dict:
         "energy_monthly": _monthly(summ),
     }
     tick("design-flow study")
+    p_study = np.arange(0.10, 0.601, 0.05)
+    usable = np.maximum(river - residual.to_numpy(), 0.0)
+    q_study = np.atleast_1d(hydrology.flow_at_exceedance(usable, p_study))
+    # keep the design flows the pipe can carry with head to spare (5 % of the gross head)
+    feasible = (q_study > 0) & (h_design - total_loss(q_study) > 0.05 * h_design)
+    if not feasible.all():
+        warns.append(Warning_("design-flow study", f"{int((~feasible).sum())} of the design "
+                              "flows from Q10 to Q60 are left out: zero (the river is below the "
+                              "residual flow) or more than the penstock can carry",
+                              severity="note"))
     study = energy.design_flow_study(index, river, gross, density=rho, head_loss=total_loss,
                                      residual=residual, n_units=n, turbine_type=ttype,
                                      efficiency_table=table, minimum_relative_flow=min_rel,
-                                     availability=t["availability"], **drive)
+                                     design_flows=q_study[feasible],
+                                     availability=t["availability"], **drive) \
+        if feasible.any() else pd.DataFrame(columns=[
+            "design_exceedance", "design_flow", "installed_capacity", "mean_annual_energy",
+            "capacity_factor", "mean_annual_friction_loss", "mean_annual_spill_energy"],
+            dtype=float)
+    study["design_exceedance"] = p_study[feasible]
     out["design_flow_study"] = pd.DataFrame({
         "design flow exceedance [%]": 100 * study["design_exceedance"],
         "design flow [m^3/s]": study["design_flow"],

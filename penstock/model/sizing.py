@@ -105,11 +105,34 @@ class DiameterModel:
 
     # ------------------------------------------------------------------ hydraulics
     def bounds(self):
+        """Sweep bounds: the case's, or 6 m/s to 1.5 m/s at the design flow; never below
+        the diameter whose loss at the design flow takes half the gross head."""
+        if getattr(self, "_bounds", None) is not None:
+            return self._bounds
         st = self.case.diameter_study
         q = self.case.design_flow
         lo = st["minimum"] or math.sqrt(4 * q / (math.pi * 6.0))
         hi = st["maximum"] or math.sqrt(4 * q / (math.pi * 1.5))
-        return float(lo), float(hi)
+        d_half = self.smallest_workable()
+        lo = max(lo, d_half)
+        if hi <= lo:
+            hi = 2.0 * lo
+        self._bounds = (float(lo), float(hi))
+        return self._bounds
+
+    def smallest_workable(self):
+        """Diameter whose penstock loss at the design flow is half the gross head."""
+        case = self.case
+        gross = case.headwater - case.tailwater
+        q = np.array([case.design_flow])
+        d_lo, d_hi = 0.02, 50.0
+        for _ in range(40):   # bisection in log D; the loss falls steeply with D
+            mid = math.sqrt(d_lo * d_hi)
+            if self.loss_on_grid(mid, q)[0] > 0.5 * gross:
+                d_lo = mid
+            else:
+                d_hi = mid
+        return d_hi
 
     def loss_on_grid(self, d, flows):
         """Penstock head loss at ``flows`` for a uniform diameter ``d`` [m]."""
@@ -246,6 +269,10 @@ def run(case, props, steady, prod, ham, warns, methods, tick) -> dict:
     st = case.diameter_study
     sizes = np.array(st["sizes"]) if st["sizes"] else dia.standard_sizes(
         minimum=lo * 0.8, maximum=hi * 1.25)
+    workable = model.smallest_workable()
+    sizes = np.asarray(sizes, float)
+    if (sizes >= workable).any():
+        sizes = sizes[sizes >= workable]   # no size that loses half the head is offered
     d_sweep = np.geomspace(lo, hi, st["points"])
     parts = model.annualized(d_sweep)
     t_sweep, _ = model.wall(d_sweep)
@@ -282,6 +309,12 @@ def run(case, props, steady, prod, ham, warns, methods, tick) -> dict:
                                               opt.selected_size,
                                               opt.upper_size or opt.selected_size,
                                               *[s.diameter for s in case.segments]})
+    dropped = [d for d in cands if d < workable]
+    if dropped:
+        warns.append(Warning_("diameter study", "candidate diameter(s) " + ", ".join(
+            f"{d:g} m" for d in dropped) + f" lose more than half the gross head at the design "
+            f"flow (smaller than {workable:.3f} m) and are left out"))
+    cands = [d for d in cands if d >= workable] or [opt.selected_size]
     tick("diameter candidates")
     cand = candidate_table(case, props, steady, prod, model, cands, warns)
     # empirical sanity checks

@@ -26,7 +26,9 @@ def write_tables(results, folder: Path, system: str) -> list[str]:
     names = []
     for name, df in results.tables().items():
         fname = f"{name}.csv"
-        convert_table(df, system).to_csv(folder / fname, index=False, encoding="utf-8")
+        # 14 significant digits: every digit that means anything, without conversion noise
+        convert_table(df, system).to_csv(folder / fname, index=False, encoding="utf-8",
+                                         float_format="%.14g")
         names.append(fname)
     return names
 

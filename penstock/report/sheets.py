@@ -90,6 +90,15 @@ def write_table(ws, df: pd.DataFrame, row: int = 1, col: int = 1, widths=None,
             w = min(max(10, longest + 2), 60)
         ws.column_dimensions[letter].width = max(ws.column_dimensions[letter].width or 0, w)
     ws.row_dimensions[row].height = 30
+    if wrap_cols:   # wrapped text: give each row the lines it needs (spreadsheets do not)
+        for i, rec in enumerate(values):
+            lines = 1
+            for j, name in enumerate(df.columns):
+                if name in wrap_cols:
+                    w = ws.column_dimensions[get_column_letter(col + j)].width or 10
+                    lines = max(lines, math.ceil(len(_shown(rec[j])) / max(w * 1.1, 1)))
+            if lines > 1:
+                ws.row_dimensions[row + 1 + i].height = 13.5 * lines
     return row + 1, row + len(df)
 
 

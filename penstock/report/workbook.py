@@ -261,6 +261,7 @@ def _route_chart(ctx, ws, table, cols, first, last, cases, pcol, pfirst, plast, 
     step = sh.nice_step(span * 1.1 if span > 0 else 10, 6)
     ch.y_axis.scaling.min = float(np.floor((lo - 0.05 * span) / step) * step)
     ch.y_axis.scaling.max = float(np.ceil((hi + 0.05 * span) / step) * step)
+    ch.y_axis.number_format = "0" if float(step).is_integer() else "0.0"
     if "ground" in " ".join(prof.columns):
         sh.add_line(ch, ws, pcol, pcol + 2, pfirst, plast, "ground", "8D6E63", dash="dash")
     sh.add_line(ch, ws, 1, 3, first, last, "pipe centreline", "000000", width=28575)
@@ -291,9 +292,16 @@ def _pressure_chart(ctx, ws, table, cols, first, last, cases):
     ys = [table[c].to_numpy(dtype=float) for c in cols if c.startswith("pressure head")]
     top = float(np.nanmax([np.nanmax(y) for y in ys]))
     low = float(np.nanmin([np.nanmin(y) for y in ys]))
+    # the low range is where the checks bite: show up to ten margins (at least 20 m)
+    margin = float(ctx.v(ctx.case.pressure_margin, "m"))
+    top = min(top, max(10 * margin, float(ctx.v(20.0, "m"))))
+    ch.title = "Pressure head along the route (lower range)"
     ch.y_axis.scaling.min = float(min(0.0, np.floor(low)))
     step = sh.nice_step(top - ch.y_axis.scaling.min, 6)
     ch.y_axis.majorUnit = step
+    ch.y_axis.scaling.max = float(ch.y_axis.scaling.min + step * np.ceil(
+        (top - ch.y_axis.scaling.min) / step))
+    ch.y_axis.number_format = "0" if float(step).is_integer() else "0.0"
     for i, name in enumerate(cases):
         j = _col(cols, f"pressure head, {name}")
         if j is not None:
