@@ -26,6 +26,8 @@ from scipy.optimize import minimize_scalar
 
 from penstock.economics import annualized_cost, capital_recovery_factor, lost_energy_value
 
+from ._numeric import same_kind as _finish
+
 __all__ = [
     "EMPIRICAL_DIAMETER_METHODS",
     "SIZE_SERIES",
@@ -49,17 +51,6 @@ __all__ = [
 _KW = 1000.0  # W
 _HP = 745.6998715822702  # W per mechanical horsepower (550 ft lbf/s; NIST SP 811, B.8)
 _FOOT = 0.3048  # m, exact
-
-
-def _finish(value, *args):
-    import pandas as pd
-
-    index = next((a.index for a in args if isinstance(a, pd.Series)), None)
-    if index is not None:
-        return pd.Series(np.broadcast_to(value, (len(index),)).copy(), index=index)
-    if all(np.ndim(a) == 0 for a in args):
-        return float(value)
-    return np.asarray(value, dtype=float)
 
 
 def _positive(name, value, unit):

@@ -19,10 +19,12 @@ References
 from __future__ import annotations
 
 import numpy as np
-import pandas as pd
 
 from penstock.constants import SECONDS_PER_HOUR
 from penstock.pipewall import steel_mass
+
+from ._numeric import checked_array as _array
+from ._numeric import same_kind as _finish
 
 __all__ = [
     "annualized_cost",
@@ -39,26 +41,6 @@ __all__ = [
 
 _KWH = 1000.0 * SECONDS_PER_HOUR  # J per kWh
 _KG_PER_TONNE = 1000.0
-
-
-def _finish(value, *args):
-    index = next((a.index for a in args if isinstance(a, pd.Series)), None)
-    if index is not None:
-        return pd.Series(np.broadcast_to(value, (len(index),)).copy(), index=index)
-    if all(np.ndim(a) == 0 for a in args):
-        return float(value)
-    return np.asarray(value, dtype=float)
-
-
-def _array(name, value, *, positive=False, nonnegative=False, unit=""):
-    arr = np.asarray(value, dtype=float)
-    if np.any(~np.isfinite(arr)):
-        raise ValueError(f"{name} must be finite [{unit}].")
-    if positive and np.any(arr <= 0.0):
-        raise ValueError(f"{name} must be positive [{unit}], got min {arr.min()}.")
-    if nonnegative and np.any(arr < 0.0):
-        raise ValueError(f"{name} must be >= 0 [{unit}], got min {arr.min()}.")
-    return arr
 
 
 def _rate_years(rate, years):

@@ -37,7 +37,10 @@ from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
-import pandas as pd
+
+from ._numeric import as_float_array as _as_float_array
+from ._numeric import require as _require
+from ._numeric import same_kind as _same_kind
 
 __all__ = [
     "BEND_METHODS",
@@ -78,30 +81,6 @@ _ANGLE_EPS = 1e-9  # tolerance on angles given in radians (degree conversion rou
 
 
 # --------------------------------------------------------------------------- helpers
-def _as_float_array(value, name):
-    try:
-        return np.asarray(value, dtype=float)
-    except (TypeError, ValueError) as exc:
-        raise ValueError(f"{name} must be numeric; got {value!r}") from exc
-
-
-def _same_kind(result, *inputs):
-    """Return ``result`` as a float, an ndarray or a Series, following the inputs."""
-    result = np.asarray(result, dtype=float)
-    for item in inputs:
-        if isinstance(item, pd.Series):
-            shape = np.broadcast_shapes(result.shape, item.shape)
-            return pd.Series(np.broadcast_to(result, shape).copy(), index=item.index)
-    if result.ndim == 0:
-        return float(result)
-    return result
-
-
-def _require(condition, name, expected, value):
-    if not np.all(condition):
-        raise ValueError(f"{name} must be {expected}; got {value!r}")
-
-
 def _choice(registry, key, name):
     if not isinstance(key, str) or key not in registry:
         valid = ", ".join(repr(k) for k in registry)

@@ -23,6 +23,8 @@ import numpy as np
 
 from penstock.constants import GRAVITY
 
+from ._numeric import same_kind as _restore_kind
+
 __all__ = [
     "FRICTION_METHODS",
     "GROWTH_RATES",
@@ -80,17 +82,6 @@ def _series_index(*values):
         if isinstance(value, pandas.Series):
             return value.index
     return None
-
-
-def _restore_kind(result, *inputs):
-    """Return ``result`` as a float, an ndarray or a Series, following the kind of ``inputs``."""
-    index = _series_index(*inputs)
-    if index is not None:
-        return sys.modules["pandas"].Series(np.asarray(result), index=index)
-    result = np.asarray(result, dtype=float)
-    if result.ndim == 0:
-        return float(result)
-    return result
 
 
 def _check(name, values, low, high, low_open=False, what=""):

@@ -19,9 +19,11 @@ from __future__ import annotations
 import dataclasses
 
 import numpy as np
-import pandas as pd
 
 from penstock.constants import GRAVITY, P_ATM_SEA_LEVEL
+
+from ._numeric import checked_array as _array
+from ._numeric import same_kind as _finish
 
 __all__ = [
     "HANDLING_RULES",
@@ -41,34 +43,6 @@ __all__ = [
 
 _INCH = 0.0254  # m, exact (international inch, 1959)
 _WATER_DENSITY = 1000.0  # kg/m^3, conventional density for pressure heads of water
-
-
-def _index_of(*args):
-    for a in args:
-        if isinstance(a, pd.Series):
-            return a.index
-    return None
-
-
-def _finish(value, *args):
-    """Return ``value`` as float / array / Series following the kinds of ``args``."""
-    index = _index_of(*args)
-    if index is not None:
-        return pd.Series(np.broadcast_to(value, (len(index),)).copy(), index=index)
-    if all(np.ndim(a) == 0 for a in args):
-        return float(value)
-    return np.asarray(value, dtype=float)
-
-
-def _array(name, value, *, positive=False, nonnegative=False, unit=""):
-    arr = np.asarray(value, dtype=float)
-    if np.any(~np.isfinite(arr)):
-        raise ValueError(f"{name} must be finite [{unit}].")
-    if positive and np.any(arr <= 0.0):
-        raise ValueError(f"{name} must be positive [{unit}], got min {arr.min()}.")
-    if nonnegative and np.any(arr < 0.0):
-        raise ValueError(f"{name} must be >= 0 [{unit}], got min {arr.min()}.")
-    return arr
 
 
 # --------------------------------------------------------------------------------------

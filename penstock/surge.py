@@ -28,35 +28,14 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-import pandas as pd
 
+from ._numeric import as_float_array as _as_float_array
+from ._numeric import require as _require
+from ._numeric import same_kind as _same_kind
 from .constants import GRAVITY
 
 
 # --------------------------------------------------------------------------- helpers
-def _as_float_array(value, name):
-    try:
-        return np.asarray(value, dtype=float)
-    except (TypeError, ValueError) as exc:
-        raise ValueError(f"{name} must be numeric; got {value!r}") from exc
-
-
-def _same_kind(result, *inputs):
-    """Return ``result`` as a float, an ndarray or a Series, following the inputs."""
-    result = np.asarray(result, dtype=float)
-    for item in inputs:
-        if isinstance(item, pd.Series) and result.shape == item.shape:
-            return pd.Series(result, index=item.index)
-    if result.ndim == 0:
-        return float(result)
-    return result
-
-
-def _require(condition, name, expected, value):
-    if not np.all(condition):
-        raise ValueError(f"{name} must be {expected}; got {value!r}")
-
-
 def _positive(value, name):
     arr = _as_float_array(value, name)
     _require(np.isfinite(arr) & (arr > 0.0), name, "finite and > 0", value)

@@ -11,13 +11,14 @@ All temperatures are water temperatures in degrees Celsius; everything else is S
 
 from __future__ import annotations
 
-import sys
 from dataclasses import dataclass
 from functools import lru_cache
 
 import numpy as np
 
 from penstock.constants import CELSIUS_TO_KELVIN, GRAVITY, P_ATM_SEA_LEVEL
+
+from ._numeric import same_kind as _restore_kind
 
 __all__ = [
     "WaterProperties",
@@ -68,28 +69,6 @@ TEMPERATURE_RANGE = (0.0, 100.0)
 
 
 # --- numeric in, same kind out -----------------------------------------------------------
-def _series_index(*values):
-    """Index of the first pandas Series among ``values``, or None (pandas is not imported)."""
-    pandas = sys.modules.get("pandas")
-    if pandas is None:
-        return None
-    for value in values:
-        if isinstance(value, pandas.Series):
-            return value.index
-    return None
-
-
-def _restore_kind(result, *inputs):
-    """Return ``result`` as a float, an ndarray or a Series, following the kind of ``inputs``."""
-    index = _series_index(*inputs)
-    if index is not None:
-        return sys.modules["pandas"].Series(np.asarray(result), index=index)
-    result = np.asarray(result, dtype=float)
-    if result.ndim == 0:
-        return float(result)
-    return result
-
-
 def _check_temperature(temperature, low, high):
     """Float array of ``temperature`` after checking it lies in ``[low, high]`` degC."""
     values = np.asarray(temperature, dtype=float)

@@ -27,7 +27,10 @@ References
 from __future__ import annotations
 
 import numpy as np
-import pandas as pd
+
+from ._numeric import as_float_array as _as_float_array
+from ._numeric import require as _require
+from ._numeric import same_kind as _same_kind
 
 #: Accepted range of pressure-wave speed for water in a pipe, gas free. [m/s]
 #: The lower bound is the spec's limit for a soft plastic pipe; the upper bound sits above
@@ -46,30 +49,6 @@ THIN_WALL_LIMIT = 25.0
 
 
 # --------------------------------------------------------------------------- helpers
-def _as_float_array(value, name):
-    try:
-        return np.asarray(value, dtype=float)
-    except (TypeError, ValueError) as exc:
-        raise ValueError(f"{name} must be numeric; got {value!r}") from exc
-
-
-def _same_kind(result, *inputs):
-    """Return ``result`` as a float, an ndarray or a Series, following the inputs."""
-    result = np.asarray(result, dtype=float)
-    for item in inputs:
-        if isinstance(item, pd.Series):
-            shape = np.broadcast_shapes(result.shape, item.shape)
-            return pd.Series(np.broadcast_to(result, shape).copy(), index=item.index)
-    if result.ndim == 0:
-        return float(result)
-    return result
-
-
-def _require(condition, name, expected, value):
-    if not np.all(condition):
-        raise ValueError(f"{name} must be {expected}; got {value!r}")
-
-
 def _positive(value, name):
     arr = _as_float_array(value, name)
     _require(np.isfinite(arr) & (arr > 0.0), name, "finite and > 0", value)

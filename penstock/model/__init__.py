@@ -16,8 +16,8 @@ import datetime as _dt
 import pandas as pd
 
 from .. import __version__, water
-from .core import STANDING_CAUTION, TABLE_ORDER, Methods, Results, Warning_
 from . import hammer, production, sizing, steady, uncertainty
+from .core import STANDING_CAUTION, TABLE_ORDER, Methods, Results, Warning_
 
 __all__ = ["STANDING_CAUTION", "TABLE_ORDER", "Results", "Warning_", "run_case"]
 

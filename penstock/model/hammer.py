@@ -16,11 +16,11 @@ import numpy as np
 import pandas as pd
 
 from .. import friction, gradeline, pipewall, surge, transients, wavespeed
+from ..case import CaseError
 from ..constants import GRAVITY
 from ..materials import MATERIALS
-from ..turbines import TURBINE_TYPES
-from ..case import CaseError
 from ..schema import CASE_FILE
+from ..turbines import TURBINE_TYPES
 from .core import Warning_
 
 #: Pipe-wall modulus by the roughness-table material, where a case gives none. Values

@@ -19,10 +19,10 @@ import numpy as np
 import pandas as pd
 
 from .. import drafttube, energy, hydrology, turbines
-from ..constants import GRAVITY
-from ..turbines import TURBINE_TYPES
 from ..case import CaseError
+from ..constants import GRAVITY
 from ..schema import CASE_FILE
+from ..turbines import TURBINE_TYPES
 from .core import Warning_
 
 J_PER_MWH = 3.6e9

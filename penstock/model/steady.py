@@ -14,6 +14,7 @@ from ..route import build_route
 from ..turbines import TURBINE_TYPES
 from .core import Say, Warning_
 
+
 def _study_flows(case) -> tuple[np.ndarray, list[str]]:
     """Flows at which grade lines are drawn, with their names, in rising order."""
     named = {}
