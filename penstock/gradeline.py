@@ -126,8 +126,9 @@ def grade_lines(flow, headwater, chainage, elevation, node_area, length, diamete
         Chainage [m], pipe centreline elevation [m] and pipe area [m^2] at each node.
     length, diameter, roughness, k, reference_area : array_like, shape (n_node - 1,)
         The elements between consecutive nodes, see :func:`element_losses`.
+        [m], [m], [m], [-], [m^2]
     kinematic_viscosity : float
-        [m^2/s]
+        Kinematic viscosity of the water. [m^2/s]
     method : str, default "colebrook"
         Friction-factor method.
 
@@ -235,10 +236,10 @@ def discharge_to_atmosphere(headwater, chainage, elevation, node_area, length, d
     ----------
     headwater : float
         Reservoir level. [m]
-    chainage, elevation, node_area, length, diameter, roughness, k, reference_area
-        The route, as for :func:`grade_lines`.
+    chainage, elevation, node_area, length, diameter, roughness, k, reference_area : array_like
+        The route, as for :func:`grade_lines`. [m, m, m^2, m, m, m, -, m^2]
     kinematic_viscosity : float
-        [m^2/s]
+        Kinematic viscosity of the water. [m^2/s]
     method : str, default "colebrook"
         Friction-factor method.
 

@@ -1,13 +1,11 @@
 """Tests for penstock.diameter: empirical formulas, optimum, snapping and sensitivity."""
 
-import inspect
 
 import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-import penstock.diameter as MODULE
 from penstock.constants import GRAVITY, HOURS_PER_YEAR, SECONDS_PER_HOUR
 from penstock.diameter import (
     EMPIRICAL_DIAMETER_METHODS,
@@ -271,25 +269,4 @@ def test_one_at_a_time_rows():
         one_at_a_time(factory, base, bounds=(0.3, 6.0), names=["steel_price"])
 
 
-PUBLIC_FUNCTIONS = [n for n in MODULE.__all__ if inspect.isfunction(getattr(MODULE, n))]
-
-
-def _documented_parameters(func):
-    """Parameter names listed in the numpydoc 'Parameters' section of ``func``."""
-    lines = inspect.getdoc(func).splitlines()
-    if "Parameters" not in lines:
-        return []
-    names = []
-    body = lines[lines.index("Parameters") + 2 :]
-    for line, following in zip(body, body[1:] + [""], strict=True):
-        if following and set(following) == {"-"}:
-            break  # next section header
-        if line and not line.startswith(" "):
-            names += [n.strip().lstrip("*") for n in line.split(" : ")[0].split(",")]
-    return names
-
-
-@pytest.mark.parametrize("name", PUBLIC_FUNCTIONS)
-def test_docstring_parameters_match_signature(name):
-    func = getattr(MODULE, name)
-    assert _documented_parameters(func) == list(inspect.signature(func).parameters)
+# Docstring parameters against signatures: tests/test_docstrings.py, for every module.

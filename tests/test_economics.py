@@ -1,6 +1,5 @@
 """Tests for penstock.economics against numpy-financial and the interest formulas."""
 
-import inspect
 
 import numpy as np
 import numpy_financial as npf
@@ -9,7 +8,6 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-import penstock.economics as MODULE
 from penstock.economics import (
     annualized_cost,
     annuity_present_value,
@@ -182,25 +180,4 @@ def test_capital_cost_bad_diameter():
         pipe_capital_cost(0.0, 100.0, cost_per_metre=100.0)
 
 
-PUBLIC_FUNCTIONS = [n for n in MODULE.__all__ if inspect.isfunction(getattr(MODULE, n))]
-
-
-def _documented_parameters(func):
-    """Parameter names listed in the numpydoc 'Parameters' section of ``func``."""
-    lines = inspect.getdoc(func).splitlines()
-    if "Parameters" not in lines:
-        return []
-    names = []
-    body = lines[lines.index("Parameters") + 2 :]
-    for line, following in zip(body, body[1:] + [""], strict=True):
-        if following and set(following) == {"-"}:
-            break  # next section header
-        if line and not line.startswith(" "):
-            names += [n.strip().lstrip("*") for n in line.split(" : ")[0].split(",")]
-    return names
-
-
-@pytest.mark.parametrize("name", PUBLIC_FUNCTIONS)
-def test_docstring_parameters_match_signature(name):
-    func = getattr(MODULE, name)
-    assert _documented_parameters(func) == list(inspect.signature(func).parameters)
+# Docstring parameters against signatures: tests/test_docstrings.py, for every module.

@@ -1,13 +1,11 @@
 """Tests for penstock.materials: registry values against the standards they cite."""
 
 import dataclasses
-import inspect
 
 import numpy as np
 import pytest
 from fluids.friction import material_roughness
 
-import penstock.materials as MODULE
 from penstock.materials import (
     ALLOWABLE_STRESS_RULES,
     MATERIALS,
@@ -176,25 +174,4 @@ def test_make_material_bad_name_and_lookup_errors():
         sdr_pressure_rating(1.0, 8e6)
 
 
-PUBLIC_FUNCTIONS = [n for n in MODULE.__all__ if inspect.isfunction(getattr(MODULE, n))]
-
-
-def _documented_parameters(func):
-    """Parameter names listed in the numpydoc 'Parameters' section of ``func``."""
-    lines = inspect.getdoc(func).splitlines()
-    if "Parameters" not in lines:
-        return []
-    names = []
-    body = lines[lines.index("Parameters") + 2 :]
-    for line, following in zip(body, body[1:] + [""], strict=True):
-        if following and set(following) == {"-"}:
-            break  # next section header
-        if line and not line.startswith(" "):
-            names += [n.strip().lstrip("*") for n in line.split(" : ")[0].split(",")]
-    return names
-
-
-@pytest.mark.parametrize("name", PUBLIC_FUNCTIONS)
-def test_docstring_parameters_match_signature(name):
-    func = getattr(MODULE, name)
-    assert _documented_parameters(func) == list(inspect.signature(func).parameters)
+# Docstring parameters against signatures: tests/test_docstrings.py, for every module.

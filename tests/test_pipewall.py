@@ -1,6 +1,5 @@
 """Tests for penstock.pipewall against published formulas and independent solutions."""
 
-import inspect
 
 import numpy as np
 import pandas as pd
@@ -10,7 +9,6 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from scipy.integrate import quad
 
-import penstock.pipewall as MODULE
 from penstock.constants import GRAVITY, P_ATM_SEA_LEVEL
 from penstock.materials import MATERIALS
 from penstock.pipewall import (
@@ -269,25 +267,4 @@ def test_buckling_check_zero_thickness_and_series():
     assert list(res["critical_pressure"].index) == ["upper", "lower"]
 
 
-PUBLIC_FUNCTIONS = [n for n in MODULE.__all__ if inspect.isfunction(getattr(MODULE, n))]
-
-
-def _documented_parameters(func):
-    """Parameter names listed in the numpydoc 'Parameters' section of ``func``."""
-    lines = inspect.getdoc(func).splitlines()
-    if "Parameters" not in lines:
-        return []
-    names = []
-    body = lines[lines.index("Parameters") + 2 :]
-    for line, following in zip(body, body[1:] + [""], strict=True):
-        if following and set(following) == {"-"}:
-            break  # next section header
-        if line and not line.startswith(" "):
-            names += [n.strip().lstrip("*") for n in line.split(" : ")[0].split(",")]
-    return names
-
-
-@pytest.mark.parametrize("name", PUBLIC_FUNCTIONS)
-def test_docstring_parameters_match_signature(name):
-    func = getattr(MODULE, name)
-    assert _documented_parameters(func) == list(inspect.signature(func).parameters)
+# Docstring parameters against signatures: tests/test_docstrings.py, for every module.
