@@ -81,7 +81,7 @@ def _summary(case, props, h, route) -> pd.DataFrame:
         ("site", case.name, ""),
         ("note", case.note, ""),
         ("recommended penstock diameter (diameter study)", h.get("selected_diameter"), "m"),
-        ("its wall, thinnest to thickest plate", _wall_text(h), ""),
+        ("its wall, thinnest to thickest plate", _wall_text(h, case.unit_system), ""),
         ("gross head at design flow", h["gross_head"], "m"),
         ("design flow", h["design_flow"], "m^3/s"),
         ("penstock losses at design flow" if case.draft_tube is None else
@@ -110,7 +110,10 @@ def _summary(case, props, h, route) -> pd.DataFrame:
     return pd.DataFrame(rows, columns=["quantity", "value", "unit"])
 
 
-def _wall_text(h) -> str:
+def _wall_text(h, system) -> str:
     if h.get("selected_wall_min") is None:
         return "not studied"
-    return f"{1e3 * h['selected_wall_min']:.0f} to {1e3 * h['selected_wall_max']:.0f} mm"
+    from .core import Say
+
+    say = Say(system)
+    return f"{say.mm(h['selected_wall_min'])} to {say.mm(h['selected_wall_max'])}"

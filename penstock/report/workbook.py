@@ -122,7 +122,7 @@ def _summary_sheet(ws, ctx):
     ws.row_dimensions[row].height = 48
     row += 2
     table = convert_table(r.summary, ctx.system)
-    first, last = sh.write_table(ws, table, row=row, widths={"quantity": 38, "value": 22,
+    first, last = sh.write_table(ws, table, row=row, widths={"quantity": 58, "value": 22,
                                                                "unit": 10})
     for i in range(first, last + 1):
         ws.cell(row=i, column=2).number_format = "#,##0.00"
