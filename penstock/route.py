@@ -91,6 +91,18 @@ class Route:
     intake_diameter: float
     intake_elevation: float
 
+    def grade_lines(self, flow, headwater, kinematic_viscosity, roughness=None):
+        """Grade lines of this route at ``flow`` [m^3/s], see :func:`gradeline.grade_lines`.
+
+        ``roughness`` replaces the elements' roughness (e.g. aged or sampled). [m]
+        """
+        from . import gradeline
+
+        return gradeline.grade_lines(
+            flow, headwater, self.chainage, self.elevation, self.node_area, self.length,
+            self.diameter, self.roughness if roughness is None else roughness, self.k,
+            self.reference_area, kinematic_viscosity)
+
     def aged_roughness(self, segments, years: float) -> np.ndarray:
         """Element roughness after ``years`` of service (Colebrook & White linear growth)."""
         out = self.roughness.copy()

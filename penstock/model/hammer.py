@@ -107,6 +107,15 @@ def _wave_speeds(case, props, warns, methods):
     return np.array(speeds), pd.DataFrame(rows)
 
 
+def outlet_level(case, z_end):
+    """Level the closing orifice discharges to: the tailwater, or for an impulse unit the
+    runner (the pipe end when no runner elevation is given) if that is higher. [m]"""
+    if TURBINE_TYPES[case.turbine["type"]]["impulse"]:
+        z_run = case.turbine["runner_elevation"]
+        return max(case.tailwater, z_run if z_run is not None else z_end)
+    return case.tailwater
+
+
 def _law_args(s):
     law = s["closure_law"]
     args = {"law": law, "closure_time": s["closure_time"]}
@@ -128,12 +137,8 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
     diam = np.array([seg.diameter for seg in case.segments])
     areas = np.array([seg.area for seg in case.segments])
     speeds, wave_table = _wave_speeds(case, props, warns, methods)
-    ttype = case.turbine["type"]
-    z_run = case.turbine["runner_elevation"]
     z_end = float(route.elevation[-1])
-    downstream = case.tailwater
-    if TURBINE_TYPES[ttype]["impulse"]:
-        downstream = max(case.tailwater, z_run if z_run is not None else z_end)
+    downstream = outlet_level(case, z_end)
     q0 = case.design_flow
     static_head = case.headwater - z_end            # pressure head at the turbine at no flow
     allowable = s["allowable_rise"] * static_head

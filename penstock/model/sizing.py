@@ -32,7 +32,7 @@ import numpy as np
 import pandas as pd
 
 from .. import diameter as dia
-from .. import economics, gradeline, pipewall, surge, transients
+from .. import economics, pipewall, surge, transients
 from ..constants import GRAVITY, P_ATM_SEA_LEVEL
 from ..materials import get_material as _get_material
 from ..route import build_route
@@ -138,9 +138,7 @@ class DiameterModel:
         """Penstock head loss at ``flows`` for a uniform diameter ``d`` [m]."""
         c = uniform_case(self.case, d)
         r = build_route(c)
-        g = gradeline.grade_lines(flows, c.headwater, r.chainage, r.elevation, r.node_area,
-                                  r.length, r.diameter, r.roughness, r.k, r.reference_area,
-                                  self.props.kinematic_viscosity)
+        g = r.grade_lines(flows, c.headwater, self.props.kinematic_viscosity)
         return (g.friction_loss + g.local_loss).sum(axis=1)
 
     def energy_lost(self, d):
@@ -395,14 +393,7 @@ def _moc_design_head(case, props, model, d):
     diam = np.full(len(c.segments), d)
     speeds, _ = hammer._wave_speeds(c, props, [], _NullMethods())
     f = hammer._folded_friction(c, route, props, c.design_flow, lengths)
-    ttype = c.turbine["type"]
-    from ..turbines import TURBINE_TYPES
-
-    z_end = float(route.elevation[-1])
-    downstream = c.tailwater
-    if TURBINE_TYPES[ttype]["impulse"]:
-        z_run = c.turbine["runner_elevation"]
-        downstream = max(c.tailwater, z_run if z_run is not None else z_end)
+    downstream = hammer.outlet_level(c, float(route.elevation[-1]))
     res = transients.simulate(lengths, diam, speeds, f, c.headwater, downstream,
                               c.design_flow, **hammer._law_args(c.surge))
     s_nodes = np.concatenate([[0.0], np.cumsum(route.length)])
@@ -437,10 +428,7 @@ def candidate_table(case, props, steady, prod, model, diameters, warns):
         v = case.design_flow / (math.pi * d**2 / 4)
         tw = float(surge.water_starting_time(route.length.sum(), v, gross - h_d))
         # steady pressure margin: minimum over the study flows of the grade lines at d
-        g = gradeline.grade_lines(steady["flows"], case.headwater, route.chainage,
-                                  route.elevation, route.node_area, route.length,
-                                  route.diameter, route.roughness, route.k,
-                                  route.reference_area, props.kinematic_viscosity)
+        g = route.grade_lines(steady["flows"], case.headwater, props.kinematic_viscosity)
         p_steady = float(g.pressure_head[:, ~route.is_reservoir].min())
         buck = pipewall.buckling_check(t[0], d, steel.elastic_modulus, steel.poisson_ratio,
                                        external_pressure=P_ATM_SEA_LEVEL,

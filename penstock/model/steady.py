@@ -46,9 +46,8 @@ def run(case, props, warns, methods, tick) -> dict:
     tick("route and grade lines")
     route = build_route(case, warns, methods)
     flows, flow_names = _study_flows(case)
-    args = (route.chainage, route.elevation, route.node_area, route.length, route.diameter)
-    tail = (route.k, route.reference_area, props.kinematic_viscosity)
-    gl = gradeline.grade_lines(flows, case.headwater, *args, route.roughness, *tail)
+    nu = props.kinematic_viscosity
+    gl = route.grade_lines(flows, case.headwater, nu)
     methods.add("Pipe friction", "Darcy–Weisbach with the Colebrook–White friction factor "
                 "(64/Re below Re 2000; linear blend 2000–4000)",
                 "Colebrook, C.F. (1939). J. Inst. Civil Eng. 11(4), 133–156, "
@@ -60,8 +59,8 @@ def run(case, props, warns, methods, tick) -> dict:
     if any(seg.roughness_growth for seg in case.segments):
         years = case.service_life
         keep = [i for i, n in enumerate(flow_names) if n in ("design flow", "maximum plant flow")]
-        aged = gradeline.grade_lines(flows[keep], case.headwater, *args,
-                                     route.aged_roughness(case.segments, years), *tail)
+        aged = route.grade_lines(flows[keep], case.headwater, nu,
+                                 route.aged_roughness(case.segments, years))
         sets.append((aged, [f"{flow_names[i]}, after {years:g} years" for i in keep]))
         methods.add("Roughness ageing", f"linear growth of roughness with age, shown after "
                     f"{years:g} years", "Colebrook, C.F. & White, C.M. (1937). The reduction of "
@@ -97,9 +96,7 @@ def loss_function(case, route, props, points: int = 400):
     """
     q_top = 1.5 * case.maximum_flow
     grid = np.geomspace(1e-4 * q_top, q_top, points)
-    g = gradeline.grade_lines(grid, case.headwater, route.chainage, route.elevation,
-                              route.node_area, route.length, route.diameter, route.roughness,
-                              route.k, route.reference_area, props.kinematic_viscosity)
+    g = route.grade_lines(grid, case.headwater, props.kinematic_viscosity)
     log_grid = np.log(grid)
     coeff = (g.friction_loss + g.local_loss).sum(axis=1) / grid**2
 

@@ -21,7 +21,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from .. import economics, energy, gradeline
+from .. import economics, energy
 from .core import Warning_
 
 BLOCK_ELEMENTS = 2_000_000   # samples × steps per block, to bound memory
@@ -72,9 +72,7 @@ class _LossRatio:
 
     def _loss(self, case, props, route, factor, growth):
         rough = sampled_roughness(case, route, factor, growth, self.years)
-        g = gradeline.grade_lines(self.q, case.headwater, route.chainage, route.elevation,
-                                  route.node_area, route.length, route.diameter, rough,
-                                  route.k, route.reference_area, props.kinematic_viscosity)
+        g = route.grade_lines(self.q, case.headwater, props.kinematic_viscosity, rough)
         return (g.friction_loss + g.local_loss).sum(axis=1)
 
     def per_sample(self, factors, growth):
@@ -222,9 +220,7 @@ def _pressure_margin(case, props, steady, route, life, d):
 
     def margin(factor, growth):
         rough = sampled_roughness(case, route, factor, growth, life)
-        g = gradeline.grade_lines(flows, case.headwater, route.chainage, route.elevation,
-                                  route.node_area, route.length, route.diameter, rough,
-                                  route.k, route.reference_area, props.kinematic_viscosity)
+        g = route.grade_lines(flows, case.headwater, props.kinematic_viscosity, rough)
         return float((g.pressure_head[:, pipe] - crown - drawdown).min() - case.pressure_margin)
 
     if not ratio.active:
