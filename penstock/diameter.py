@@ -230,8 +230,8 @@ def empirical_diameter(method, **inputs):
     method : str
         Key of :data:`EMPIRICAL_DIAMETER_METHODS`. [-]
     **inputs : numeric
-        The method's inputs by name: ``power`` [W] and ``net_head`` [m], or ``flow``
-        [m^3/s] and optionally ``velocity`` [m/s].
+        The method's inputs by name: ``power`` and ``net_head``, or ``flow`` and
+        optionally ``velocity``. [W], [m], [m^3/s], [m/s]
 
     Returns
     -------

@@ -72,7 +72,7 @@ def element_losses(flow, length, diameter, roughness, k, reference_area, kinemat
     kinematic_viscosity : float
         Kinematic viscosity of the water. [m^2/s]
     method : str, default "colebrook"
-        Friction-factor method, see :func:`penstock.friction.friction_factor`.
+        Friction-factor method, see :func:`penstock.friction.friction_factor`. [-]
 
     Returns
     -------
@@ -123,14 +123,14 @@ def grade_lines(flow, headwater, chainage, elevation, node_area, length, diamete
     headwater : float
         Headwater (reservoir surface) level, where both lines start. [m]
     chainage, elevation, node_area : array_like, shape (n_node,)
-        Chainage [m], pipe centreline elevation [m] and pipe area [m^2] at each node.
+        Chainage, pipe centreline elevation and pipe area at each node. [m], [m], [m^2]
     length, diameter, roughness, k, reference_area : array_like, shape (n_node - 1,)
         The elements between consecutive nodes, see :func:`element_losses`.
         [m], [m], [m], [-], [m^2]
     kinematic_viscosity : float
         Kinematic viscosity of the water. [m^2/s]
     method : str, default "colebrook"
-        Friction-factor method.
+        Friction-factor method. [-]
 
     Returns
     -------
@@ -201,7 +201,7 @@ def submergence_gordon(velocity, diameter, approach="symmetric"):
     diameter : numeric
         Height (diameter) of the intake opening. [m]
     approach : {"symmetric", "asymmetric"}
-        Flow approach to the intake.
+        Flow approach to the intake. [-]
 
     Returns
     -------
@@ -241,7 +241,7 @@ def discharge_to_atmosphere(headwater, chainage, elevation, node_area, length, d
     kinematic_viscosity : float
         Kinematic viscosity of the water. [m^2/s]
     method : str, default "colebrook"
-        Friction-factor method.
+        Friction-factor method. [-]
 
     Returns
     -------

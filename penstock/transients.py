@@ -773,7 +773,7 @@ def shortest_closure_within_limit(study, limit, quantity="max_head_rise"):
     Parameters
     ----------
     study : ClosureStudy
-        Result of :func:`closure_time_study`.
+        Result of :func:`closure_time_study`. [-]
     limit : float
         Limit value (upper for rises and heads, lower for ``"min_head"``). [m]
     quantity : str

@@ -7,7 +7,6 @@ and the `fluids` library (fluids.fittings, version 1.x), which is used here only
 import doctest
 import inspect
 import math
-import re
 
 import fluids.fittings as ff
 import numpy as np
@@ -567,23 +566,7 @@ def test_registry_errors():
 
 
 # ---------------------------------------------------------------------- documentation
-PUBLIC_FUNCTIONS = [getattr(fittings, name) for name in fittings.__all__
-                    if inspect.isfunction(getattr(fittings, name))]
-
-
-@pytest.mark.parametrize("function", PUBLIC_FUNCTIONS, ids=lambda f: f.__name__)
-def test_docstring_parameters_match_signature(function):
-    doc = inspect.getdoc(function)
-    assert "Returns" in doc
-    section = re.search(r"Parameters\n-+\n(.*?)\n\n(?:Returns|Notes)", doc, re.S)
-    documented = re.findall(r"^(\*{0,2}\w+) :", section.group(1), re.M) if section else []
-    names = [("**" + n if p.kind is p.VAR_KEYWORD else n)
-             for n, p in inspect.signature(function).parameters.items()]
-    assert documented == names
-    if section:
-        # every parameter description ends with a unit in brackets
-        blocks = re.split(r"^\*{0,2}\w+ :.*$", section.group(1), flags=re.M)[1:]
-        assert all(block.strip().endswith("]") for block in blocks)
+# Docstrings against signatures and units: tests/test_docstrings.py.
 
 
 def test_doctests():

@@ -1,9 +1,7 @@
 """Tests of penstock.friction against reference libraries, the Moody chart and physics."""
 
 import doctest
-import inspect
 import math
-import re as regex
 import warnings
 
 import numpy as np
@@ -444,20 +442,7 @@ def test_aged_roughness_errors():
 
 
 # --- documentation -----------------------------------------------------------------------
-PUBLIC_FUNCTIONS = [reynolds, colebrook, swamee_jain, flow_regime, friction_factor, head_loss,
-                    material_roughness, aged_roughness]
-
-
-@pytest.mark.parametrize("function", PUBLIC_FUNCTIONS, ids=lambda f: f.__name__)
-def test_docstring_parameters_match_signature(function):
-    doc = inspect.getdoc(function)
-    block = doc.split("Parameters\n----------\n", 1)[1].split("\n\n", 1)[0]
-    documented = regex.findall(r"^(\w+) : ", block, flags=regex.MULTILINE)
-    assert documented == list(inspect.signature(function).parameters)
-    for entry in regex.split(r"^\w+ : .*\n", block, flags=regex.MULTILINE)[1:]:
-        assert entry.rstrip().endswith("]"), entry  # unit in brackets at the end
-    for section in ("Returns", "Notes", "References"):
-        assert f"\n{section}\n" in doc
+# Docstrings against signatures and units: tests/test_docstrings.py.
 
 
 def test_docstring_examples_run():

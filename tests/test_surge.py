@@ -1,8 +1,6 @@
 """Tests of penstock.surge closed forms."""
 
-import inspect
 import math
-import re
 
 import numpy as np
 import pandas as pd
@@ -179,20 +177,4 @@ def test_errors():
         surge.governing_stability_check(0.0, 5.0)
 
 
-def _public_functions(module):
-    return [f for name, f in inspect.getmembers(module, inspect.isfunction)
-            if not name.startswith("_") and f.__module__ == module.__name__]
-
-
-@pytest.mark.parametrize("func", _public_functions(surge), ids=lambda f: f.__name__)
-def test_docstring_parameters_match_signature(func):
-    doc = inspect.getdoc(func)
-    section = doc.split("Parameters\n----------\n", 1)[1].split("\n\n", 1)[0]
-    documented = []
-    for line in section.splitlines():
-        m = re.match(r"^([A-Za-z_*][\w, *]*) : ", line)
-        if m:
-            documented += [n.strip().lstrip("*") for n in m.group(1).split(",")]
-    assert documented == list(inspect.signature(func).parameters)
-    entries = re.split(r"\n(?=[A-Za-z_*][\w, *]* : )", section)
-    assert all(re.search(r"\[[^\]]*\]\s*$", entry.strip()) for entry in entries)
+# Docstrings against signatures and units: tests/test_docstrings.py.

@@ -1,8 +1,6 @@
 """Tests of penstock.transients (method of characteristics) against classical results."""
 
-import inspect
 import math
-import re
 
 import fluids
 import numpy as np
@@ -312,18 +310,4 @@ def test_bad_inputs():
         tr.simulate([L1, L1], [D1, D1, D1], [A1], [0.0], 100.0, 0.0, 1.0, 5.0)
 
 
-def _public_functions(module):
-    return [f for name, f in inspect.getmembers(module, inspect.isfunction)
-            if not name.startswith("_") and f.__module__ == module.__name__]
-
-
-@pytest.mark.parametrize("func", _public_functions(tr), ids=lambda f: f.__name__)
-def test_docstring_parameters_match_signature(func):
-    doc = inspect.getdoc(func)
-    section = doc.split("Parameters\n----------\n", 1)[1].split("\n\n", 1)[0]
-    documented = []
-    for line in section.splitlines():
-        m = re.match(r"^([A-Za-z_*][\w, *]*)(?: : |$)", line)
-        if m:
-            documented += [n.strip().lstrip("*") for n in m.group(1).split(",")]
-    assert documented == list(inspect.signature(func).parameters)
+# Docstrings against signatures and units: tests/test_docstrings.py.

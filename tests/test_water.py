@@ -2,8 +2,6 @@
 
 import dataclasses
 import doctest
-import inspect
-import re as regex
 
 import numpy as np
 import pandas as pd
@@ -254,20 +252,7 @@ def test_water_properties_rejects_bad_input():
 
 
 # --- documentation -----------------------------------------------------------------------
-PUBLIC_FUNCTIONS = [atmospheric_pressure, vapour_pressure, density, dynamic_viscosity,
-                    kinematic_viscosity, bulk_modulus, water_properties]
-
-
-@pytest.mark.parametrize("function", PUBLIC_FUNCTIONS, ids=lambda f: f.__name__)
-def test_docstring_parameters_match_signature(function):
-    doc = inspect.getdoc(function)
-    block = doc.split("Parameters\n----------\n", 1)[1].split("\n\n", 1)[0]
-    documented = regex.findall(r"^(\w+) : ", block, flags=regex.MULTILINE)
-    assert documented == list(inspect.signature(function).parameters)
-    for entry in regex.split(r"^\w+ : .*\n", block, flags=regex.MULTILINE)[1:]:
-        assert entry.rstrip().endswith("]"), entry  # unit in brackets at the end
-    for section in ("Returns", "Notes", "References"):
-        assert f"\n{section}\n" in doc
+# Docstrings against signatures and units: tests/test_docstrings.py.
 
 
 def test_docstring_examples_run():

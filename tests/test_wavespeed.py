@@ -1,8 +1,6 @@
 """Tests of penstock.wavespeed against published forms and independent derivations."""
 
-import inspect
 import math
-import re
 
 import numpy as np
 import pandas as pd
@@ -229,21 +227,4 @@ def test_errors():
         ws.viscoelastic_effective_modulus(1e9, [1e-10], [1.0, 2.0], 1.0)
 
 
-def _public_functions(module):
-    return [f for name, f in inspect.getmembers(module, inspect.isfunction)
-            if not name.startswith("_") and f.__module__ == module.__name__]
-
-
-@pytest.mark.parametrize("func", _public_functions(ws), ids=lambda f: f.__name__)
-def test_docstring_parameters_match_signature(func):
-    doc = inspect.getdoc(func)
-    section = doc.split("Parameters\n----------\n", 1)[1].split("\n\n", 1)[0]
-    documented = []
-    for line in section.splitlines():
-        m = re.match(r"^([A-Za-z_*][\w, *]*) : ", line)
-        if m:
-            documented += [n.strip().lstrip("*") for n in m.group(1).split(",")]
-    assert documented == list(inspect.signature(func).parameters)
-    # every parameter entry carries a unit in brackets at the end of its description
-    entries = re.split(r"\n(?=[A-Za-z_*][\w, *]* : )", section)
-    assert all(re.search(r"\[[^\]]*\]\s*$", entry.strip()) for entry in entries)
+# Docstrings against signatures and units: tests/test_docstrings.py.
