@@ -9,7 +9,9 @@ and the others still run.
 from __future__ import annotations
 
 import concurrent.futures as cf
+import contextlib
 import os
+import sys
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -73,15 +75,29 @@ def run_one(folder: str, out_dir: str, units: str | None) -> Outcome:
     """Load, run and write one case; never raises for a case's own problems."""
     from . import load_case, run_case
     from .report import ReportError, write_reports
+    from .report.publish import check_report_folder
 
+    _WORKER["busy"] = True
     try:
         case = load_case(folder)
+        target = Path(out_dir) / case.slug
+        check_report_folder(target, [case.folder])     # before the run: fail fast
         results = run_case(case)
-        write_reports(results, Path(out_dir) / f"{case.slug}.xlsx", units)
+        write_reports(results, target, units)
+    except KeyboardInterrupt:
+        if not _WORKER["pool"]:
+            raise                      # run in the batch's own process: stop the batch
+        return Outcome(str(folder), False, {}, f"{folder}: interrupted; its report was not "
+                       "changed")
     except (CaseError, ReportError) as exc:
         return Outcome(str(folder), False, {}, str(exc))
+    except OSError as exc:
+        where = exc.filename if exc.filename is not None else folder
+        return Outcome(str(folder), False, {}, f"{where}: {exc.strerror or exc}")
     except Exception as exc:   # an internal error in one case must not stop the batch
         return Outcome(str(folder), False, {}, f"internal error: {type(exc).__name__}: {exc}")
+    finally:
+        _WORKER["busy"] = False
     h = results.headline
     row = {"site": case.name, "folder": str(folder)}
     for name, key, scale in PORTFOLIO:
@@ -125,7 +141,8 @@ def run_many(folders, out_dir="reports", workers=None, units=None, progress=None
             tick(i + 1)
         return out
     results: dict[int, Outcome] = {}
-    pool = cf.ProcessPoolExecutor(max_workers=workers)
+    pool = cf.ProcessPoolExecutor(max_workers=workers, initializer=_die_with_parent,
+                                  initargs=(os.getpid(),))
     try:
         futures = {pool.submit(run_one, f, str(out_dir), units): i
                    for i, f in enumerate(folders)}
@@ -133,10 +150,64 @@ def run_many(folders, out_dir="reports", workers=None, units=None, progress=None
             results[futures[fut]] = fut.result()
             tick(len(results))
     except KeyboardInterrupt:
+        # the workers ignore SIGINT; a polite SIGTERM lets each tidy its unfinished report
+        for proc in list((getattr(pool, "_processes", None) or {}).values()):
+            with contextlib.suppress(OSError, AttributeError):
+                proc.terminate()
         pool.shutdown(wait=True, cancel_futures=True)
         raise
     pool.shutdown(wait=True)
     return [results[i] for i in range(len(folders))]
+
+
+#: State of this process as a batch worker: started by the pool, running a case.
+_WORKER = {"pool": False, "busy": False}
+
+
+def _die_with_parent(parent_pid: int) -> None:
+    """Worker start-up: signals, and an end to this worker as soon as the batch is gone.
+
+    Ctrl-C reaches the whole process group; a worker ignores SIGINT and leaves the
+    batch process to decide.  On SIGTERM (sent by the batch when interrupted) a worker
+    busy with a case stops it as on Ctrl-C, so its unfinished report is tidied away;
+    an idle worker just exits.
+
+    On Linux the kernel sends the worker SIGKILL when its parent dies
+    (``prctl(PR_SET_PDEATHSIG)``); everywhere, a watchdog thread also checks every
+    0.2 s that the parent is still the same process and exits otherwise.  A batch
+    killed with SIGKILL therefore leaves no workers running on.
+    """
+    import signal
+    import threading
+    import time
+
+    _WORKER["pool"] = True
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+
+    def on_term(signum, frame):
+        if _WORKER["busy"]:
+            raise KeyboardInterrupt
+        os._exit(1)
+
+    signal.signal(signal.SIGTERM, on_term)
+    if sys.platform.startswith("linux"):
+        import ctypes
+
+        try:
+            libc = ctypes.CDLL(None, use_errno=True)
+            libc.prctl(1, int(signal.SIGKILL), 0, 0, 0)   # PR_SET_PDEATHSIG = 1
+        except (OSError, AttributeError):
+            pass
+    if os.getppid() != parent_pid:   # the parent died before we got here
+        os._exit(1)
+
+    def watch():
+        while True:
+            time.sleep(0.2)
+            if os.getppid() != parent_pid:
+                os._exit(1)
+
+    threading.Thread(target=watch, name="penstock-parent-watch", daemon=True).start()
 
 
 def _run_dask(folders, out_dir, units, address, tick):
@@ -184,22 +255,26 @@ def write_portfolio(outcomes, path, version: str) -> None:
     import tempfile
 
     from .report.compare import write_comparison_workbook
+    from .report.publish import check_output_file, replace_file
 
     table = portfolio_table(outcomes)
     path = Path(path)
-    fd, tmp = tempfile.mkstemp(prefix=".portfolio.", suffix=".tmp.xlsx", dir=path.parent)
+    check_output_file(path)
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.stem}.penstock-", suffix=".xlsx",
+                               dir=path.parent)
     os.close(fd)
     try:
         n_bad = int((table["status"] != "ok").sum())
         write_comparison_workbook(
             table, tmp, "Portfolio of sites",
             "portfolio", version,
-            notes=[f"{len(table)} cases, {n_bad} failed. Each case has its own workbook "
-                   "beside this one."])
+            notes=[f"{len(table)} cases, {n_bad} failed. Each case has its own report "
+                   "folder beside this workbook."])
         umask = os.umask(0)
         os.umask(umask)
         os.chmod(tmp, 0o666 & ~umask)
-        os.replace(tmp, path)
+        check_output_file(path)   # nothing appeared meanwhile
+        replace_file(Path(tmp), path)
     except BaseException:
         Path(tmp).unlink(missing_ok=True)
         raise

@@ -21,8 +21,8 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from . import fittings, friction, route, units
-from .schema import CASE_FILE, SECTIONS, SECTIONS_BY_NAME, Field, Section
+from . import csvfile, fittings, friction, route, units
+from .schema import CASE_FILE, COLUMN_BOUNDS, SECTIONS, SECTIONS_BY_NAME, Field, Section
 
 
 class CaseError(ValueError):
@@ -105,6 +105,7 @@ class Case:
     diameter_study: dict = field(default_factory=dict)
     uncertainty: dict = field(default_factory=dict)
     echo: list[dict] = field(default_factory=list)
+    profile_file: str = "profile.csv"   # the route profile's file name, for messages
 
     @property
     def slug(self) -> str:
@@ -133,6 +134,15 @@ class Case:
 
 # --------------------------------------------------------------------------- helpers
 _HEADER = re.compile(r"^\s*([^\[\]]+?)\s*(?:\[\s*([^\[\]]*?)\s*\])?\s*$")
+_DECIMAL = r"[-+]?(?:(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d{1,3})?|(?i:inf(?:inity)?))"
+#: Cell texts that spreadsheets and data systems write for a missing value.
+_MISSING = {"na", "n/a", "#n/a", "nan", "null", "none", "-", "--", "?"}
+_COMMA_DECIMAL = re.compile(r"[-+]?\d*,\d+")
+_ISO_DATE = r"\d{4}-\d{2}-\d{2}(?:[T ]\d{2}:\d{2}(?::\d{2}(?:\.\d+)?)?)?"
+_UTC_OFFSET = r"(?<=\d)(Z|[+-]\d{2}:?\d{2})$"
+#: Characters refused in case text: the C0 and C1 control characters (tabs and line
+#: breaks are allowed in the free-text note only).
+_CONTROL = re.compile(r"[\x00-\x1f\x7f-\x9f]")
 _DIMENSIONLESS_UNITS = {"-", "1", "", "%"}
 
 
@@ -214,6 +224,17 @@ class _Reader:
         if kind == "text":
             if not isinstance(raw, str):
                 raise CaseError(self.file, key, f"{raw!r} is not text; expected text in quotes")
+            allowed = "\t\n\r" if f.name == "note" else ""
+            bad = next((c for c in _CONTROL.findall(raw) if c not in allowed), None)
+            if bad is not None:
+                raise CaseError(self.file, key, f"holds the control character "
+                                f"U+{ord(bad):04X}; expected printable text")
+            if len(raw) > f.max_chars:
+                raise CaseError(self.file, key, f"is {len(raw)} characters long; expected at "
+                                f"most {f.max_chars}")
+            if f.required and not raw.strip():
+                raise CaseError(self.file, key, "is empty; expected "
+                                + ("the site's name" if f.name == "name" else "some text"))
             return raw
         if kind == "choice":
             if not isinstance(raw, str) or raw.strip().lower() not in f.choices:
@@ -233,14 +254,23 @@ class _Reader:
             if not isinstance(raw, list):
                 raise CaseError(self.file, key, f"{raw!r} is not a list; expected "
                                 f"{self._expect(f)}")
+            if len(raw) > f.max_items:
+                raise CaseError(self.file, key, f"has {len(raw)} items; expected at most "
+                                f"{f.max_items}")
             out = []
             for i, item in enumerate(raw):
                 try:
                     q = units.parse_quantity(item, item_kind)
                 except units.UnitError as exc:
                     raise CaseError(self.file, f"{key}[{i + 1}]", str(exc)) from None
+                if not math.isfinite(q):
+                    raise CaseError(self.file, f"{key}[{i + 1}]", f"{item!r} is not a finite "
+                                    "number")
                 if not q > 0 and not (item_kind == "length" and f.name == "record_at"):
                     raise CaseError(self.file, f"{key}[{i + 1}]", f"{item!r} must be above zero")
+                if f.maximum is not None and q > f.maximum:
+                    raise CaseError(self.file, f"{key}[{i + 1}]", f"{item!r} is out of range; "
+                                    f"expected at most {_fmt_si(f.maximum, item_kind)}")
                 out.append(q)
             return out
         try:
@@ -275,8 +305,12 @@ class _Reader:
         if root != path and root not in path.parents:
             raise CaseError(self.file, key, f"'{raw}' lies outside the case folder; expected a "
                             "file inside it")
-        if not path.is_file():
-            raise CaseError(self.file, key, f"file '{raw}' does not exist in the case folder")
+        try:
+            what = csvfile.file_problem(path)
+        except OSError as exc:
+            what = f"cannot be read ({exc.strerror})"
+        if what:
+            raise CaseError(self.file, key, f"'{raw}' {what}")
         return path
 
     def check_keys(self, table: dict, section: Section, where: str, allowed=None):
@@ -288,28 +322,25 @@ class _Reader:
                                  "; expected one of " + ", ".join(sorted(names))))
 
     # ---------------------------------------------------------------- CSV tables
-    def table(self, path: Path, columns: tuple[tuple[str, str], ...], optional=()) -> pd.DataFrame:
-        """Read a CSV whose headers carry units, e.g. ``chainage [m]``; return SI columns."""
+    def table(self, path: Path, columns: tuple[tuple[str, str], ...], optional=(),
+              max_rows: int = 10_000) -> pd.DataFrame:
+        """Read a CSV whose headers carry units, e.g. ``chainage [m]``; return SI columns.
+
+        The file is read strictly (:mod:`penstock.csvfile`): every row has the header's
+        number of fields; unknown columns are errors; values must lie within the
+        column's bounds (:data:`penstock.schema.COLUMN_BOUNDS`).
+        """
         name = path.name
         try:
-            raw = pd.read_csv(path, dtype=str, skipinitialspace=True, comment="#")
-        except pd.errors.EmptyDataError:
-            raise CaseError(name, "", "the file is empty; expected a header row and data rows")
-        except (pd.errors.ParserError, UnicodeDecodeError) as exc:
-            raise CaseError(name, "", f"cannot be read as CSV ({str(exc).splitlines()[0]})")
-        if len(raw.columns) == 1 and ";" in str(raw.columns[0]):
-            raise CaseError(name, "", "the columns seem separated by ';'; expected commas, "
-                            "e.g. 'chainage [m],elevation [m]'")
-        if raw.empty:
-            raise CaseError(name, "", "has a header but no data rows")
-        # line numbers of the data rows as an editor shows them (comments and blanks skipped)
-        with path.open(encoding="utf-8", errors="replace") as fh:
-            kept = [i for i, text in enumerate(fh, start=1)
-                    if text.strip() and not text.lstrip().startswith("#")]
-        self.lines[name] = kept[1:]
+            raw = csvfile.read_csv(path, max_rows)
+        except csvfile.CsvFormatError as exc:
+            raise CaseError(name, exc.where, exc.problem) from None
+        self.lines[name] = raw.lines
+        wanted = list(columns) + [(c, k) for c, k in optional]
+        wanted_names = [c for c, _ in wanted]
         headers = {}
-        for col in raw.columns:
-            m = _HEADER.match(str(col))
+        for j, col in enumerate(raw.header):
+            m = _HEADER.match(col)
             if not m:
                 raise CaseError(name, f"column '{col}'", "cannot read the header; expected "
                                 "'name [unit]', e.g. 'chainage [m]'")
@@ -317,9 +348,22 @@ class _Reader:
             if key in headers:
                 raise CaseError(name, f"column '{col}'", f"repeats the quantity of column "
                                 f"'{headers[key][0]}'; expected each quantity once")
-            headers[key] = (col, m.group(2))
+            headers[key] = (col, m.group(2), j)
+        unknown = [k for k in headers if k not in wanted_names]
+        for cname, kind in columns:
+            if cname not in headers:
+                found = (f" (the column '{headers[unknown[0]][0]}' is not one of this table"
+                         f"{_did_you_mean(unknown[0], [cname]).replace('; ', ': ')})"
+                         if unknown else "")
+                raise CaseError(name, f"column '{cname}'", "is missing; expected a column "
+                                f"headed '{cname}" + ("'" if kind == "date" else
+                                                       f" [unit]', e.g. '{cname} [{units.SI_UNITS[kind] or '-'}]'")
+                                + found)
+        if unknown:
+            listed = ", ".join(f"'{c}'" for c in wanted_names)
+            raise CaseError(name, f"column '{headers[unknown[0]][0]}'", "is not a column of this "
+                            f"table; expected {listed}" + _did_you_mean(unknown[0], wanted_names))
         out = {}
-        wanted = list(columns) + [(c, k) for c, k in optional]
         for cname, kind in wanted:
             if cname not in headers:
                 if (cname, kind) in optional:
@@ -327,27 +371,49 @@ class _Reader:
                 raise CaseError(name, f"column '{cname}'", "is missing; expected a column "
                                 f"headed '{cname}" + ("'" if kind == "date" else
                                                        f" [unit]', e.g. '{cname} [{units.SI_UNITS[kind] or '-'}]'"))
-            col, unit = headers[cname]
-            series = raw[col]
+            col, unit, j = headers[cname]
+            series = pd.Series([r[j] for r in raw.rows], dtype=object)
             if kind == "date":
                 out[cname] = self._dates(series, name, col)
                 continue
-            out[cname] = self._numbers(series, name, col, unit, kind)
+            values = self._numbers(series, name, col, unit, kind)
+            self._column_bounds(values, name, col, cname, kind)
+            out[cname] = values
         return pd.DataFrame(out)
+
+    def _column_bounds(self, values: np.ndarray, name: str, col: str, cname: str, kind: str):
+        """Refuse absurd values: each column has bounds in SI (schema.COLUMN_BOUNDS)."""
+        lo, hi = COLUMN_BOUNDS.get(cname, (None, None))
+        for bound, bad in ((lo, values < lo if lo is not None else None),
+                           (hi, values > hi if hi is not None else None)):
+            if bad is not None and bad.any():
+                row = int(np.flatnonzero(bad)[0])
+                side = "at least" if bound is lo else "at most"
+                raise CaseError(name, f"row {self.line(name, row)}, column '{col}'",
+                                f"{values[row]:g} {units.SI_UNITS[kind]} (in SI) is out of "
+                                f"range; expected {side} {_fmt_si(bound, kind)}".replace(
+                                    "  ", " "))
 
     def _numbers(self, series: pd.Series, name: str, col: str, unit, kind: str) -> np.ndarray:
         if unit is None:
             raise CaseError(name, f"column '{col}'", "has no unit; expected e.g. "
                             f"'{col} [{units.SI_UNITS[kind] or '-'}]'")
-        values = pd.to_numeric(series.str.strip(), errors="coerce")
+        text = series.astype(str).str.strip()
+        values = pd.to_numeric(text.where(text.str.fullmatch(_DECIMAL), ""), errors="coerce")
         bad = values.isna()
         if bad.any():
             row = int(np.flatnonzero(bad.to_numpy())[0])
-            cell = series.iloc[row]
-            what = ("is empty" if cell is None or (isinstance(cell, float) and math.isnan(cell))
-                    or not str(cell).strip() else f"{cell!r} is not a number")
-            raise CaseError(name, f"row {self.line(name, row)}, column '{col}'",
-                            f"{what}; expected a number")
+            cell = text.iloc[row]
+            if not cell:
+                what = "is empty; expected a number"
+            elif cell.lower() in _MISSING:
+                what = f"{cell!r} marks a missing value; expected a number"
+            elif _COMMA_DECIMAL.fullmatch(cell):
+                what = (f"{cell!r} uses a comma as the decimal mark; expected a point, e.g. "
+                        f"{cell.replace(',', '.')}")
+            else:
+                what = f"{cell!r} is not a number; expected a number such as 12.5 or 1.2e3"
+            raise CaseError(name, f"row {self.line(name, row)}, column '{col}'", what)
         arr = values.to_numpy(dtype=float)
         if not np.all(np.isfinite(arr)):
             row = int(np.flatnonzero(~np.isfinite(arr))[0])
@@ -358,6 +424,12 @@ class _Reader:
             if unit not in _DIMENSIONLESS_UNITS:
                 raise CaseError(name, f"column '{col}'", f"unit '{unit}' is not dimensionless; "
                                 "expected '[-]' or '[%]'")
+            if unit == "%" and np.all((arr >= 0) & (arr <= 1)):
+                raise CaseError(name, f"column '{col}'", "every value lies between 0 and 1 "
+                                "although the column is in [%], so they would read as 0 % to "
+                                "1 %; if they are fractions, head the column "
+                                f"'{col.split('[')[0].strip()} [-]'; if they are percentages, "
+                                "write them as such (e.g. 50 for 50 %)")
             return arr / 100.0 if unit == "%" else arr
         try:
             units.parse_unit(unit, kind)
@@ -366,7 +438,21 @@ class _Reader:
         return np.asarray(units.to_si(arr, unit, kind), dtype=float)
 
     def _dates(self, series: pd.Series, name: str, col: str) -> pd.DatetimeIndex:
-        parsed = pd.to_datetime(series.str.strip(), errors="coerce", format="ISO8601")
+        text = series.astype(str).str.strip()
+        offset = text.str.extract(_UTC_OFFSET, expand=False)
+        has = offset.notna()
+        if has.any():
+            first = offset[has].iloc[0]
+            differs = (offset != first) | ~has
+            if differs.any():
+                row = int(np.flatnonzero(differs.to_numpy())[0])
+                raise CaseError(name, f"row {self.line(name, row)}, column '{col}'",
+                                f"{series.iloc[row]!r} has another UTC offset than the first "
+                                f"dated row ({first}); expected every date in one time zone "
+                                "offset, or none")
+            text = text.str.replace(_UTC_OFFSET, "", regex=True)   # local wall-clock time
+        parsed = pd.to_datetime(text.where(text.str.fullmatch(_ISO_DATE), ""),
+                                errors="coerce", format="ISO8601")
         bad = parsed.isna()
         if bad.any():
             row = int(np.flatnonzero(bad.to_numpy())[0])
@@ -416,15 +502,20 @@ def load_case(path) -> Case:
         raise CaseError(str(path), "", "is not a case folder; expected a folder holding "
                         f"{CASE_FILE}")
     toml_path = folder / CASE_FILE
-    if not toml_path.is_file():
+    if not toml_path.exists():
         raise CaseError(CASE_FILE, "", f"not found in '{folder}'; expected a case folder "
                         f"holding {CASE_FILE} (write one with 'penstock new')")
     try:
-        doc = tomllib.loads(toml_path.read_text(encoding="utf-8"))
+        text = csvfile.read_text(toml_path, csvfile.MAX_TOML_BYTES)
+    except csvfile.CsvFormatError as exc:
+        raise CaseError(CASE_FILE, exc.where, exc.problem) from None
+    try:
+        doc = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise CaseError(CASE_FILE, "", f"TOML syntax error: {exc}") from None
-    except UnicodeDecodeError:
-        raise CaseError(CASE_FILE, "", "is not UTF-8 text") from None
+    except RecursionError:
+        raise CaseError(CASE_FILE, "", "is nested too deeply to read; expected plain "
+                        "[section] tables of keys") from None
 
     rd = _Reader(folder)
     for key in doc:
@@ -458,8 +549,9 @@ def load_case(path) -> Case:
     flows, turbine = values["flows"], values["turbine"]
 
     # ---- profile
-    profile = rd.table(route["profile"], SECTIONS_BY_NAME["route"].fields_by_name["profile"].columns,
-                       optional=(("ground", "length"),))
+    pfield = SECTIONS_BY_NAME["route"].fields_by_name["profile"]
+    profile = rd.table(route["profile"], pfield.columns, optional=(("ground", "length"),),
+                       max_rows=pfield.max_rows)
     pname = route["profile"].name
     ch = profile["chainage"].to_numpy()
     if len(ch) < 2:
@@ -583,18 +675,28 @@ def load_case(path) -> Case:
         turbine=turbine, draft_tube=draft, economics=values["economics"],
         surge=surge, wall=values["wall"], costs=values["costs"],
         diameter_study=values["diameter_study"], uncertainty=values["uncertainty"],
-        echo=rd.echo,
+        echo=rd.echo, profile_file=pname,
     )
+
+
+def _tables(doc: dict, sec: Section) -> list:
+    """The [[name]] tables of an array section, each checked to be a table."""
+    tables = doc.get(sec.name, [])
+    if not isinstance(tables, list) or not all(isinstance(t, dict) for t in tables):
+        raise CaseError(CASE_FILE, f"[[{sec.name}]]", f"must be written as [[{sec.name}]] "
+                        "tables")
+    if len(tables) > sec.max_tables:
+        raise CaseError(CASE_FILE, f"[[{sec.name}]]", f"{len(tables)} tables given; expected "
+                        f"at most {sec.max_tables}")
+    return tables
 
 
 def _segments(doc: dict, rd: _Reader, chainage: np.ndarray) -> list[Segment]:
     sec = SECTIONS_BY_NAME["pipe"]
-    tables = doc.get("pipe")
+    tables = _tables(doc, sec)
     if not tables:
         raise CaseError(CASE_FILE, "[[pipe]]", "no pipe segment given; expected at least one "
                         "[[pipe]] table")
-    if not isinstance(tables, list):
-        raise CaseError(CASE_FILE, "[[pipe]]", "must be written as [[pipe]] tables")
     segs = []
     for i, t in enumerate(tables, start=1):
         where = f"pipe {i}."
@@ -635,9 +737,7 @@ def _segments(doc: dict, rd: _Reader, chainage: np.ndarray) -> list[Segment]:
 
 def _losses(doc: dict, rd: _Reader, chainage: np.ndarray) -> list[LocalLoss]:
     sec = SECTIONS_BY_NAME["loss"]
-    tables = doc.get("loss", [])
-    if not isinstance(tables, list):
-        raise CaseError(CASE_FILE, "[[loss]]", "must be written as [[loss]] tables")
+    tables = _tables(doc, sec)
     out = []
     for i, t in enumerate(tables, start=1):
         where = f"loss {i}."
@@ -685,8 +785,8 @@ def _losses(doc: dict, rd: _Reader, chainage: np.ndarray) -> list[LocalLoss]:
 
 def _flow_record(rd: _Reader, path: Path, gap_method: str) -> pd.Series:
     fname = path.name
-    cols = SECTIONS_BY_NAME["flows"].fields_by_name["record"].columns
-    df = rd.table(path, cols)
+    rfield = SECTIONS_BY_NAME["flows"].fields_by_name["record"]
+    df = rd.table(path, rfield.columns, max_rows=rfield.max_rows)
     idx = pd.DatetimeIndex(df["date"])
     q = df["flow"].to_numpy()
     neg = q < 0
@@ -775,8 +875,10 @@ def _duration_record(rd: _Reader, path: Path) -> pd.Series:
     bad = (p < 0) | (p > 1)
     if bad.any():
         row = int(np.flatnonzero(bad)[0])
+        hint = (" (the column is in [-]: head it 'exceedance [%]' if the values are "
+                "percentages)" if np.all((p >= 0) & (p <= 100)) else "")
         raise CaseError(name, f"row {rd.line(name, row)}, column 'exceedance'", "exceedance is outside "
-                        "0 to 100 %")
+                        f"0 to 100 %{hint}")
     if np.any(np.diff(p) <= 0):
         row = int(np.flatnonzero(np.diff(p) <= 0)[0]) + 1
         raise CaseError(name, f"row {rd.line(name, row)}, column 'exceedance'", "exceedance does not "
@@ -791,6 +893,7 @@ def _duration_record(rd: _Reader, path: Path) -> pd.Series:
         raise CaseError(name, "", str(exc)) from None
     series.name = "flow"
     series.attrs["from_duration_table"] = True
+    series.attrs["duration_coverage"] = (float(p[0]), float(p[-1]))   # fractions
     rd.echo.append({"section": "flows", "key": "flows.duration_table", "as written": name,
                     "value (SI)": f"{len(df)} points, turned into a representative hourly year",
                     "SI unit": "m^3/s", "source": name})
@@ -798,7 +901,8 @@ def _duration_record(rd: _Reader, path: Path) -> pd.Series:
 
 
 def _level_series(rd: _Reader, path: Path, index: pd.DatetimeIndex) -> pd.Series:
-    df = rd.table(path, (("date", "date"), ("level", "length")))
+    sfield = SECTIONS_BY_NAME["levels"].fields_by_name["headwater_series"]
+    df = rd.table(path, sfield.columns, max_rows=sfield.max_rows)
     series = pd.Series(df["level"].to_numpy(), index=pd.DatetimeIndex(df["date"]))
     if series.index.duplicated().any():
         row = int(np.flatnonzero(series.index.duplicated())[0])

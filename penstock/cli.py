@@ -15,12 +15,13 @@ from pathlib import Path
 
 from . import __version__
 from .case import CaseError, load_case
+from .schema import SECTIONS_BY_NAME
 
 EXAMPLES = {
     "run": """\
 examples:
   penstock run cases/alder-gorge-high-head
-  penstock run cases/cedar-fork-us-units --units si --out reports/cedar-si.xlsx
+  penstock run cases/cedar-fork-us-units --units si --out reports/cedar-si
   penstock run my-site --quiet
   penstock run cases/alder-gorge-high-head --samples 2000   # P50/P90 energy
   penstock run cases/* --workers 2            # a batch, with reports/portfolio.xlsx
@@ -85,11 +86,21 @@ def cmd_run(args) -> int:
 def _run_batch(args, folders) -> int:
     from . import __version__
     from .batch import portfolio_table, run_many, write_portfolio
+    from .report.publish import check_not_in_a_case, check_output_file
 
     out_dir = Path(args.out) if args.out else Path("reports")
     if out_dir.suffix.lower() == ".xlsx":
         raise CaseError("--out", "", f"'{out_dir}' is a workbook name; for several cases "
-                        "--out names the folder the reports go to")
+                        "--out names the folder the report folders go to")
+    check_not_in_a_case(out_dir, "reports folder", folders)
+    check_output_file(out_dir / "portfolio.xlsx", folders)
+    by_name: dict[str, Path] = {}
+    for f in folders:
+        other = by_name.setdefault(f.name, f)
+        if other is not f:
+            raise CaseError("--out", "", f"the cases {other} and {f} would both write the "
+                            f"report {out_dir / f.name}; expected case folders with different "
+                            "names, or separate runs with their own --out")
     bar = None
     if not (args.quiet or os.environ.get("CI") or not sys.stderr.isatty()):
         from tqdm import tqdm
@@ -105,6 +116,12 @@ def _run_batch(args, folders) -> int:
     try:
         outcomes = run_many(folders, out_dir, workers=args.workers, units=args.units,
                             progress=tick, scheduler=args.scheduler, address=args.dask_address)
+    except KeyboardInterrupt:
+        if bar is not None:
+            bar.close()
+        print(f"penstock: interrupted; the reports finished in {out_dir}/ are whole, the "
+              "others and the portfolio were not changed", file=sys.stderr)
+        return 130
     finally:
         if bar is not None:
             bar.close()
@@ -115,23 +132,25 @@ def _run_batch(args, folders) -> int:
         if not o.ok:
             print(f"penstock: error: {o.error}", file=sys.stderr)
     _say(args.quiet, f"{len(outcomes) - n_bad} of {len(outcomes)} cases ran; wrote "
-         f"{out_dir / 'portfolio.xlsx'} and one workbook per case in {out_dir}/")
+         f"{out_dir / 'portfolio.xlsx'} and one report folder per case in {out_dir}/")
     return min(n_bad, 100)
 
 
 def _run_single(args) -> int:
     from .model import run_case
     from .report import write_reports
+    from .report.publish import check_report_folder
 
     case = load_case(args.case)
-    out = Path(args.out) if args.out else Path("reports") / f"{case.slug}.xlsx"
-    if out.suffix.lower() != ".xlsx":
-        raise CaseError("--out", "", f"'{out}' is not an .xlsx file name")
+    out = Path(args.out) if args.out else Path("reports") / case.slug
+    if out.suffix.lower() == ".xlsx":
+        raise CaseError("--out", "", f"'{out}' names a workbook; expected the report folder, "
+                        f"which holds the workbook, e.g. --out {out.with_suffix('')}")
+    check_report_folder(out, [case.folder])     # before the run: fail fast
     tick, close = _progress(args.quiet)
     try:
-        if args.samples is not None and args.samples < 0:
-            raise CaseError("--samples", "", f"{args.samples} is negative; expected 0 or more")
-        results = run_case(case, progress=tick, samples=args.samples)
+        results = run_case(case, progress=tick, samples=args.samples,
+                           proceed=args.run_anyway)
         if tick:
             tick("writing reports")
         written = write_reports(results, out, args.units)
@@ -147,9 +166,14 @@ def _run_single(args) -> int:
          f"design flow, {h['installed_capacity'] / 1e3:,.0f} kW installed, "
          f"{h['mean_annual_energy'] / 3.6e9:,.0f} MWh a year; {n_warn} "
          f"warning{'s' if n_warn != 1 else ''} (see the Cautions sheet)")
-    _say(args.quiet, f"wrote {written['workbook']} and {len(written['files'])} files in "
-         f"{written['folder']}/")
+    _say(args.quiet, f"wrote the report folder {written['folder']}/: the workbook "
+         f"{written['workbook'].name} and {len(written['files']) - 1} tables and figures")
     return 0
+
+
+#: Most diameters one comparison runs (each gets its own water-hammer run); the case file's
+#: diameter_study.candidates has the same bound.
+MAX_DIAMETERS = 20
 
 
 def _diameters(text: str, case) -> list[float]:
@@ -157,6 +181,7 @@ def _diameters(text: str, case) -> list[float]:
     from . import units
     from .report.units import report_unit
 
+    top = SECTIONS_BY_NAME["pipe"].fields_by_name["diameter"].maximum
     default = report_unit("m", case.unit_system)
     out = []
     for item in text.split(","):
@@ -175,24 +200,29 @@ def _diameters(text: str, case) -> list[float]:
         if not d > 0:
             raise CaseError("--diameters", "", f"'{item}' is not above zero; expected "
                             "positive diameters")
+        if d > top:
+            raise CaseError("--diameters", "", f"'{item}' is above the largest diameter the "
+                            f"tool accepts ({top:g} m); expected a penstock diameter")
         out.append(d)
     if not out:
         raise CaseError("--diameters", "", "no diameter given; expected e.g. 1.2,1.4,1.6")
+    if len(out) > MAX_DIAMETERS:
+        raise CaseError("--diameters", "", f"{len(out)} diameters given; expected at most "
+                        f"{MAX_DIAMETERS}, each with its own water-hammer run")
     return out
 
 
 def cmd_compare(args) -> int:
-    import atexit
-    import os
-    import tempfile
-
     import pandas as pd
 
     from .model import run_case
-    from .report import ReportError
-    from .report.compare import case_comparison, diameter_comparison, write_comparison_workbook
+    from .model.core import Say
+    from .report.compare import case_comparison, diameter_comparison
+    from .report.publish import check_output_file
 
     cases = [load_case(c) for c in args.case]
+    if args.out:
+        check_output_file(Path(args.out), [c.folder for c in cases])   # fail fast
     if args.diameters and len(cases) > 1:
         raise CaseError("--diameters", "", "compares the diameters of one case; give one case "
                         "folder, or leave --diameters out to compare several cases")
@@ -209,6 +239,13 @@ def cmd_compare(args) -> int:
             if results.diameter_candidates is None:
                 raise CaseError(case.slug, "", "the diameter study does not apply to this case "
                                 "(see its cautions)")
+            shown = results.diameter_candidates["diameter [m]"].to_numpy()
+            for d in case.diameter_study["candidates"]:
+                if not any(abs(d - x) <= 1e-9 * d for x in shown):
+                    raise CaseError("--diameters", "", f"{Say(case.unit_system).m(d, 3)} "
+                                    "loses more than half the "
+                                    "gross head at the design flow, so it cannot be compared; "
+                                    "expected larger diameters")
             system = args.units or case.unit_system
             table = diameter_comparison(results, system)
             title = f"Diameter comparison - {case.name}"
@@ -228,25 +265,45 @@ def cmd_compare(args) -> int:
                                "display.float_format", "{:,.3f}".format):
             print(table.to_string(index=False))
     if args.out:
-        out = args.out
-        if not out.lower().endswith(".xlsx"):
-            raise CaseError("--out", "", f"'{out}' is not an .xlsx file name")
-        folder = os.path.dirname(os.path.abspath(out))
-        os.makedirs(folder, exist_ok=True)
-        lock = os.path.join(folder, f".~lock.{os.path.basename(out)}#")
-        if os.path.exists(lock):
-            raise ReportError(f"{out}: the workbook is open in a spreadsheet application; "
-                              "close it and run again")
-        fd, tmp = tempfile.mkstemp(prefix=".compare.", suffix=".tmp.xlsx", dir=folder)
+        _write_comparison(args, cases, table, title, name, version, notes)
+    return 0
+
+
+def _write_comparison(args, cases, table, title, name, version, notes) -> None:
+    """The comparison workbook, replaced in one step, never over a file penstock did not write."""
+    import tempfile
+
+    from .report import ReportError
+    from .report.compare import write_comparison_workbook
+    from .report.publish import check_output_file, replace_file
+
+    out = Path(args.out)
+    check_output_file(out, [c.folder for c in cases])
+    try:
+        out.parent.mkdir(parents=True, exist_ok=True)
+        fd, tmp = tempfile.mkstemp(prefix=f".{out.stem}.penstock-", suffix=".xlsx",
+                                   dir=out.parent)
         os.close(fd)
-        atexit.register(lambda: os.path.exists(tmp) and os.unlink(tmp))
+    except OSError as exc:
+        raise ReportError(f"{out.parent}: cannot write there ({exc.strerror}); expected a "
+                          "writable folder") from None
+    try:
         write_comparison_workbook(table, tmp, title, name, version, notes)
         umask = os.umask(0)
         os.umask(umask)
         os.chmod(tmp, 0o666 & ~umask)
-        os.replace(tmp, out)
-        _say(args.quiet, f"wrote {out}")
-    return 0
+        check_output_file(out, [c.folder for c in cases])   # nothing appeared meanwhile
+        replace_file(Path(tmp), out)
+    except OSError as exc:
+        Path(tmp).unlink(missing_ok=True)
+        if isinstance(exc, ReportError):
+            raise
+        raise ReportError(f"{out}: cannot write the workbook ({exc.strerror}); nothing was "
+                          "changed") from None
+    except BaseException:
+        Path(tmp).unlink(missing_ok=True)
+        raise
+    _say(args.quiet, f"wrote {out}")
 
 
 def cmd_new(args) -> int:
@@ -256,6 +313,28 @@ def cmd_new(args) -> int:
     _say(args.quiet, f"wrote a template case in {folder}/; edit site.toml and the CSV files, "
          f"then run 'penstock check {args.case}'")
     return 0
+
+
+#: Bounds of the command-line counts (the case file's own keys are bounded in the schema).
+MAX_WORKERS = 256
+_MAX_SAMPLES = int(SECTIONS_BY_NAME["uncertainty"].fields_by_name["samples"].maximum)
+
+
+def _bounded_int(option: str, lo: int, hi: int):
+    """An argparse type: a whole number from lo to hi, else a one-line usage error."""
+
+    def parse(text: str) -> int:
+        try:
+            value = int(text.strip())
+        except ValueError:
+            raise argparse.ArgumentTypeError(f"'{text}' is not a whole number") from None
+        if not lo <= value <= hi:
+            raise argparse.ArgumentTypeError(f"{value} is out of range; expected {lo} to "
+                                             f"{hi:,}")
+        return value
+
+    parse.__name__ = option
+    return parse
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -282,13 +361,20 @@ def build_parser() -> argparse.ArgumentParser:
     sp.add_argument("case", metavar="CASE", nargs="+", help="case folder(s), or folders holding "
                     "case folders; several run as a batch with a portfolio workbook")
     sp.add_argument("-q", "--quiet", action="store_true", help="print nothing on success")
-    sp.add_argument("--out", metavar="PATH", help="workbook path (default reports/<case>.xlsx); "
-                    "tables and figures go to a folder of the same name. For a batch: the "
-                    "folder for all reports (default reports/)")
-    sp.add_argument("--samples", type=int, metavar="N", help="Monte Carlo samples (overrides the "
-                    "case's uncertainty.samples; 0 for none)")
-    sp.add_argument("--workers", type=int, metavar="N", help="processes for a batch "
-                    "(default: the machine's cores)")
+    sp.add_argument("--out", metavar="DIR", help="the report folder (default reports/<case>): "
+                    "it holds the workbook <DIR name>.xlsx, the CSV tables and the PNG "
+                    "figures. For a batch: the folder the report folders go to (default "
+                    "reports/)")
+    sp.add_argument("--samples", type=_bounded_int("--samples", 0, _MAX_SAMPLES), metavar="N",
+                    help="Monte Carlo samples (overrides the case's uncertainty.samples; 0 for "
+                    f"none; at most {_MAX_SAMPLES:,})")
+    sp.add_argument("--workers", type=_bounded_int("--workers", 1, MAX_WORKERS), metavar="N",
+                    help=f"processes for a batch (default: the machine's cores; at most "
+                    f"{MAX_WORKERS})")
+    sp.add_argument("--run-anyway", action="store_true", help="go on when the tool's own "
+                    "checks find the case physically impossible (e.g. the design flow would "
+                    "need an absolute pressure below vapour pressure); the results are then "
+                    "marked as not physical")
     sp.add_argument("--scheduler", choices=("process", "dask"), default="process",
                     help="run a batch in a local process pool (default) or on a Dask cluster "
                     "(optional extra)")
@@ -321,21 +407,46 @@ def build_parser() -> argparse.ArgumentParser:
     return p
 
 
+def _os_error_line(exc: OSError) -> str:
+    """One line for an operating-system error: the path first, then what went wrong."""
+    import errno
+
+    what = {errno.ENOSPC: "the disk is full", errno.EACCES: "permission denied",
+            errno.EPERM: "operation not permitted", errno.EISDIR: "is a folder, not a file",
+            errno.ENOTDIR: "a part of the path is not a folder",
+            errno.EROFS: "the file system is read-only"}.get(exc.errno, exc.strerror or str(exc))
+    where = exc.filename if exc.filename is not None else "penstock"
+    return f"{where}: {what}"
+
+
 def main(argv=None) -> int:
     args = build_parser().parse_args(argv)
-    from .report import ReportError
+    import signal
+    import threading
 
+    from .report import ReportError, ReportInterrupted
+
+    restore = None
+    if threading.current_thread() is threading.main_thread() and hasattr(signal, "SIGTERM"):
+        def on_term(signum, frame):   # a polite kill: tidy up as for Ctrl-C
+            raise KeyboardInterrupt
+
+        restore = signal.signal(signal.SIGTERM, on_term)
     try:
         return args.func(args)
-    except CaseError as exc:
+    except (CaseError, ReportError) as exc:
         print(f"penstock: error: {exc}", file=sys.stderr)
         return 2
-    except ReportError as exc:
-        print(f"penstock: error: {exc}", file=sys.stderr)
-        return 2
-    except KeyboardInterrupt:
-        print("penstock: interrupted; no report was changed", file=sys.stderr)
+    except KeyboardInterrupt as exc:
+        if isinstance(exc, ReportInterrupted) and exc.published:
+            print(f"penstock: interrupted after the new report was published; {exc.folder}/ "
+                  "is complete", file=sys.stderr)
+        else:
+            print("penstock: interrupted; no report was changed", file=sys.stderr)
         return 130
+    except OSError as exc:   # the file system said no: the user can act on it
+        print(f"penstock: error: {_os_error_line(exc)}", file=sys.stderr)
+        return 2
     except Exception as exc:  # an internal error, not the user's input
         if os.environ.get("PENSTOCK_DEBUG"):
             raise
@@ -343,6 +454,9 @@ def main(argv=None) -> int:
         print(f"penstock: internal error: {msg} (set PENSTOCK_DEBUG=1 for details; please "
               "report it)", file=sys.stderr)
         return 1
+    finally:
+        if restore is not None:
+            signal.signal(signal.SIGTERM, restore)
 
 
 if __name__ == "__main__":

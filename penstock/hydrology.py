@@ -564,6 +564,12 @@ def fill_gaps(series, method, freq=None):
 # ---------------------------------------------------------------------------
 # flow-duration table -> representative year
 # ---------------------------------------------------------------------------
+#: Exceedances [-] a flow-duration table should reach at its ends; beyond them the
+#: representative year holds the end flows, and a run says so (common practice: the
+#: table should reach the floods and the driest days).
+DURATION_TABLE_ENDS = (0.01, 0.99)
+
+
 def duration_table_to_series(exceedance_percent, flow, year=2001, freq="h"):
     """Representative year of flows from a flow-duration table.
 

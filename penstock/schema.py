@@ -13,6 +13,52 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 
+#: Plausibility bounds of every quantity by kind, in SI, for the fields that set none of
+#: their own: far beyond any penstock, they stop absurd values (1e308 m, 1e9 s) before
+#: they reach the physics.  Elevations have their own, tighter bounds.
+KIND_LIMITS: dict[str, tuple[float | None, float | None]] = {
+    "length": (-1e6, 1e6),            # 1,000 km
+    "area": (0.0, 1e6),
+    "flow": (0.0, 1e5),               # plant flows [m^3/s]
+    "velocity": (0.0, 1e4),
+    "angle": (-2 * math.pi, 2 * math.pi),
+    "time": (0.0, 3600.0),            # closures and knees [s]
+    "age": (0.0, 1000.0),
+    "pressure": (0.0, 1e12),
+    "stress": (0.0, 1e12),
+    "density": (0.0, 1e5),
+    "moment_of_inertia": (0.0, 1e10),
+    "rotational_speed": (0.0, 1e5),
+    "frequency": (0.0, 1e3),
+    "dimensionless": (-1e6, 1e6),
+    "fraction": (-100.0, 100.0),
+    "price_per_energy": (0.0, 1e9),
+    "price_per_mass": (0.0, 1e12),
+    "price_per_length": (0.0, 1e12),
+    "price_per_area": (0.0, 1e12),
+    "roughness_growth": (0.0, 0.01),
+    "temperature": (0.0, 100.0),
+}
+
+#: Elevation bounds [m], on any datum (a local survey datum may put the intake at 0 m and
+#: the station far below): wider than any site's levels, narrow enough to stop absurd ones.
+ELEVATION = (-20000.0, 20000.0)
+
+#: Bounds of the CSV columns by column name, in SI (negative flows etc. are checked by
+#: the loader with their own messages).
+COLUMN_BOUNDS: dict[str, tuple[float | None, float | None]] = {
+    "chainage": (-1e6, 1e6),
+    "elevation": ELEVATION,
+    "ground": ELEVATION,
+    "level": ELEVATION,
+    "flow": (None, 1e6),              # river flows [m^3/s]; the Amazon's floods are ~3e5
+    "time": (None, 3600.0),
+    "relative flow": (None, 100.0),
+    "exceedance": (None, None),       # 0 to 100 %, checked with its own message
+    "opening": (None, None),
+    "efficiency": (None, None),
+}
+
 
 @dataclass(frozen=True)
 class Field:
@@ -28,6 +74,18 @@ class Field:
     exclusive_minimum: bool = False
     choices: tuple[str, ...] = ()
     columns: tuple[tuple[str, str], ...] = ()  # for files: (column name, unit kind)
+    max_items: int = 20             # lists: most items
+    max_chars: int = 200            # text: most characters
+    max_rows: int = 10_000          # files: most data rows
+
+    def __post_init__(self):
+        # every quantity is bounded: a field without its own bound takes its kind's
+        kind = self.kind[:-5] if self.kind.endswith("_list") else self.kind
+        lo, hi = KIND_LIMITS.get(kind, (None, None))
+        if self.minimum is None and lo is not None:
+            object.__setattr__(self, "minimum", lo)
+        if self.maximum is None and hi is not None:
+            object.__setattr__(self, "maximum", hi)
 
     @property
     def required(self) -> bool:
@@ -44,6 +102,7 @@ class Section:
     array: bool = False
     required: bool = True
     extra_from_registry: bool = False   # [[loss]]: per-kind keys come from fittings.LOSS_KINDS
+    max_tables: int = 500               # [[name]] arrays: most tables
     fields_by_name: dict = field(init=False, repr=False, compare=False, default=None)
 
     def __post_init__(self):
@@ -54,8 +113,9 @@ TURBINE_TYPE_CHOICES = ("pelton", "turgo", "crossflow", "francis", "kaplan", "pr
 
 SECTIONS: tuple[Section, ...] = (
     Section("site", "Who and where.", (
-        Field("name", "text", "Site name, printed on every report page."),
-        Field("note", "text", "Free text shown on the summary sheet.", default=""),
+        Field("name", "text", "Site name, printed on every report page.", max_chars=120),
+        Field("note", "text", "Free text shown on the summary sheet.", default="",
+              max_chars=2000),
         Field("units", "choice", "Unit system of the reports.", default="si", choices=("si", "us")),
     )),
     Section("water", "The water and the air at the site.", (
@@ -66,12 +126,14 @@ SECTIONS: tuple[Section, ...] = (
               maximum=5000.0),
     )),
     Section("levels", "Water levels.", (
-        Field("headwater", "length", "Normal headwater (intake pond or forebay) level."),
+        Field("headwater", "length", "Normal headwater (intake pond or forebay) level.",
+              minimum=ELEVATION[0], maximum=ELEVATION[1]),
         Field("headwater_min", "length", "Minimum operating headwater level; the pressure and "
-              "submergence checks hold at it. Defaults to the normal level.", optional=True),
+              "submergence checks hold at it. Defaults to the normal level.", optional=True,
+              minimum=ELEVATION[0], maximum=ELEVATION[1]),
         Field("tailwater", "length", "Constant tailwater level; give either this or a "
               "tailwater_rating (whose level at the design flow is then the reference).",
-              optional=True),
+              optional=True, minimum=ELEVATION[0], maximum=ELEVATION[1]),
         Field("tailwater_rating", "file", "CSV of tailwater level against river flow.",
               optional=True, columns=(("flow", "flow"), ("level", "length"))),
         Field("headwater_rating", "file", "CSV of headwater level against river flow (e.g. "
@@ -79,14 +141,15 @@ SECTIONS: tuple[Section, ...] = (
               "computation.", optional=True, columns=(("flow", "flow"), ("level", "length"))),
         Field("headwater_series", "file", "CSV of headwater level by date, on the flow "
               "record's dates; replaces the constant headwater in the energy computation.",
-              optional=True, columns=(("date", "date"), ("level", "length"))),
+              optional=True, columns=(("date", "date"), ("level", "length")),
+              max_rows=1_000_000),
     )),
     Section("route", "The penstock route.", (
         Field("profile", "file", "CSV of the pipe centreline: chainage (horizontal distance from "
               "the intake) and elevation; an optional ground column is drawn on the route chart.",
-              columns=(("chainage", "length"), ("elevation", "length"))),
+              columns=(("chainage", "length"), ("elevation", "length")), max_rows=100_000),
         Field("pressure_margin", "length", "Smallest acceptable pressure head above the pipe "
-              "crown at any steady flow.", default="2 m", minimum=0.0),
+              "crown at any steady flow.", default="2 m", minimum=0.0, maximum=100.0),
         Field("intake_approach", "choice", "Flow approach to the intake, for Gordon's "
               "submergence criterion.", default="symmetric", choices=("symmetric", "asymmetric")),
         Field("service_life", "age", "Age at which the aged grade lines are drawn, for pipes "
@@ -99,7 +162,7 @@ SECTIONS: tuple[Section, ...] = (
         Field("diameter", "length", "Inside diameter.", minimum=0.0, exclusive_minimum=True,
               maximum=20.0),
         Field("material", "text", "Pipe material, a name from the roughness table "
-              "(see the README)."),
+              "(see the README).", max_chars=60),
         Field("roughness", "length", "Absolute roughness; defaults to the material's value.",
               optional=True, minimum=0.0, maximum=0.05),
         Field("condition", "choice", "Which roughness of the material to use.", default="new",
@@ -116,13 +179,15 @@ SECTIONS: tuple[Section, ...] = (
         Field("kind", "text", "Kind of loss: entrance, trashrack, bend, valve, contraction, "
               "expansion, bifurcation, exit or custom."),
         Field("at", "length", "Chainage of the loss."),
-        Field("label", "text", "Name shown in the loss breakdown.", optional=True),
+        Field("label", "text", "Name shown in the loss breakdown.", optional=True,
+              max_chars=120),
         Field("k", "dimensionless", "A loss coefficient given by the user; it overrides the "
               "published method.", optional=True, minimum=0.0, maximum=100.0),
     ), array=True, required=False, extra_from_registry=True),
     Section("flows", "Plant flows and the river's flow record.", (
         Field("record", "file", "CSV of the river flow record: date (daily or hourly) and flow.",
-              optional=True, columns=(("date", "date"), ("flow", "flow"))),
+              optional=True, columns=(("date", "date"), ("flow", "flow")),
+              max_rows=1_000_000),
         Field("duration_table", "file", "CSV flow-duration table (exceedance, flow), used "
               "when no dated record exists; it is turned into a representative hourly year.",
               optional=True, columns=(("exceedance", "fraction"), ("flow", "flow"))),
@@ -132,12 +197,13 @@ SECTIONS: tuple[Section, ...] = (
               optional=True, minimum=0.0, exclusive_minimum=True),
         Field("minimum", "flow", "Minimum turbine flow; defaults to the turbine type's minimum "
               "fraction of one unit's design flow.", optional=True, minimum=0.0),
-        Field("extra", "flow_list", "Further flows at which to draw grade lines.", default=[]),
+        Field("extra", "flow_list", "Further flows at which to draw grade lines.", default=[],
+              max_items=12),
         Field("residual", "flow", "Residual (environmental) flow left in the river.",
               default="0 m^3/s", minimum=0.0),
         Field("residual_monthly", "flow_list", "Twelve monthly residual flows, January to "
               "December; the larger of this and the other residual rules governs.",
-              default=[]),
+              default=[], max_items=12),
         Field("residual_percent", "fraction", "Residual flow as a fraction of the mean river "
               "flow; the larger of this and the other residual rules governs.",
               default="0 %", minimum=0.0, maximum=1.0),
@@ -173,20 +239,22 @@ SECTIONS: tuple[Section, ...] = (
         Field("grid_frequency", "frequency", "Grid frequency, for the synchronous speeds.",
               default="50 Hz", choices=(), minimum=40.0, maximum=70.0),
         Field("runner_elevation", "length", "Runner centreline elevation, for the setting "
-              "(cavitation or flooding) check.", optional=True),
+              "(cavitation or flooding) check.", optional=True, minimum=ELEVATION[0],
+              maximum=ELEVATION[1]),
     )),
     Section("draft_tube", "A conical draft tube (gradual expansion) at the reaction-turbine "
             "outlet; without it the tool treats the outlet losses as part of the turbine "
             "efficiency.", (
         Field("inlet_diameter", "length", "Diameter at the runner outlet (draft-tube inlet).",
-              minimum=0.0, exclusive_minimum=True),
+              minimum=0.0, exclusive_minimum=True, maximum=20.0),
         Field("area_ratio", "dimensionless", "Outlet over inlet area.", minimum=1.0,
               maximum=16.0),
         Field("cone_angle", "angle", "Total included cone angle (Gibson's data: 5.5 to 180 "
               "deg).", minimum=0.0959931088596881, maximum=3.141592653589793),
     ), required=False),
     Section("economics", "Money.", (
-        Field("currency", "text", "Currency code printed beside every price.", default="USD"),
+        Field("currency", "text", "Currency code printed beside every price.", default="USD",
+              max_chars=12),
         Field("energy_price", "price_per_energy", "Value of energy sold.", default="0.08 /kWh",
               minimum=0.0),
         Field("discount_rate", "fraction", "Real discount rate.", default="8 %",
@@ -210,7 +278,7 @@ SECTIONS: tuple[Section, ...] = (
         Field("corrosion_allowance", "length", "Added to the hoop thickness.",
               default="1.5 mm", minimum=0.0, maximum=0.02),
         Field("plates", "length_list", "Available plate thicknesses; default 6 to 50 mm.",
-              default=[]),
+              default=[], maximum=0.5, max_items=200),
         Field("handling_rule", "choice", "Minimum thickness for handling: usbr (D+0.508 m)/400 "
               "or pge D/288.", default="usbr", choices=("usbr", "pge")),
         Field("buckling_safety", "dimensionless", "Safety factor on the critical buckling "
@@ -239,14 +307,14 @@ SECTIONS: tuple[Section, ...] = (
     Section("diameter_study", "Sweep and optimum of a uniform penstock diameter.", (
         Field("minimum", "length", "Smallest diameter of the sweep; default: the diameter "
               "at 6 m/s at the design flow.", optional=True, minimum=0.0,
-              exclusive_minimum=True),
+              exclusive_minimum=True, maximum=20.0),
         Field("maximum", "length", "Largest diameter of the sweep; default: the diameter at "
-              "1.5 m/s.", optional=True, minimum=0.0, exclusive_minimum=True),
+              "1.5 m/s.", optional=True, minimum=0.0, exclusive_minimum=True, maximum=20.0),
         Field("sizes", "length_list", "Available diameters to snap the optimum to; default "
-              "50 mm steps.", default=[]),
+              "50 mm steps.", default=[], maximum=20.0, max_items=500),
         Field("candidates", "length_list", "Diameters to tabulate in full (with a water-"
               "hammer run each); default: the optimum's neighbours and the case's diameter.",
-              default=[]),
+              default=[], maximum=20.0, max_items=20),
         Field("points", "integer", "Diameters in the sweep.", default=200, minimum=10,
               maximum=2000),
     ), required=False),
@@ -303,14 +371,14 @@ SECTIONS: tuple[Section, ...] = (
               "for every segment.", optional=True, minimum=100.0, maximum=1500.0),
         Field("allowable_rise", "fraction", "Largest acceptable transient rise as a fraction "
               "of the static head at the turbine.", default="30 %", minimum=0.0,
-              exclusive_minimum=True),
+              exclusive_minimum=True, maximum=10.0),
         Field("rejection_flows", "flow_list", "Further initial flows to reject, besides the "
-              "design flow.", default=[]),
+              "design flow.", default=[], max_items=10),
         Field("record_at", "length_list", "Chainages where the head history is recorded.",
               default=[]),
         Field("study_closure_times", "time_list", "Closure times of the closure-time study; "
               "default: nine times, geometrically spaced from half a pipe period 2L/a to the "
-              "larger of 8 periods and twice the closure time.", default=[]),
+              "larger of 8 periods and twice the closure time.", default=[], max_items=30),
         Field("inertia", "moment_of_inertia", "Rotating inertia (turbine + generator) of one "
               "unit, for the mechanical starting time.", optional=True, minimum=0.0,
               exclusive_minimum=True),

@@ -359,11 +359,15 @@ class TransientResult:
 
 
 # --------------------------------------------------------------------------- solver
+#: Default bound on the time steps of one simulation (about 0.2 GB of histories).
+MAX_STEPS = 5_000_000
+
+
 def simulate(lengths, diameters, wave_speeds, friction_factors, reservoir_head,
              tailwater_head, flow, closure_time=None, law="linear", *, final_opening=0.0,
              knee_time=None, knee_opening=None, opening_table=None, duration=None,
              min_reaches=10, time_step=None, wave_speed_tolerance=0.05, record_chainages=(),
-             wave_speed_range=WATER_WAVE_SPEED_RANGE):
+             wave_speed_range=WATER_WAVE_SPEED_RANGE, max_steps=MAX_STEPS):
     """Simulate a valve (or turbine-equivalent orifice) closure by the MOC.
 
     Parameters
@@ -405,6 +409,8 @@ def simulate(lengths, diameters, wave_speeds, friction_factors, reservoir_head,
         Chainages whose head history is wanted (nearest node is used). [m]
     wave_speed_range : tuple of float
         Physical range for the wave speeds. [m/s]
+    max_steps : int
+        Most time steps allowed, a bound on the work and memory of one run. [-]
 
     Returns
     -------
@@ -486,7 +492,12 @@ def simulate(lengths, diameters, wave_speeds, friction_factors, reservoir_head,
     duration = float(duration)
     if not (math.isfinite(duration) and duration > 0.0):
         raise ValueError(f"duration must be > 0 s; got {duration!r}")
-    steps = int(math.ceil(duration / dt - 1e-9))
+    steps = duration / dt
+    if steps > max_steps:
+        raise ValueError(f"the run would need {steps:,.0f} time steps of {dt:.3g} s to cover "
+                         f"{duration:,.4g} s; expected at most {max_steps:,} (a shorter closure "
+                         "time or simulated duration)")
+    steps = int(math.ceil(steps - 1e-9))
     time = np.arange(steps + 1) * dt
     tau, _ = _closure(time, law, closure_time, final_opening, knee_time, knee_opening,
                       opening_table)

@@ -81,7 +81,21 @@ class UnitError(ValueError):
     """A quantity is missing its unit, has the wrong dimension or cannot be parsed."""
 
 
-_NUMBER_ONLY = re.compile(r"^\s*[-+]?(\d+(\.\d*)?|\.\d+)([eE][-+]?\d+)?\s*$")
+#: Longest quantity or unit text accepted: a bound on the work the parser may do.
+MAX_TEXT = 64
+
+# The bounded grammar of a quantity: a decimal number, then a unit made of names with
+# small whole exponents joined by "*", "/", "·" or a space, e.g. "4.5 m^3/s", "25000
+# kg*m^2", "0.08 /kWh".  No arithmetic on numbers (so "10**10**10 m" is refused before
+# anything is evaluated), no nesting, at most MAX_TEXT characters.
+_NUMBER = r"[-+]?(?:(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d{1,3})?|(?i:nan|inf(?:inity)?))"
+_NAME = r"[A-Za-z_°µμΩ%]++"
+_EXPONENT = r"(?:(?:\^|\*\*)[-+]?\d{1,2}|[²³])"
+_TERM = rf"{_NAME}{_EXPONENT}?+"
+_OPERATOR = r"(?:\s*+[*/·]\s*+|\s++)"
+_UNIT_TEXT = re.compile(rf"(?:1\s*+)?(?:/\s*+)?{_TERM}(?:{_OPERATOR}{_TERM})*+")
+_QUANTITY_TEXT = re.compile(rf"\s*+(?P<number>{_NUMBER})\s*+(?P<unit>.*?)\s*")
+_NUMBER_ONLY = re.compile(rf"\s*{_NUMBER}\s*")
 
 
 def _dimensionality(kind: str):
@@ -90,8 +104,22 @@ def _dimensionality(kind: str):
     return ureg.Quantity(1.0, si).dimensionality if si else ureg.Quantity(1.0).dimensionality
 
 
+def _unit_text(text: str, kind: str, whole: str) -> str:
+    """Check a unit text against the bounded grammar; return it as pint reads it."""
+    if not _UNIT_TEXT.fullmatch(text):
+        raise UnitError(f"cannot read '{whole}': expected a number and a unit such as "
+                        f"{_example(kind)} (unit names with whole exponents, joined by * or "
+                        "/; no arithmetic)")
+    return "1" + text if text.startswith("/") else text
+
+
 def parse_quantity(value, kind: str) -> float:
     """Parse a quantity written with its unit and return it in SI units.
+
+    The text must follow a small bounded grammar: a decimal number, then a unit made of
+    unit names with whole exponents of at most two digits, joined by ``*``, ``/``,
+    ``·`` or a space, in at most :data:`MAX_TEXT` characters.  Nothing is evaluated
+    before the text has passed that check, so no input can make the parser hang.
 
     Parameters
     ----------
@@ -109,7 +137,8 @@ def parse_quantity(value, kind: str) -> float:
     Raises
     ------
     UnitError
-        If the unit is missing, unknown or of the wrong dimension.
+        If the text is too long or outside the grammar, or the unit is missing,
+        unknown or of the wrong dimension.
     """
     ureg = registry()
     si = SI_UNITS[kind]
@@ -124,15 +153,27 @@ def parse_quantity(value, kind: str) -> float:
     text = value.strip()
     if not text:
         raise UnitError(f"is empty; expected {_a(kind)}, e.g. {_example(kind)}")
-    if _NUMBER_ONLY.match(text) and si != "":
+    if len(text) > MAX_TEXT:
+        raise UnitError(f"'{text[:20]}...' is {len(text)} characters long; expected at most "
+                        f"{MAX_TEXT}, e.g. {_example(kind)}")
+    if _NUMBER_ONLY.fullmatch(text) and si != "":
         raise UnitError(f"'{text}' has no unit; expected {_a(kind)}, e.g. {_example(kind)}")
+    m = _QUANTITY_TEXT.fullmatch(text)
+    if m is None:
+        raise UnitError(f"cannot read '{text}': expected a number first, then its unit, "
+                        f"e.g. {_example(kind)}")
+    number = float(m.group("number"))
+    unit = m.group("unit")
     try:
-        q = ureg.Quantity(text)
+        if unit:
+            q = ureg.Quantity(number, _unit_text(unit, kind, text))
+        else:
+            q = ureg.Quantity(number)
+    except UnitError:
+        raise
     except Exception as exc:  # pint raises several unrelated exception types
         raise UnitError(f"cannot read '{text}' as a quantity ({type(exc).__name__}); "
                         f"expected e.g. {_example(kind)}") from None
-    if not isinstance(q, ureg.Quantity):
-        q = ureg.Quantity(float(q))
     if q.dimensionality != _dimensionality(kind):
         if kind == "temperature" and text.rstrip().endswith((" F", " C")):
             raise UnitError(f"'{text}' is read as farads or coulombs; expected a temperature "
@@ -188,8 +229,11 @@ def parse_unit(text: str, kind: str) -> str:
     :func:`to_si`.
     """
     ureg = registry()
+    if len(text) > MAX_TEXT or not _UNIT_TEXT.fullmatch(text):
+        raise UnitError(f"cannot read the unit '{text[:MAX_TEXT]}'; expected a unit such as "
+                        f"{_example(kind)}")
     try:
-        q = ureg.Quantity(1.0, text)
+        q = ureg.Quantity(1.0, "1" + text if text.startswith("/") else text)
     except Exception:
         raise UnitError(f"unknown unit '{text}'; expected e.g. {_example(kind)}") from None
     if q.dimensionality != _dimensionality(kind):

@@ -3,6 +3,7 @@
 Checked against the project's own single-case runs (no published source is involved).
 """
 
+import contextlib
 import os
 import shutil
 import signal
@@ -16,6 +17,7 @@ import pandas as pd
 import pytest
 
 from penstock import batch
+from penstock.report.publish import replaceable
 
 ROOT = Path(__file__).resolve().parents[1]
 CASES = ROOT / "cases"
@@ -55,8 +57,8 @@ def test_bad_case_is_reported_and_the_rest_run(tmp_path):
     code = main(["run", str(bad), str(CASES / DEMOS[1]), "--workers", "2", "--out", str(out),
                  "--quiet"])
     assert code == 1                         # one case failed
-    assert (out / f"{DEMOS[1]}.xlsx").is_file()
-    assert not (out / "broken.xlsx").exists()
+    assert (out / DEMOS[1] / f"{DEMOS[1]}.xlsx").is_file()
+    assert not (out / "broken").exists()
     wb = openpyxl.load_workbook(out / "portfolio.xlsx")
     text = " ".join(str(c.value) for row in wb.active.iter_rows() for c in row if c.value)
     assert "failed" in text and "flows.design" in text
@@ -96,17 +98,105 @@ def test_interrupted_batch_leaves_finished_workbooks_and_no_partial_files(tmp_pa
                             stdout=subprocess.PIPE, stderr=subprocess.PIPE, env=env,
                             start_new_session=True)
     deadline = time.time() + 120
-    while time.time() < deadline and not list(out.glob("site*.xlsx")):
+    while time.time() < deadline and not list(out.glob("site*/site*.xlsx")):
         time.sleep(0.05)
-    assert list(out.glob("site*.xlsx")), "no case finished in time"
+    assert list(out.glob("site*/site*.xlsx")), "no case finished in time"
     os.killpg(proc.pid, signal.SIGINT)     # as Ctrl-C does: the whole process group
-    proc.communicate(timeout=120)
-    assert proc.returncode != 0
-    finished = sorted(out.glob("site*.xlsx"))
+    _, err = proc.communicate(timeout=120)
+    assert proc.returncode == 130
+    assert "interrupted" in err.decode() and "Traceback" not in err.decode()
+    finished = sorted(p for p in out.iterdir() if not p.name.startswith("."))
     assert finished
-    for book in finished:
-        openpyxl.load_workbook(book)          # intact
-        assert (out / book.stem).is_dir()
-        pd.read_csv(out / book.stem / "summary.csv")
+    for folder in finished:
+        assert replaceable(folder) is None, folder   # whole: every file as its manifest says
+        openpyxl.load_workbook(folder / f"{folder.name}.xlsx")
+        pd.read_csv(folder / "summary.csv")
     leftovers = [p.name for p in out.iterdir() if p.name.startswith(".")]
     assert leftovers == []
+
+
+def _children(pid: int) -> set[int]:
+    """Process ids whose parent is ``pid`` (from /proc)."""
+    out = set()
+    for entry in Path("/proc").iterdir():
+        if entry.name.isdigit():
+            try:
+                fields = (entry / "stat").read_text().rsplit(")", 1)[1].split()
+            except OSError:
+                continue
+            if int(fields[1]) == pid:
+                out.add(int(entry.name))
+    return out
+
+
+def _alive(pid: int) -> bool:
+    try:
+        state = (Path("/proc") / str(pid) / "stat").read_text().rsplit(")", 1)[1].split()[0]
+    except OSError:
+        return False
+    return state != "Z"
+
+
+@pytest.mark.skipif(not sys.platform.startswith("linux"), reason="reads /proc")
+def test_workers_die_with_a_killed_batch(tmp_path):
+    src = CASES / "millrace-flats-low-head"
+    folders = []
+    for i in range(8):
+        dst = tmp_path / "cases" / f"site{i:02d}"
+        shutil.copytree(src, dst)
+        folders.append(str(dst))
+    env = {**os.environ, "CI": "1"}
+    proc = subprocess.Popen([sys.executable, "-m", "penstock.cli", "run", *folders,
+                             "--workers", "2", "--out", str(tmp_path / "out"), "--quiet"],
+                            stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, env=env,
+                            start_new_session=True)
+    try:
+        deadline = time.time() + 60
+        workers: set[int] = set()
+        while time.time() < deadline and len(workers) < 2:
+            workers = {p for p in _children(proc.pid) if _alive(p)}
+            time.sleep(0.05)
+        assert len(workers) >= 2, "the pool did not start"
+        time.sleep(1.0)                       # the workers are busy with cases now
+        os.kill(proc.pid, signal.SIGKILL)     # the batch alone, not its process group
+        proc.wait(timeout=10)
+        deadline = time.time() + 5
+        while time.time() < deadline and any(_alive(p) for p in workers):
+            time.sleep(0.05)
+        assert not any(_alive(p) for p in workers), "workers outlived the killed batch"
+    finally:
+        with contextlib.suppress(ProcessLookupError):
+            os.killpg(proc.pid, signal.SIGKILL)
+    # the next run tidies what the killed one left and finishes every case
+    from penstock.cli import main
+
+    assert main(["run", *folders, "--workers", "2", "--out", str(tmp_path / "out"),
+                 "--quiet"]) == 0
+    names = sorted(p.name for p in (tmp_path / "out").iterdir())
+    assert names == sorted([Path(f).name for f in folders] + ["portfolio.xlsx"])
+
+
+def test_a_batch_never_writes_over_its_cases(tmp_path, capsys):
+    from penstock.cli import main
+
+    b = tmp_path / "b"
+    for name in DEMOS[:2]:
+        shutil.copytree(CASES / name, b / name)
+    before = {p: p.read_bytes() for p in b.rglob("*") if p.is_file()}
+    code = main(["run", *[str(b / n) for n in DEMOS[:2]], "--out", str(b), "--quiet"])
+    err = capsys.readouterr().err
+    assert code == 2 and len(err.strip().splitlines()) == 1
+    assert str(b) in err and "case folder" in err
+    assert {p: p.read_bytes() for p in b.rglob("*") if p.is_file()} == before
+
+
+def test_two_cases_of_one_name_are_refused(tmp_path, capsys):
+    from penstock.cli import main
+
+    a, c = tmp_path / "a" / "site", tmp_path / "c" / "site"
+    shutil.copytree(CASES / DEMOS[0], a)
+    shutil.copytree(CASES / DEMOS[1], c)
+    code = main(["run", str(a), str(c), "--out", str(tmp_path / "out"), "--quiet"])
+    err = capsys.readouterr().err
+    assert code == 2 and "would both write" in err
+    assert not (tmp_path / "out").exists()

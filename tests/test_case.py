@@ -467,7 +467,7 @@ CATALOGUE = [
         csv_row="400,inf,1404.0"),
     Bad("profile-one-point", MILLRACE, _put("profile.csv", "chainage [m],elevation [m]\n0,107\n"),
         "profile.csv", ("at least two points",)),
-    Bad("csv-not-utf8", ALDER, _cp1252_flow_header, "flows.csv", ("cannot be read", "utf-8")),
+    Bad("csv-not-utf8", ALDER, _cp1252_flow_header, "flows.csv", ("cannot be read", "UTF-8")),
     # ---- flow record CSV
     Bad("negative-flow", ALDER, _ed("flows.csv", FLOW_ROW, "2008-01-03,-1.0343"), "flows.csv",
         ("column 'flow'", "-1.0343", "negative"), csv_row="2008-01-03,-1.0343"),
@@ -543,7 +543,7 @@ def test_malformed_case_check_exits_2(bad_case):
 def test_malformed_case_run_exits_2_and_writes_nothing(bad_case, tmp_path):
     bad, folder = bad_case
     out_dir = tmp_path / "out"
-    code, out, err = run_cli(["run", folder, "--out", out_dir / "out.xlsx"])
+    code, out, err = run_cli(["run", folder, "--out", out_dir / "out"])
     _assert_one_line_error(code, out, err, bad)
     assert not out_dir.exists() or not any(out_dir.iterdir())
 
@@ -652,10 +652,10 @@ def test_new_template_checks_and_runs(tmp_path):
     text = (folder / "site.toml").read_text(encoding="utf-8")
     assert "planning-level" in text and "licensed engineer" in text
     assert run_cli(["check", folder])[0] == 0
-    book = tmp_path / "reports" / "my-site.xlsx"
-    code, out, err = run_cli(["run", folder, "--out", book])
+    report = tmp_path / "reports" / "my-site"
+    code, out, err = run_cli(["run", folder, "--out", report])
     assert (code, err) == (0, ""), err
-    assert book.is_file() and (tmp_path / "reports" / "my-site" / "summary.csv").is_file()
+    assert (report / "my-site.xlsx").is_file() and (report / "summary.csv").is_file()
 
 
 def test_new_refuses_a_non_empty_folder(tmp_path):

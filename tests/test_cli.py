@@ -17,6 +17,8 @@ import pandas as pd
 import pytest
 from conftest import CASES, DEMO_CASES, copy_demo, edit_file, folder_listing, run_cli
 
+from penstock.report.publish import MANIFEST, replaceable
+
 FOOT = 0.3048   # m; international foot (1959), NIST SP 811 App. B.8
 
 SHEETS = ["Summary", "Inputs", "Route and grade lines", "Pressure checks", "Loss breakdown",
@@ -38,11 +40,11 @@ class Run:
     code: int | None
     out: str
     err: str
-    book: Path
+    folder: Path          # the report folder
 
     @property
-    def folder(self) -> Path:
-        return self.book.with_suffix("")
+    def book(self) -> Path:
+        return self.folder / f"{self.folder.name}.xlsx"
 
 
 @pytest.fixture(scope="module")
@@ -50,9 +52,9 @@ def demo_runs(tmp_path_factory) -> dict[str, Run]:
     base = tmp_path_factory.mktemp("demo-runs")
     runs = {}
     for name in DEMO_CASES:
-        book = base / name / f"{name}.xlsx"
-        code, out, err = run_cli(["run", CASES / name, "--out", book, *RUN_FLAGS[name]])
-        runs[name] = Run(code, out, err, book)
+        folder = base / name / "report"
+        code, out, err = run_cli(["run", CASES / name, "--out", folder, *RUN_FLAGS[name]])
+        runs[name] = Run(code, out, err, folder)
     return runs
 
 
@@ -78,10 +80,14 @@ def test_demo_case_runs(demo_runs, name):
     assert r.code == 0, r.err
     assert r.err == ""
     assert r.book.is_file() and r.folder.is_dir()
-    # the workbook and its folder are alone in the output directory: no temporary files
-    assert sorted(p.name for p in r.book.parent.iterdir()) == sorted([r.book.name,
-                                                                      r.folder.name])
-    _no_hidden_names(r.book.parent)
+    # the report folder is alone in the output directory: no temporary files, no lock
+    assert [p.name for p in r.folder.parent.iterdir()] == [r.folder.name]
+    _no_hidden_names(r.folder.parent)
+    # the report folder holds the workbook, the tables, the figures and the manifest only
+    names = {p.name for p in r.folder.iterdir()}
+    assert {r.book.name, MANIFEST} <= names
+    assert all(n in (r.book.name, MANIFEST) or n.endswith((".csv", ".png")) for n in names)
+    assert replaceable(r.folder) is None       # whole: every file as the manifest lists it
 
 
 @pytest.mark.parametrize("name", DEMO_CASES)
@@ -165,7 +171,7 @@ def test_quiet_prints_nothing(demo_runs):
 def test_run_prints_a_summary(demo_runs):
     r = demo_runs["millrace-flats-low-head"]
     assert "net head" in r.out and " m at the design flow" in r.out
-    assert f"wrote {r.book}" in r.out
+    assert f"wrote the report folder {r.folder}/" in r.out and r.book.name in r.out
 
 
 # --------------------------------------------------------------------- help
@@ -186,61 +192,61 @@ def test_top_level_help():
 def test_earlier_report_survives_a_failed_validation(tmp_path):
     case = copy_demo("millrace-flats-low-head", tmp_path / "case")
     out_dir = tmp_path / "reports"
-    book = out_dir / "out.xlsx"
-    code, _, err = run_cli(["run", case, "--out", book, "--quiet"])
+    folder = out_dir / "out"
+    code, _, err = run_cli(["run", case, "--out", folder, "--quiet"])
     assert code == 0, err
-    old_book = book.read_bytes()
-    old_folder = folder_listing(book.with_suffix(""))
-    old_names = sorted(p.name for p in out_dir.iterdir())
-    assert old_folder and old_names == ["out", "out.xlsx"]
+    old_folder = folder_listing(folder)
+    assert (folder / "out.xlsx").is_file()
+    assert [p.name for p in out_dir.iterdir()] == ["out"]
 
     edit_file(case / "site.toml", 'headwater = "112.0 m"', 'headwater = "112 kg"')
-    code, out, err = run_cli(["run", case, "--out", book])
+    code, out, err = run_cli(["run", case, "--out", folder])
     assert code == 2
     assert out == "" and len(err.splitlines()) == 1 and "levels.headwater" in err
-    assert book.read_bytes() == old_book
-    assert folder_listing(book.with_suffix("")) == old_folder
-    assert sorted(p.name for p in out_dir.iterdir()) == old_names
+    assert folder_listing(folder) == old_folder
+    assert [p.name for p in out_dir.iterdir()] == ["out"]
     _no_hidden_names(out_dir)
 
 
-def test_locked_workbook_is_not_touched(tmp_path):
+# the lock file LibreOffice keeps beside an open workbook, and the owner files of the most
+# common desktop spreadsheet ("~$" before the name, or in place of its first letters)
+@pytest.mark.parametrize("lock_name", [".~lock.site.xlsx#", "~$site.xlsx",
+                                       "~$long-site-name.xlsx"])
+def test_locked_workbook_is_not_touched(tmp_path, lock_name):
     case = copy_demo("millrace-flats-low-head", tmp_path / "case")
-    out_dir = tmp_path / "reports"
-    book = out_dir / "site.xlsx"
-    assert run_cli(["run", case, "--out", book, "--quiet"])[0] == 0
-    old_book, old_folder = book.read_bytes(), folder_listing(book.with_suffix(""))
-    lock = out_dir / ".~lock.site.xlsx#"
+    name = "site" if "long" not in lock_name else "a-long-site-name"
+    folder = tmp_path / "reports" / name
+    assert run_cli(["run", case, "--out", folder, "--quiet"])[0] == 0
+    lock = folder / lock_name
     lock.write_text("someone,host,2024-01-01;", encoding="utf-8")
+    old_folder = folder_listing(folder)
 
-    code, out, err = run_cli(["run", case, "--out", book])
+    code, out, err = run_cli(["run", case, "--out", folder])
     assert code == 2
     assert out == "" and len(err.splitlines()) == 1 and "Traceback" not in err
-    assert "site.xlsx" in err and "lock" in err and "close it" in err
-    assert book.read_bytes() == old_book
-    assert folder_listing(book.with_suffix("")) == old_folder
-    # nothing but the workbook, its folder and the lock file
-    assert sorted(p.name for p in out_dir.iterdir()) == sorted([lock.name, "site",
-                                                                "site.xlsx"])
+    assert f"{name}.xlsx" in err and "lock" in err and "close it" in err
+    assert folder_listing(folder) == old_folder
+    assert [p.name for p in folder.parent.iterdir()] == [name]
 
 
-def test_out_must_be_an_xlsx_name(tmp_path):
+def test_out_names_a_folder_not_a_workbook(tmp_path):
     case = CASES / "millrace-flats-low-head"
-    code, out, err = run_cli(["run", case, "--out", tmp_path / "report.pdf"])
+    code, out, err = run_cli(["run", case, "--out", tmp_path / "report.xlsx"])
     assert code == 2 and out == ""
-    assert "--out" in err and "report.pdf" in err and len(err.splitlines()) == 1
+    assert "--out" in err and "report.xlsx" in err and len(err.splitlines()) == 1
+    assert "report folder" in err
     assert list(tmp_path.iterdir()) == []
 
 
 def test_internal_error_exits_1_without_traceback(tmp_path, monkeypatch):
     import penstock.model
 
-    def broken(case, progress=None, samples=None):
+    def broken(case, progress=None, samples=None, proceed=False):
         raise RuntimeError("simulated failure")
 
     monkeypatch.setattr(penstock.model, "run_case", broken)
-    book = tmp_path / "out.xlsx"
-    code, out, err = run_cli(["run", CASES / "millrace-flats-low-head", "--out", book])
+    code, out, err = run_cli(["run", CASES / "millrace-flats-low-head", "--out",
+                              tmp_path / "out"])
     assert code == 1
     assert "internal error" in err and "simulated failure" in err and "PENSTOCK_DEBUG" in err
     assert "Traceback" not in err and len(err.splitlines()) == 1
@@ -270,8 +276,9 @@ def test_formula_like_text_stays_text(tmp_path, name, note):
               f"name = {json.dumps(name)}")
     edit_file(case / "site.toml", 'note = "Invented site with a synthetic flow record, '
               'bundled to demonstrate the tool."', f"note = {json.dumps(note)}")
-    book = tmp_path / "out" / "book.xlsx"
-    code, _, err = run_cli(["run", case, "--out", book, "--quiet"])
+    folder = tmp_path / "out" / "book"
+    book = folder / "book.xlsx"
+    code, _, err = run_cli(["run", case, "--out", folder, "--quiet"])
     assert code == 0, err
 
     ws = openpyxl.load_workbook(book)["Summary"]
@@ -287,8 +294,8 @@ def test_formula_like_text_stays_text(tmp_path, name, note):
                 if isinstance(c.value, str) and name in c.value:
                     assert c.data_type == "s", f"{sheet.title}!{c.coordinate}"
 
-    summary = pd.read_csv(book.with_suffix("") / "summary.csv", dtype=str,
-                          keep_default_na=False)
+    summary = pd.read_csv(folder / "summary.csv", dtype=str, keep_default_na=False)
     values = dict(zip(summary["quantity"], summary["value"], strict=True))
-    assert values["site"] == name
-    assert values["note"] == note
+    # in the CSV a leading quote keeps the text from being read as a formula (OWASP)
+    assert values["site"] == "'" + name
+    assert values["note"] == "'" + note

@@ -13,8 +13,8 @@ import pytest
 from fluids.fittings import diffuser_conical
 from iapws import IAPWS97
 
-from penstock.constants import GRAVITY, P_ATM_SEA_LEVEL
 from penstock import drafttube as dt
+from penstock.constants import GRAVITY, P_ATM_SEA_LEVEL
 
 WATER_20C = IAPWS97(T=293.15, x=0)  # saturated liquid at 20 degC (reference library)
 VAPOUR_PRESSURE = WATER_20C.P * 1e6  # [Pa], 2339 Pa

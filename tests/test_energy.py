@@ -12,9 +12,9 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from iapws import IAPWS95
 
-from penstock.constants import GRAVITY, HOURS_PER_YEAR, SECONDS_PER_HOUR
 from penstock import energy as en
 from penstock import turbines as tu
+from penstock.constants import GRAVITY, HOURS_PER_YEAR, SECONDS_PER_HOUR
 
 # IAPWS-95 liquid water density at 10 degC, 0.101325 MPa (reference library iapws).
 DENSITY = IAPWS95(T=283.15, P=0.101325).rho

@@ -16,6 +16,7 @@ import pytest
 
 import penstock
 from penstock import fittings, water
+from penstock.case import CaseError
 from penstock.constants import GRAVITY
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
@@ -121,16 +122,37 @@ def test_high_point_is_flagged_at_maximum_flow():
 
 
 def test_siphon_and_vapour_pressure_are_flagged(tmp_path):
-    # a hump 9.8 m above the headwater: absolute pressure there falls to vapour pressure
-    profile = ("chainage [m],elevation [m]\n0,1405\n600,1404\n1250,1421.8\n1600,1396\n"
+    # a hump 4 m above the headwater: at the design flow and the normal headwater the
+    # absolute pressure there stays above the vapour pressure, but at the maximum plant
+    # flow with the headwater at its minimum it reaches it: a caution, not bad input
+    profile = ("chainage [m],elevation [m]\n0,1405\n600,1404\n1250,1416.0\n1600,1396\n"
                "3100,1083\n")
     folder = copy_case(tmp_path, profile=profile)
     r = penstock.run_case(penstock.load_case(folder))
     text = " ".join(r.warnings["message"])
     assert "siphon" in text
     assert "vapour pressure" in text
+    assert "--run-anyway" not in text
     checks = set(r.stretches["check"])
     assert {"sub-atmospheric", "vapour pressure"} <= checks
+
+
+def test_a_design_flow_below_vapour_pressure_is_refused_unless_asked(tmp_path):
+    # a hump 9.8 m above the headwater: even at the design flow and the normal headwater
+    # the absolute pressure at the crown falls below the vapour pressure, so the flow as
+    # computed cannot exist (the column parts)
+    profile = ("chainage [m],elevation [m]\n0,1405\n600,1404\n1250,1421.8\n1600,1396\n"
+               "3100,1083\n")
+    folder = copy_case(tmp_path, profile=profile)
+    case = penstock.load_case(folder)
+    with pytest.raises(CaseError, match=r"profile\.csv: chainage 1250\.0 m: .*vapour pressure"
+                                        r".*--run-anyway"):
+        penstock.run_case(case)
+    r = penstock.run_case(case, proceed=True)
+    text = " ".join(r.warnings["message"])
+    assert "--run-anyway" in text and "not physical" in text
+    assert "design flow" in set(r.stretches[r.stretches["check"] == "vapour pressure"]
+                                ["flow case"])
 
 
 def test_velocity_outside_usual_range_is_a_caution(tmp_path):

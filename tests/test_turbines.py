@@ -10,8 +10,8 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from penstock.constants import GRAVITY
 from penstock import turbines as tu
+from penstock.constants import GRAVITY
 
 DENSITY = 1000.0
 

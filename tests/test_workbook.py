@@ -34,7 +34,7 @@ import matplotlib.image
 import numpy as np
 import openpyxl
 import pytest
-from conftest import CASES, DEMO_CASES, REPO, copy_demo, edit_file, run_cli
+from conftest import CASES, DEMO_CASES, REPO, copy_demo, edit_file, folder_listing, run_cli
 from openpyxl.utils import get_column_letter, range_boundaries
 from openpyxl.utils.cell import coordinate_from_string
 
@@ -78,8 +78,7 @@ def demos(tmp_path_factory) -> dict[str, Demo]:
     out = {}
     for name in DEMO_CASES:
         results = penstock.run_case(penstock.load_case(CASES / name))
-        book = base / name / f"{name}.xlsx"
-        write_reports(results, book)
+        book = write_reports(results, base / name / name)["workbook"]
         out[name] = Demo(name, results, book, openpyxl.load_workbook(book))
     return out
 
@@ -508,10 +507,10 @@ def injected_book(tmp_path_factory) -> Path:
     case = copy_demo("alder-gorge-high-head", base / "case")
     for old, new in INJECTED.values():
         edit_file(case / "site.toml", json.dumps(old), json.dumps(new))
-    book = base / "out" / "book.xlsx"
-    code, _, err = run_cli(["run", case, "--out", book, "--quiet"])
+    folder = base / "out" / "book"
+    code, _, err = run_cli(["run", case, "--out", folder, "--quiet"])
     assert code == 0, err
-    return book
+    return folder / "book.xlsx"
 
 
 @pytest.mark.parametrize("key", list(INJECTED))
@@ -549,42 +548,41 @@ def test_formula_like_text_survives_a_spreadsheet_engine(injected_book, tmp_path
 # ===================================================================== 6. locked target
 @pytest.fixture
 def earlier_report(demos, tmp_path):
-    """An earlier workbook in its own folder, and the case that would overwrite it."""
-    out_dir = tmp_path / "reports"
-    out_dir.mkdir()
-    book = out_dir / "site.xlsx"
-    shutil.copyfile(demos["millrace-flats-low-head"].book, book)
-    return CASES / "millrace-flats-low-head", book
+    """An earlier report folder, and the case that would replace it."""
+    folder = tmp_path / "reports" / "site"
+    write_reports(demos["millrace-flats-low-head"].results, folder)
+    return CASES / "millrace-flats-low-head", folder
 
 
 def test_open_workbook_is_left_alone(earlier_report):
-    case, book = earlier_report
-    old = book.read_bytes()
-    lock = book.parent / f".~lock.{book.name}#"
+    case, folder = earlier_report
+    book = folder / "site.xlsx"
+    lock = folder / f".~lock.{book.name}#"
     lock.write_text("someone,host,2024-01-01;", encoding="utf-8")
-    code, out, err = run_cli(["run", case, "--out", book])
+    old = folder_listing(folder)
+    code, out, err = run_cli(["run", case, "--out", folder])
     assert code == 2
     assert out == "" and len(err.splitlines()) == 1 and "Traceback" not in err
     assert "lock" in err and book.name in err
-    assert book.read_bytes() == old
-    assert sorted(p.name for p in book.parent.iterdir()) == sorted([book.name, lock.name])
+    assert folder_listing(folder) == old
+    assert [p.name for p in folder.parent.iterdir()] == ["site"]
 
 
 def test_read_only_folder_is_bad_input(earlier_report):
     if os.geteuid() == 0:
         pytest.skip("running as root: directory permissions do not stop root from writing")
-    case, book = earlier_report
-    old = book.read_bytes()
-    os.chmod(book.parent, 0o555)
+    case, folder = earlier_report
+    old = folder_listing(folder)
+    os.chmod(folder.parent, 0o555)
     try:
-        code, out, err = run_cli(["run", case, "--out", book])
+        code, out, err = run_cli(["run", case, "--out", folder])
     finally:
-        os.chmod(book.parent, 0o755)
+        os.chmod(folder.parent, 0o755)
     assert code == 2, err
     assert out == "" and len(err.splitlines()) == 1 and "Traceback" not in err
-    assert str(book.parent) in err and "writ" in err
-    assert book.read_bytes() == old
-    assert sorted(p.name for p in book.parent.iterdir()) == [book.name]
+    assert str(folder.parent) in err and "writ" in err
+    assert folder_listing(folder) == old
+    assert [p.name for p in folder.parent.iterdir()] == ["site"]
 
 
 # ===================================================================== 7. print setup

@@ -22,7 +22,7 @@ from .core import STANDING_CAUTION, TABLE_ORDER, Methods, Results, Warning_
 __all__ = ["STANDING_CAUTION", "TABLE_ORDER", "Results", "Warning_", "run_case"]
 
 
-def run_case(case, progress=None, samples=None) -> Results:
+def run_case(case, progress=None, samples=None, proceed=False) -> Results:
     """Run a validated case through the models.
 
     Parameters
@@ -33,6 +33,11 @@ def run_case(case, progress=None, samples=None) -> Results:
         Called as ``progress(step_name)`` before each stage, for a progress bar.
     samples : int, optional
         Monte Carlo samples; overrides the case's ``uncertainty.samples`` (0: none).
+    proceed : bool, default False
+        Go on when the tool's own checks find the case physically impossible (for
+        instance an absolute pressure below the vapour pressure at the design flow);
+        the impossibility is then a caution and the results are marked not physical.
+        By default such a case raises :class:`penstock.case.CaseError`.
 
     Returns
     -------
@@ -51,7 +56,7 @@ def run_case(case, progress=None, samples=None) -> Results:
     methods.add("Atmospheric pressure", "ISO standard atmosphere, troposphere",
                 "ISO 2533:1975 Standard Atmosphere")
 
-    st = steady.run(case, props, warns, methods, tick)
+    st = steady.run(case, props, warns, methods, tick, proceed=proceed)
     prod = production.run(case, props, st, warns, methods, tick)
     ham = hammer.run(case, props, st, prod, warns, methods, tick)
     size = sizing.run(case, props, st, prod, ham, warns, methods, tick)

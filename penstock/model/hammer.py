@@ -204,7 +204,8 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
             res = transients.simulate(lengths, diam, speeds, f, case.headwater, downstream, q,
                                       record_chainages=rec, **law)
         except ValueError as exc:   # e.g. no Courant grid within the wave-speed tolerance
-            raise CaseError(CASE_FILE, "surge", f"the water-hammer simulation cannot run: "
+            raise CaseError(CASE_FILE, "surge.closure_time" if "time steps" in str(exc)
+                            else "surge", f"the water-hammer simulation cannot run: "
                             f"{exc}") from None
         results.append((q, res))
     q_d, main = results[0]
@@ -285,14 +286,18 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
     study_law = {k: v for k, v in law.items() if k != "closure_time"}
     if study_law.get("law") in ("table", "instant"):
         study_law = {"law": "linear"}
-    if study_law.get("law") == "two_stage":
-        frac = s["knee_time"] / tc
-        study = _two_stage_study(lengths, diam, speeds, case, props, route, downstream, q0,
-                                 times, frac, s["knee_opening"])
-    else:
-        f = _folded_friction(case, route, props, q0, lengths)
-        study = transients.closure_time_study(lengths, diam, speeds, f, case.headwater,
-                                              downstream, q0, times, **study_law)
+    try:
+        if study_law.get("law") == "two_stage":
+            frac = s["knee_time"] / tc
+            study = _two_stage_study(lengths, diam, speeds, case, props, route, downstream, q0,
+                                     times, frac, s["knee_opening"])
+        else:
+            f = _folded_friction(case, route, props, q0, lengths)
+            study = transients.closure_time_study(lengths, diam, speeds, f, case.headwater,
+                                                  downstream, q0, times, **study_law)
+    except ValueError as exc:   # e.g. a closure time needing too many time steps
+        raise CaseError(CASE_FILE, "surge.study_closure_times", f"the closure-time study "
+                        f"cannot run: {exc}") from None
     study_table = pd.DataFrame({
         "closure time [s]": study.closure_time,
         "closure time / pipe period [-]": study.closure_time / period,

@@ -23,7 +23,7 @@ from ..case import CaseError
 from ..constants import GRAVITY
 from ..schema import CASE_FILE
 from ..turbines import TURBINE_TYPES
-from .core import Warning_
+from .core import Say, Warning_
 
 J_PER_MWH = 3.6e9
 
@@ -147,6 +147,16 @@ def run(case, props, steady, warns, methods, tick) -> dict:
         warns.append(Warning_("hydrology", "the flow record is a representative year built from "
                               "a flow-duration table: monthly energies are not meaningful",
                               severity="note"))
+        first, last = record.attrs.get("duration_coverage", (0.0, 1.0))
+        if first > hydrology.DURATION_TABLE_ENDS[0] or last < hydrology.DURATION_TABLE_ENDS[1]:
+            q = record.to_numpy()
+            warns.append(Warning_(
+                "hydrology", f"the flow-duration table covers exceedance {100 * first:g} % to "
+                f"{100 * last:g} % only; beyond its ends the end flows are held "
+                f"({Say(case.unit_system).q(float(q.max()))} up to 0 %, "
+                f"{Say(case.unit_system).q(float(q.min()))} down to 100 %), "
+                f"{100 * (first + 1 - last):.3g} % of the year, so the energy there is an "
+                "extrapolation; expected a table from near 0 % to near 100 %"))
     if summ.mean_annual_basis != "complete calendar years":
         warns.append(Warning_("hydrology", f"mean annual energy is based on "
                               f"{summ.mean_annual_basis}", severity="note"))

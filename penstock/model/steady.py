@@ -22,8 +22,10 @@ def _study_flows(case) -> tuple[np.ndarray, list[str]]:
     named.setdefault(round(q_min, 12), "minimum turbine flow")
     named.setdefault(round(case.design_flow, 12), "design flow")
     named.setdefault(round(case.maximum_flow, 12), "maximum plant flow")
-    for q in case.extra_flows:
-        named.setdefault(round(q, 12), "listed flow")
+    several = len(case.extra_flows) > 1
+    for i, q in enumerate(case.extra_flows, start=1):
+        # each flow case has its own name: tables and charts are keyed by it
+        named.setdefault(round(q, 12), f"listed flow {i}" if several else "listed flow")
     flows = np.array(sorted(named))
     return flows, [named[q] for q in flows]
 
@@ -36,8 +38,11 @@ def minimum_plant_flow(case) -> float:
     return fraction * case.design_flow / case.turbine["units"]
 
 
-def run(case, props, warns, methods, tick) -> dict:
+def run(case, props, warns, methods, tick, proceed=False) -> dict:
     """Grade lines, pressure checks and the loss breakdown at the study flows.
+
+    A design flow that needs an absolute pressure below the vapour pressure is refused
+    (:class:`~penstock.case.CaseError`) unless ``proceed`` is true.
 
     Returns a dict of tables (``grade_lines``, ``pressure_checks``, ``stretches``,
     ``loss_breakdown``, ``profile``) and objects for later stages (``route``,
@@ -66,6 +71,7 @@ def run(case, props, warns, methods, tick) -> dict:
                     f"{years:g} years", "Colebrook, C.F. & White, C.M. (1937). The reduction of "
                     "carrying capacity of pipes with age. J. ICE 7(1), 99–118; rates after "
                     "Lamont, P.A. (1981), J. AWWA 73(5), 274–280")
+    _design_flow_exists(case, route, gl, flow_names, atm_head, vap_head, warns, proceed)
     grade = pd.concat([_grade_table(route, g, n) for g, n in sets], ignore_index=True)
     parts = [_pressure_checks(case, route, g, n, atm_head, vap_head, warns) for g, n in sets]
     checks = pd.concat([p[0] for p in parts], ignore_index=True)
@@ -181,6 +187,41 @@ def _pressure_checks(case, route, gl, flow_names, atm_head, vap_head, warns):
     stretch_cols = ["flow case", "flow [m^3/s]", "check", "from chainage [m]",
                     "to chainage [m]", "lowest pressure head [m]", "at chainage [m]"]
     return pd.DataFrame(rows), pd.DataFrame(stretch_rows, columns=stretch_cols)
+
+
+def _design_flow_exists(case, route, gl, flow_names, atm_head, vap_head, warns, proceed):
+    """Refuse a design flow whose grade line needs a pressure below the vapour pressure.
+
+    At the design flow and the normal headwater, the absolute pressure head at the pipe
+    crown is the pressure head plus the atmospheric head; where it would fall below the
+    vapour pressure head the water column parts, so the flow as computed (and every
+    result built on it: net head, power, energy) cannot exist.  This is bad input,
+    unlike a merely sub-atmospheric stretch, which stays a caution.
+    """
+    from ..case import CaseError
+
+    i = int(np.argmin(np.abs(gl.flow - case.design_flow)))
+    pipe = ~route.is_reservoir
+    x = route.chainage[pipe]
+    crown = np.sqrt(4.0 * route.node_area[pipe] / np.pi) / 2.0
+    p = gl.pressure_head[i, pipe] - crown
+    limit = vap_head - atm_head
+    if not (p < limit).any():
+        return
+    say = Say(case.unit_system)
+    x0, x1, low, at = next(iter(gradeline.flagged_stretches(x, p, limit)))
+    text = (f"at the design flow and the normal headwater, the absolute pressure at the pipe "
+            f"crown falls below the vapour pressure from {say.ch(x0)} to {say.ch(x1)} "
+            f"(pressure head {say.m(low)} at {say.ch(at)}; vapour pressure is at "
+            f"{say.m(limit)}): the water column parts there and the flow as computed cannot "
+            "exist")
+    if not proceed:
+        raise CaseError(case.profile_file, f"chainage {say.ch(at)}", text + "; expected a "
+                        "route below the hydraulic grade line (lower the pipe, raise the "
+                        "headwater or enlarge the pipe), or run with --run-anyway to go on")
+    warns.append(Warning_("grade line", text + "; the run went on at the user's request "
+                          "(--run-anyway), so every result that depends on the design flow is "
+                          "not physical", chainage=at, flow=float(gl.flow[i])))
 
 
 def _siphon_check(case, route, warns):

@@ -79,4 +79,5 @@ def write_comparison_workbook(table: pd.DataFrame, path, title: str, case_name: 
     sh.page_setup(ws, case_name, version, _dt.date.today().isoformat())
     wb.properties.title = title
     wb.properties.creator = f"penstock {version}"
+    wb.properties.lastModifiedBy = "penstock"   # an edit saved by anyone else changes it
     wb.save(path)

@@ -82,9 +82,10 @@ def write_workbook(results, path, system: str | None = None) -> None:
     props.title = f"Penstock study - {results.case.name}"
     props.subject = "Planning-level penstock hydraulics and energy"
     props.creator = f"penstock {results.version}"
+    props.lastModifiedBy = "penstock"   # an edit saved by anyone else changes it
     props.description = STANDING_CAUTION
     props.keywords = "penstock, hydropower, grade line, head loss"
-    props.created = _dt.datetime.now(_dt.timezone.utc).replace(tzinfo=None)
+    props.created = _dt.datetime.now(_dt.UTC).replace(tzinfo=None)
     wb.save(path)
 
 

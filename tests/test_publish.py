@@ -1,0 +1,421 @@
+"""Publishing reports (penstock.report.publish): outputs never touch inputs, all or nothing.
+
+The checks here are the project's own invariants, not published values:
+
+* no output path is, holds or lies inside a case folder, and nothing penstock did not
+  write is ever replaced (a manifest lists what it wrote, with SHA-256 digests);
+* a fault or an interrupt at any step of writing leaves either the whole old report or
+  the whole new one, the message says which, and the next run tidies any leftovers;
+* two runs on one report cannot write at once; a lock never outlives a killed run.
+"""
+
+from __future__ import annotations
+
+import errno
+import os
+import pickle
+import shutil
+import signal
+import subprocess
+import sys
+import textwrap
+import time
+from pathlib import Path
+
+import pytest
+from conftest import CASES, copy_demo, folder_listing, run_cli
+
+import penstock.report as report
+from penstock import load_case, run_case
+from penstock.report import publish
+from penstock.report.publish import (
+    MANIFEST,
+    ReportError,
+    ReportInterrupted,
+    ReportLock,
+    check_report_folder,
+    clean_leftovers,
+    read_manifest,
+    replaceable,
+)
+
+LOW_HEAD = "millrace-flats-low-head"
+
+
+def _one_line_error(code, out, err, *needles):
+    assert code == 2, err
+    assert out == "" and len(err.strip().splitlines()) == 1 and "Traceback" not in err, err
+    for n in needles:
+        assert str(n) in err, (n, err)
+
+
+def _hidden(parent: Path) -> list[str]:
+    return sorted(p.name for p in parent.iterdir() if p.name.startswith("."))
+
+
+# --------------------------------------------------------------------------- fixtures
+@pytest.fixture(scope="module")
+def results():
+    """One run of the low-head demo, shared: the tests here are about writing."""
+    return run_case(load_case(CASES / LOW_HEAD))
+
+
+def _fast_figures(results, folder, system):
+    """A stand-in for the PNG writer (matplotlib is slow and not under test here)."""
+    (Path(folder) / "figure.png").write_bytes(b"\x89PNG stand-in " + os.urandom(8))
+    return ["figure.png"]
+
+
+@pytest.fixture
+def fast_figures(monkeypatch):
+    import penstock.report.figures as figures
+
+    monkeypatch.setattr(figures, "write_figures", _fast_figures)
+
+
+# --------------------------------------------------------------------------- outputs vs cases
+@pytest.mark.parametrize("how", ["is the case", "inside the case", "workbook name"])
+def test_report_path_never_touches_the_case(tmp_path, how):
+    case = copy_demo(LOW_HEAD, tmp_path)
+    before = folder_listing(case)
+    out = {"is the case": case, "inside the case": case / "reports" / "x",
+           "workbook name": tmp_path / f"{LOW_HEAD}.xlsx"}[how]
+    code, o, err = run_cli(["run", case, "--out", out])
+    _one_line_error(code, o, err, "--out" if how == "workbook name" else case)
+    assert folder_listing(case) == before
+    assert sorted(p.name for p in tmp_path.iterdir()) == [LOW_HEAD]
+
+
+def test_a_case_kept_under_reports_is_not_its_own_report(tmp_path):
+    case = copy_demo(LOW_HEAD, tmp_path / "reports")
+    before = folder_listing(case)
+    code, o, err = run_cli(["run", case], cwd=tmp_path)    # default --out: reports/<case>
+    _one_line_error(code, o, err, "reports", "case folder")
+    assert folder_listing(case) == before
+
+
+def test_report_folder_holding_a_case_is_refused(tmp_path):
+    case = copy_demo(LOW_HEAD, tmp_path / "outer" / "nested")
+    with pytest.raises(ReportError, match="holds the case folder"):
+        check_report_folder(tmp_path / "outer", [case])
+
+
+@pytest.mark.parametrize("thing", ["file", "foreign folder", "added file", "edited workbook",
+                                   "symlink"])
+def test_only_what_penstock_wrote_is_replaced(tmp_path, thing, results, fast_figures):
+    folder = tmp_path / "reports" / "site"
+    if thing == "file":
+        folder.parent.mkdir()
+        folder.write_text("my notes", encoding="utf-8")
+    elif thing == "foreign folder":
+        folder.mkdir(parents=True)
+        (folder / "notes.txt").write_text("mine", encoding="utf-8")
+    elif thing == "symlink":
+        folder.parent.mkdir()
+        (tmp_path / "elsewhere").mkdir()
+        folder.symlink_to(tmp_path / "elsewhere")
+    else:
+        report.write_reports(results, folder)
+        if thing == "added file":
+            (folder / "my-notes.docx").write_bytes(b"mine")
+        else:
+            with open(folder / "site.xlsx", "ab") as fh:
+                fh.write(b"\0")                      # as a save by someone else would
+    before = folder_listing(folder.parent)
+    with pytest.raises(ReportError, match=r"not written by penstock|did not write|changed since|"
+                                          r"symbolic link|is a file") as info:
+        report.write_reports(results, folder)
+    assert str(folder) in str(info.value) and "\n" not in str(info.value)
+    assert folder_listing(folder.parent) == before
+    assert _hidden(folder.parent) == []
+
+
+def test_an_empty_folder_may_take_the_report(tmp_path, results, fast_figures):
+    folder = tmp_path / "site"
+    folder.mkdir()
+    report.write_reports(results, folder)
+    assert replaceable(folder) is None and (folder / "site.xlsx").is_file()
+
+
+def test_the_manifest_lists_every_file_with_its_digest(tmp_path, results, fast_figures):
+    folder = tmp_path / "site"
+    written = report.write_reports(results, folder)
+    doc = read_manifest(folder)
+    assert doc["status"] == "complete" and doc["workbook"] == "site.xlsx"
+    assert sorted(doc["files"]) == sorted(written["files"])
+    assert sorted(doc["files"]) == sorted(p.name for p in folder.iterdir() if p.name != MANIFEST)
+    import hashlib
+
+    for name, digest in doc["files"].items():
+        assert hashlib.sha256((folder / name).read_bytes()).hexdigest() == digest
+    assert doc["case_folder"] == os.path.abspath(results.case.folder)
+
+
+# --------------------------------------------------------------------------- the lock
+def test_a_second_run_on_the_same_report_is_refused(tmp_path):
+    case = copy_demo(LOW_HEAD, tmp_path / "cases")
+    out = tmp_path / "reports" / "site"
+    out.parent.mkdir()
+    with ReportLock(out.parent, "site") as lock:
+        code, o, err = run_cli(["run", case, "--out", out])
+        _one_line_error(code, o, err, "another penstock run", lock.path)
+    assert not out.exists()
+    assert _hidden(out.parent) == []           # the lock file goes with its holder
+
+
+@pytest.mark.skipif(sys.platform == "win32", reason="POSIX signals")
+def test_a_killed_holder_leaves_no_stale_lock(tmp_path):
+    script = textwrap.dedent(f"""
+        import time
+        from pathlib import Path
+        from penstock.report.publish import ReportLock
+        with ReportLock(Path({str(tmp_path)!r}), "site"):
+            Path({str(tmp_path / "held")!r}).touch()
+            time.sleep(60)
+    """)
+    proc = subprocess.Popen([sys.executable, "-c", script])
+    try:
+        deadline = time.time() + 30
+        while not (tmp_path / "held").exists() and time.time() < deadline:
+            time.sleep(0.02)
+        with pytest.raises(ReportError, match="another penstock run"):
+            with ReportLock(tmp_path, "site"):
+                pass
+    finally:
+        proc.kill()
+        proc.wait()
+    with ReportLock(tmp_path, "site"):       # the system released the killed holder's lock
+        pass
+
+
+# --------------------------------------------------------------------------- leftovers
+def test_leftovers_of_a_killed_run_are_tidied_and_nothing_else(tmp_path, results,
+                                                               fast_figures):
+    folder = tmp_path / "site"
+    report.write_reports(results, folder)
+    staging = publish.new_staging(tmp_path, "site", {"version": "x"})
+    (staging / "half.csv").write_text("1,2", encoding="utf-8")
+    stranger = tmp_path / ".site.penstock-staging-mine"     # hidden, but no manifest
+    stranger.mkdir()
+    other = publish.new_staging(tmp_path, "other", {"version": "x"})   # another report's
+    report.write_reports(results, folder)
+    assert not staging.exists()
+    assert stranger.is_dir() and other.is_dir()
+
+
+def test_a_report_set_aside_by_the_fallback_is_put_back(tmp_path, results, fast_figures):
+    folder = tmp_path / "site"
+    report.write_reports(results, folder)
+    old = folder_listing(folder)
+    aside = tmp_path / ".site.penstock-aside-0000"
+    os.rename(folder, aside)                 # a kill between the fallback's two renames
+    with ReportLock(tmp_path, "site"):
+        assert clean_leftovers(tmp_path, "site") == [folder]
+    assert folder_listing(folder) == old and not aside.exists()
+
+
+# --------------------------------------------------------------------------- faults, in-process
+#: The steps of writing a report, in order: (name, where to patch, attribute).
+STEPS = [
+    ("lock", publish, "_try_lock"),
+    ("staging", report, "new_staging"),
+    ("workbook", "penstock.report.workbook", "write_workbook"),
+    ("tables", report, "write_tables"),
+    ("figures", "penstock.report.figures", "write_figures"),
+    ("manifest", report, "write_manifest"),
+    ("flush", report, "fsync_tree"),
+    ("exchange", publish, "exchange"),
+    ("rename", publish, "rename_new"),
+    ("flush folder", publish, "fsync_dir"),
+]
+
+
+def _target(where):
+    import importlib
+
+    return importlib.import_module(where) if isinstance(where, str) else where
+
+
+def _inject(monkeypatch, where, attr, fault, after=False):
+    """Make ``where.attr`` raise ``fault`` (before doing its work, or just after)."""
+    module = _target(where)
+    original = getattr(module, attr)
+
+    def faulty(*args, **kwargs):
+        if after:
+            original(*args, **kwargs)
+        raise fault
+
+    monkeypatch.setattr(module, attr, faulty)
+
+
+@pytest.mark.parametrize("fault", ["disk full", "interrupt"])
+@pytest.mark.parametrize("step", [s[0] for s in STEPS] + ["remove old"])
+@pytest.mark.parametrize("existing", [True, False], ids=["over an old report", "first report"])
+def test_a_fault_at_any_step_leaves_the_old_report_or_the_new(tmp_path, monkeypatch, results,
+                                                               fast_figures, step, fault,
+                                                               existing):
+    folder = tmp_path / "site"
+    if existing:
+        report.write_reports(results, folder)
+    old = folder_listing(folder) if existing else None
+    err = (OSError(errno.ENOSPC, "No space left on device") if fault == "disk full"
+           else KeyboardInterrupt())
+    if step == "remove old":
+        real = shutil.rmtree
+
+        def rmtree(path, *a, **k):
+            if ".penstock-" in str(path) and folder.exists() and read_manifest(folder):
+                raise err
+            return real(path, *a, **k)
+
+        monkeypatch.setattr(shutil, "rmtree", rmtree)
+    else:
+        where, attr = next((w, a) for n, w, a in STEPS if n == step)
+        # a rename either happens or fails (one system call); the folder is flushed after it
+        _inject(monkeypatch, where, attr, err, after=step == "flush folder")
+    try:
+        report.write_reports(results, folder)
+        outcome = "done"
+    except ReportInterrupted as exc:
+        outcome = "new" if exc.published else "old"
+    except ReportError as exc:
+        outcome = "new" if "was written" in str(exc) else "old"
+        assert str(folder) in str(exc) and "\n" not in str(exc)
+        if fault == "disk full" and outcome == "old":
+            assert "disk is full" in str(exc) and "no report was changed" in str(exc)
+    except OSError:
+        outcome = "raw"
+    assert outcome != "raw", "an OS error escaped without the report path"
+    monkeypatch.undo()
+    # whatever happened, the report folder is whole: the old one or the new one
+    if outcome == "old":
+        if existing:
+            assert folder_listing(folder) == old
+        else:
+            assert not folder.exists()
+    else:
+        assert replaceable(folder) is None and read_manifest(folder)["status"] == "complete"
+        if existing:
+            assert folder_listing(folder) != old
+    # the next run tidies up whatever a fault left
+    report.write_reports(results, folder)
+    assert _hidden(tmp_path) == []
+    assert replaceable(folder) is None
+
+
+def test_without_an_atomic_exchange_the_fallback_still_publishes(tmp_path, monkeypatch,
+                                                                 results, fast_figures):
+    folder = tmp_path / "site"
+    report.write_reports(results, folder)
+    monkeypatch.setattr(publish, "exchange", lambda a, b: False)
+    first = read_manifest(folder)["files"]["figure.png"]
+    report.write_reports(results, folder)
+    assert read_manifest(folder)["files"]["figure.png"] != first
+    assert _hidden(tmp_path) == []
+
+
+def test_this_system_swaps_folders_in_one_step(tmp_path):
+    a, b = tmp_path / "a", tmp_path / "b"
+    a.mkdir()
+    b.mkdir()
+    (a / "new").touch()
+    (b / "old").touch()
+    if not publish.exchange(a, b):
+        pytest.skip("no atomic exchange on this file system; the fallback is tested above")
+    assert os.listdir(b) == ["new"] and os.listdir(a) == ["old"]
+
+
+# --------------------------------------------------------------------------- the CLI's words
+@pytest.mark.parametrize("published, words", [(False, "no report was changed"),
+                                              (True, "is complete")])
+def test_the_interrupt_message_tells_the_truth(tmp_path, monkeypatch, published, words):
+    import penstock.report
+
+    def interrupted(results, folder, system=None):
+        raise ReportInterrupted(folder, published)
+
+    monkeypatch.setattr(penstock.report, "write_reports", interrupted)
+    code, out, err = run_cli(["run", CASES / LOW_HEAD, "--out", tmp_path / "x"])
+    assert code == 130 and words in err and len(err.strip().splitlines()) == 1
+
+
+# --------------------------------------------------------------------------- real signals
+SLOW_STEP = """
+import os, pickle, sys, time
+from pathlib import Path
+import penstock.model, penstock.report
+from penstock import cli
+from penstock.report import publish
+import penstock.report.figures as figures
+
+with open(sys.argv[1], "rb") as fh:
+    results = pickle.load(fh)
+penstock.model.run_case = lambda *a, **k: results
+marker, step = Path(sys.argv[2]), sys.argv[3]
+figures.write_figures = lambda r, folder, system: (
+    (Path(folder) / "figure.png").write_bytes(os.urandom(16)), ["figure.png"])[1]
+if step != "none":
+    module = {"exchange": publish, "fsync_tree": penstock.report,
+              "write_tables": penstock.report}[step]
+    original = getattr(module, step)
+
+    def slow(*args, **kwargs):
+        marker.touch()
+        time.sleep(float(sys.argv[6]))
+        return original(*args, **kwargs)
+
+    setattr(module, step, slow)
+sys.exit(cli.main(["run", sys.argv[4], "--out", sys.argv[5]]))
+"""
+
+
+@pytest.mark.skipif(sys.platform == "win32", reason="POSIX signals")
+@pytest.mark.parametrize("step, sig, expect", [
+    ("write_tables", signal.SIGINT, "old"),
+    ("fsync_tree", signal.SIGTERM, "old"),
+    ("write_tables", signal.SIGKILL, "old"),
+    ("exchange", signal.SIGKILL, "old"),
+    ("exchange", signal.SIGINT, "new"),      # held back until the new report is in place
+])
+def test_a_real_signal_while_writing(tmp_path, results, step, sig, expect):
+    pickled = tmp_path / "results.pickle"
+    pickled.write_bytes(pickle.dumps(results))
+    script = tmp_path / "slow.py"
+    script.write_text(SLOW_STEP, encoding="utf-8")
+    out = tmp_path / "reports" / "site"
+    env = {**os.environ, "CI": "1"}
+    marker = tmp_path / "at-step"
+
+    def run(step_name, sleep=30.0):
+        return subprocess.Popen([sys.executable, str(script), str(pickled), str(marker),
+                                 step_name, str(CASES / LOW_HEAD), str(out), str(sleep)],
+                                stdout=subprocess.PIPE, stderr=subprocess.PIPE, env=env)
+
+    first = run("none")                     # a first, whole report
+    assert first.wait(timeout=90) == 0, first.stderr.read().decode()
+    old = folder_listing(out)
+
+    # signals are held back during the exchange: that step sleeps only briefly
+    proc = run(step, sleep=2.0 if step == "exchange" else 30.0)
+    deadline = time.time() + 60
+    while not marker.exists() and time.time() < deadline and proc.poll() is None:
+        time.sleep(0.02)
+    assert marker.exists(), proc.stderr.read().decode()
+    proc.send_signal(sig)
+    _, err = proc.communicate(timeout=90)
+    err = err.decode()
+    if sig == signal.SIGKILL:
+        assert proc.returncode == -signal.SIGKILL
+    else:
+        assert proc.returncode == 130 and "Traceback" not in err, err
+        assert ("no report was changed" if expect == "old" else "is complete") in err, err
+    if expect == "old":
+        assert folder_listing(out) == old
+    else:
+        assert replaceable(out) is None and folder_listing(out) != old
+    # the next run tidies whatever the signal left, and publishes
+    again = run("none")
+    assert again.wait(timeout=90) == 0, again.stderr.read().decode()
+    assert replaceable(out) is None
+    assert _hidden(out.parent) == []
