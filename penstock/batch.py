@@ -144,11 +144,19 @@ def run_many(folders, out_dir="reports", workers=None, units=None, progress=None
     pool = cf.ProcessPoolExecutor(max_workers=workers, initializer=_die_with_parent,
                                   initargs=(os.getpid(),))
     try:
-        futures = {pool.submit(run_one, f, str(out_dir), units): i
-                   for i, f in enumerate(folders)}
-        for fut in cf.as_completed(futures):
-            results[futures[fut]] = fut.result()
-            tick(len(results))
+        with _interrupts_at_safe_points() as interrupted:
+            futures = {pool.submit(run_one, f, str(out_dir), units): i
+                       for i, f in enumerate(folders)}
+            pending = set(futures)
+            while pending:
+                done, pending = cf.wait(pending, timeout=0.2,
+                                        return_when=cf.FIRST_COMPLETED)
+                for fut in done:
+                    results[futures[fut]] = fut.result()
+                if done:
+                    tick(len(results))
+                if interrupted():
+                    raise KeyboardInterrupt
     except KeyboardInterrupt:
         # the workers ignore SIGINT; a polite SIGTERM lets each tidy its unfinished report
         for proc in list((getattr(pool, "_processes", None) or {}).values()):
@@ -158,6 +166,33 @@ def run_many(folders, out_dir="reports", workers=None, units=None, progress=None
         raise
     pool.shutdown(wait=True)
     return [results[i] for i in range(len(folders))]
+
+
+@contextlib.contextmanager
+def _interrupts_at_safe_points():
+    """SIGINT and SIGTERM recorded while the batch waits, acted on between waits.
+
+    A KeyboardInterrupt raised wherever the signal happens to land (inside a garbage
+    collector callback, say) is printed as an ignored exception with a traceback; the
+    batch checks the record between its short waits instead.
+    """
+    import signal
+    import threading
+
+    got: list[int] = []
+    if threading.current_thread() is not threading.main_thread():
+        yield lambda: False
+        return
+    saved = {}
+    for name in ("SIGINT", "SIGTERM"):
+        sig = getattr(signal, name, None)
+        if sig is not None:
+            saved[sig] = signal.signal(sig, lambda signum, frame: got.append(signum))
+    try:
+        yield lambda: bool(got)
+    finally:
+        for sig, handler in saved.items():
+            signal.signal(sig, handler)
 
 
 #: State of this process as a batch worker: started by the pool, running a case.

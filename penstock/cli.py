@@ -337,8 +337,15 @@ def _bounded_int(option: str, lo: int, hi: int):
     return parse
 
 
+class _Parser(argparse.ArgumentParser):
+    """Usage errors as one line, like every other bad input (exit status 2)."""
+
+    def error(self, message):
+        self.exit(2, f"{self.prog}: error: {message} (see {self.prog} --help)\n")
+
+
 def build_parser() -> argparse.ArgumentParser:
-    p = argparse.ArgumentParser(
+    p = _Parser(
         prog="penstock",
         description="Planning-level penstock hydraulics for hydropower sites: grade lines, "
                     "losses, net head, and a client workbook. Results are planning-level only; "

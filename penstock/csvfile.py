@@ -86,7 +86,7 @@ def read_text(path, max_bytes: int) -> str:
     except FileNotFoundError:
         raise CsvFormatError("", "does not exist") from None
     except OSError as exc:
-        raise CsvFormatError("", f"cannot be read ({exc.strerror})") from None
+        raise CsvFormatError("", f"cannot be read ({(exc.strerror or '').lower()})") from None
     if stat.S_ISDIR(st.st_mode):
         raise CsvFormatError("", "is a folder, not a file; expected a text file")
     if not stat.S_ISREG(st.st_mode):
@@ -99,7 +99,7 @@ def read_text(path, max_bytes: int) -> str:
         with open(path, "rb") as fh:
             data = fh.read(max_bytes + 1)
     except OSError as exc:
-        raise CsvFormatError("", f"cannot be read ({exc.strerror})") from None
+        raise CsvFormatError("", f"cannot be read ({(exc.strerror or '').lower()})") from None
     if len(data) > max_bytes:
         raise CsvFormatError("", f"is larger than {max_bytes / 2**20:,.0f} MiB")
     for bom, name in ((codecs.BOM_UTF32_LE, "UTF-32"), (codecs.BOM_UTF32_BE, "UTF-32"),
@@ -153,6 +153,10 @@ def parse_csv(text: str, max_rows: int) -> RawTable:
         except StopIteration:
             break
         except csv.Error as exc:
+            if reader.line_num - start > 1 or "end of data" in str(exc):
+                raise CsvFormatError(f"line {kept_numbers[start]}", "a quoted field runs over "
+                                     "the end of the line; expected each row on one line, "
+                                     "with its quotes closed") from None
             at = kept_numbers[min(reader.line_num, len(kept_numbers)) - 1]
             raise CsvFormatError(f"line {at}", f"cannot be read as CSV ({exc}); expected "
                                  "comma-separated fields, text in double quotes") from None
@@ -187,8 +191,8 @@ def parse_csv(text: str, max_rows: int) -> RawTable:
                        "inside a value that is not in double quotes?)"
             else:
                 hint = "; expected a value in every column"
-            raise CsvFormatError(f"row {line}", f"has {m} fields where the header has "
-                                 f"{n}{hint}")
+            raise CsvFormatError(f"row {line}", f"has {m} field{'s' if m != 1 else ''} where "
+                                 f"the header has {n}{hint}")
         rows.append(fields)
         lines.append(line)
     if header is None:

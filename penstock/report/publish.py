@@ -109,11 +109,12 @@ def _real(path) -> Path:
     return Path(os.path.realpath(os.path.abspath(path)))
 
 
-def check_not_in_a_case(path, what: str, case_folders=()) -> None:
-    """Refuse an output ``path`` that is, lies inside or contains a case folder.
+def check_not_in_a_case(path, what: str, case_folders=(), holds: bool = True) -> None:
+    """Refuse an output ``path`` that is, lies inside or (with ``holds``) contains a case.
 
     ``case_folders`` are the cases being run; any folder holding ``site.toml`` counts
-    as a case too.
+    as a case too.  A folder that is replaced or filled (a report, a batch's reports
+    folder) may not hold a case either; a single file only may not lie in one.
     """
     real = _real(path)
     case = enclosing_case(real)
@@ -122,7 +123,7 @@ def check_not_in_a_case(path, what: str, case_folders=()) -> None:
         raise ReportError(f"{path}: the {what} {where} the case folder {case} (it holds "
                           f"{CASE_FILE}); expected an output path outside every case folder, "
                           "e.g. --out reports/<name>")
-    for c in case_folders:
+    for c in case_folders if holds else ():
         rc = _real(c)
         if _inside(rc, real):
             raise ReportError(f"{path}: the {what} holds the case folder {c}; expected an "
@@ -249,12 +250,12 @@ def written_by_penstock(path: Path) -> bool:
 def check_output_file(path, case_folders=()) -> None:
     """Raise :class:`ReportError` unless a single-file workbook may be written at ``path``."""
     path = Path(path)
-    check_not_in_a_case(path.parent, "output folder", case_folders)
-    if path.suffix.lower() != ".xlsx":
-        raise ReportError(f"{path}: is not an .xlsx file name; expected e.g. comparison.xlsx")
+    check_not_in_a_case(path.parent, "output folder", case_folders, holds=False)
     if path.is_symlink() or (path.exists() and not path.is_file()):
         raise ReportError(f"{path}: is a folder or a special file, not a workbook; expected "
                           "the name of an .xlsx file")
+    if path.suffix.lower() != ".xlsx":
+        raise ReportError(f"{path}: is not an .xlsx file name; expected e.g. comparison.xlsx")
     if path.exists() and not written_by_penstock(path):
         raise ReportError(f"{path}: exists and was not written by penstock (or was saved "
                           "since); move it away or choose another name")
