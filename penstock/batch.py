@@ -71,7 +71,7 @@ def expand(paths) -> list[Path]:
     return unique
 
 
-def run_one(folder: str, out_dir: str, units: str | None) -> Outcome:
+def run_one(folder: str, out_dir: str, units: str | None, proceed: bool = False) -> Outcome:
     """Load, run and write one case; never raises for a case's own problems."""
     from . import load_case, run_case
     from .report import ReportError, write_reports
@@ -82,7 +82,7 @@ def run_one(folder: str, out_dir: str, units: str | None) -> Outcome:
         case = load_case(folder)
         target = Path(out_dir) / case.slug
         check_report_folder(target, [case.folder])     # before the run: fail fast
-        results = run_case(case)
+        results = run_case(case, proceed=proceed)
         write_reports(results, target, units)
     except KeyboardInterrupt:
         if not _WORKER["pool"]:
@@ -109,7 +109,7 @@ def run_one(folder: str, out_dir: str, units: str | None) -> Outcome:
 
 
 def run_many(folders, out_dir="reports", workers=None, units=None, progress=None,
-             scheduler="process", address=None) -> list[Outcome]:
+             scheduler="process", address=None, proceed=False) -> list[Outcome]:
     """Run many cases; outcomes come back in the order of ``folders``.
 
     Parameters
@@ -127,17 +127,19 @@ def run_many(folders, out_dir="reports", workers=None, units=None, progress=None
     scheduler : {"process", "dask"}
         ``dask`` needs the optional extra; ``address`` names a running scheduler,
         else a local cluster is started.
+    proceed : bool
+        Go on with cases the tool's checks call physically impossible (``--run-anyway``).
     """
     folders = [str(f) for f in folders]
     Path(out_dir).mkdir(parents=True, exist_ok=True)
     tick = progress or (lambda n: None)
     if scheduler == "dask":
-        return _run_dask(folders, str(out_dir), units, address, tick)
+        return _run_dask(folders, str(out_dir), units, address, tick, proceed)
     workers = max(1, min(workers or os.cpu_count() or 1, len(folders)))
     if workers == 1:
         out = []
         for i, f in enumerate(folders):
-            out.append(run_one(f, str(out_dir), units))
+            out.append(run_one(f, str(out_dir), units, proceed))
             tick(i + 1)
         return out
     results: dict[int, Outcome] = {}
@@ -145,7 +147,7 @@ def run_many(folders, out_dir="reports", workers=None, units=None, progress=None
                                   initargs=(os.getpid(),))
     try:
         with _interrupts_at_safe_points() as interrupted:
-            futures = {pool.submit(run_one, f, str(out_dir), units): i
+            futures = {pool.submit(run_one, f, str(out_dir), units, proceed): i
                        for i, f in enumerate(folders)}
             pending = set(futures)
             while pending:
@@ -245,7 +247,7 @@ def _die_with_parent(parent_pid: int) -> None:
     threading.Thread(target=watch, name="penstock-parent-watch", daemon=True).start()
 
 
-def _run_dask(folders, out_dir, units, address, tick):
+def _run_dask(folders, out_dir, units, address, tick, proceed=False):
     try:
         from dask.distributed import Client, LocalCluster, as_completed
     except ImportError:
@@ -259,7 +261,8 @@ def _run_dask(folders, out_dir, units, address, tick):
                                dashboard_address=None)
         client = Client(cluster)
     try:
-        futs = [client.submit(run_one, f, out_dir, units, pure=False) for f in folders]
+        futs = [client.submit(run_one, f, out_dir, units, proceed, pure=False)
+                for f in folders]
         done = 0
         for _ in as_completed(futs):
             done += 1

@@ -115,6 +115,7 @@ def _run_batch(args, folders) -> int:
 
     try:
         outcomes = run_many(folders, out_dir, workers=args.workers, units=args.units,
+                            proceed=args.run_anyway,
                             progress=tick, scheduler=args.scheduler, address=args.dask_address)
     except KeyboardInterrupt:
         if bar is not None:
@@ -235,7 +236,7 @@ def cmd_compare(args) -> int:
             case = cases[0]
             case.diameter_study = {**case.diameter_study,
                                    "candidates": _diameters(args.diameters, case)}
-            results = run_case(case, progress=tick)
+            results = run_case(case, progress=tick, proceed=args.run_anyway)
             if results.diameter_candidates is None:
                 raise CaseError(case.slug, "", "the diameter study does not apply to this case "
                                 "(see its cautions)")
@@ -253,7 +254,7 @@ def cmd_compare(args) -> int:
                      f"{results.headline['optimum_diameter']:.3f} m."]
             version, name = results.version, case.name
         else:
-            all_results = [run_case(c, progress=tick) for c in cases]
+            all_results = [run_case(c, progress=tick, proceed=args.run_anyway) for c in cases]
             table = case_comparison(all_results, args.units)
             title = "Case comparison"
             notes = []
@@ -404,6 +405,8 @@ def build_parser() -> argparse.ArgumentParser:
     sp.add_argument("--diameters", metavar="LIST", help="comma-separated inside diameters, in "
                     "the case's length unit unless written with one (e.g. 1.2,1.4 or 48 in)")
     sp.add_argument("--out", metavar="PATH", help="also write the comparison as a workbook")
+    sp.add_argument("--run-anyway", action="store_true", help="go on with a case the tool's "
+                    "own checks find physically impossible (see penstock run --help)")
     sp.add_argument("--units", choices=("si", "us"), help="report units (default: the case's)")
     sp.set_defaults(func=cmd_compare)
 
