@@ -289,30 +289,13 @@ def portfolio_table(outcomes) -> pd.DataFrame:
 
 
 def write_portfolio(outcomes, path, version: str) -> None:
-    """The portfolio workbook, written atomically."""
-    import tempfile
-
+    """The portfolio workbook, replaced in one step (never a file penstock did not write)."""
     from .report.compare import write_comparison_workbook
-    from .report.publish import check_output_file, replace_file
+    from .report.publish import write_workbook_file
 
     table = portfolio_table(outcomes)
-    path = Path(path)
-    check_output_file(path)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.stem}.penstock-", suffix=".xlsx",
-                               dir=path.parent)
-    os.close(fd)
-    try:
-        n_bad = int((table["status"] != "ok").sum())
-        write_comparison_workbook(
-            table, tmp, "Portfolio of sites",
-            "portfolio", version,
-            notes=[f"{len(table)} cases, {n_bad} failed. Each case has its own report "
-                   "folder beside this workbook."])
-        umask = os.umask(0)
-        os.umask(umask)
-        os.chmod(tmp, 0o666 & ~umask)
-        check_output_file(path)   # nothing appeared meanwhile
-        replace_file(Path(tmp), path)
-    except BaseException:
-        Path(tmp).unlink(missing_ok=True)
-        raise
+    n_bad = int((table["status"] != "ok").sum())
+    write_workbook_file(path, lambda tmp: write_comparison_workbook(
+        table, tmp, "Portfolio of sites", "portfolio", version,
+        notes=[f"{len(table)} cases, {n_bad} failed. Each case has its own report folder "
+               "beside this workbook."]))

@@ -159,6 +159,13 @@ def _did_you_mean(word: str, options) -> str:
     return f"; did you mean '{close[0]}'?" if close else ""
 
 
+def _column_example(cname: str, kind: str) -> str:
+    """How a column is headed: 'date', or 'name [unit]' with an example unit."""
+    if kind == "date":
+        return f"'{cname}'"
+    return f"'{cname} [unit]', e.g. '{cname} [{units.SI_UNITS[kind] or '-'}]'"
+
+
 def _fmt_si(value: float, kind: str) -> str:
     unit = units.SI_UNITS.get(kind, "")
     return f"{value:g} {unit}".strip()
@@ -356,9 +363,7 @@ class _Reader:
                          f"{_did_you_mean(unknown[0], [cname]).replace('; ', ': ')})"
                          if unknown else "")
                 raise CaseError(name, f"column '{cname}'", "is missing; expected a column "
-                                f"headed '{cname}" + ("'" if kind == "date" else
-                                                       f" [unit]', e.g. '{cname} [{units.SI_UNITS[kind] or '-'}]'")
-                                + found)
+                                f"headed {_column_example(cname, kind)}" + found)
         if unknown:
             listed = ", ".join(f"'{c}'" for c in wanted_names)
             raise CaseError(name, f"column '{headers[unknown[0]][0]}'", "is not a column of this "
@@ -366,11 +371,7 @@ class _Reader:
         out = {}
         for cname, kind in wanted:
             if cname not in headers:
-                if (cname, kind) in optional:
-                    continue
-                raise CaseError(name, f"column '{cname}'", "is missing; expected a column "
-                                f"headed '{cname}" + ("'" if kind == "date" else
-                                                       f" [unit]', e.g. '{cname} [{units.SI_UNITS[kind] or '-'}]'"))
+                continue   # an optional column (the required ones were checked above)
             col, unit, j = headers[cname]
             series = pd.Series([r[j] for r in raw.rows], dtype=object)
             if kind == "date":
@@ -773,7 +774,8 @@ def _losses(doc: dict, rd: _Reader, chainage: np.ndarray) -> list[LocalLoss]:
                             f"({chainage[0]:g} to {chainage[-1]:g} m); expected a chainage on it")
         if v["k"] is None:
             # validate the parameters now, on stand-in diameters in the right order
-            d_up, d_down = {"contraction": (1.0, 0.8), "expansion": (0.8, 1.0)}.get(kind, (1.0, 1.0))
+            d_up, d_down = {"contraction": (1.0, 0.8),
+                            "expansion": (0.8, 1.0)}.get(kind, (1.0, 1.0))
             try:
                 route.loss_k_and_area(kind, params, d_up, d_down)
             except (ValueError, TypeError) as exc:

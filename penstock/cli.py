@@ -272,38 +272,13 @@ def cmd_compare(args) -> int:
 
 def _write_comparison(args, cases, table, title, name, version, notes) -> None:
     """The comparison workbook, replaced in one step, never over a file penstock did not write."""
-    import tempfile
-
-    from .report import ReportError
     from .report.compare import write_comparison_workbook
-    from .report.publish import check_output_file, replace_file
+    from .report.publish import write_workbook_file
 
-    out = Path(args.out)
-    check_output_file(out, [c.folder for c in cases])
-    try:
-        out.parent.mkdir(parents=True, exist_ok=True)
-        fd, tmp = tempfile.mkstemp(prefix=f".{out.stem}.penstock-", suffix=".xlsx",
-                                   dir=out.parent)
-        os.close(fd)
-    except OSError as exc:
-        raise ReportError(f"{out.parent}: cannot write there ({exc.strerror}); expected a "
-                          "writable folder") from None
-    try:
-        write_comparison_workbook(table, tmp, title, name, version, notes)
-        umask = os.umask(0)
-        os.umask(umask)
-        os.chmod(tmp, 0o666 & ~umask)
-        check_output_file(out, [c.folder for c in cases])   # nothing appeared meanwhile
-        replace_file(Path(tmp), out)
-    except OSError as exc:
-        Path(tmp).unlink(missing_ok=True)
-        if isinstance(exc, ReportError):
-            raise
-        raise ReportError(f"{out}: cannot write the workbook ({exc.strerror}); nothing was "
-                          "changed") from None
-    except BaseException:
-        Path(tmp).unlink(missing_ok=True)
-        raise
+    out = write_workbook_file(
+        args.out, lambda path: write_comparison_workbook(table, path, title, name, version,
+                                                         notes),
+        [c.folder for c in cases])
     _say(args.quiet, f"wrote {out}")
 
 

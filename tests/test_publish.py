@@ -419,3 +419,35 @@ def test_a_real_signal_while_writing(tmp_path, results, step, sig, expect):
     assert again.wait(timeout=90) == 0, again.stderr.read().decode()
     assert replaceable(out) is None
     assert _hidden(out.parent) == []
+
+
+# --------------------------------------------------------------------------- single workbooks
+def test_a_single_workbook_replaces_only_its_own_kind(tmp_path):
+    import pandas as pd
+
+    from penstock.report.compare import write_comparison_workbook
+    from penstock.report.publish import write_workbook_file
+
+    table = pd.DataFrame({"quantity": ["a"], "D = 1.000": [1.0]})
+    target = tmp_path / "cmp.xlsx"
+    leftover = tmp_path / ".cmp.penstock-file-dead.xlsx"      # from a killed earlier run
+    leftover.write_bytes(b"half")
+
+    def write(path):
+        write_comparison_workbook(table, path, "t", "site", "0", [])
+
+    write_workbook_file(target, write)
+    assert publish.written_by_penstock(target) and not leftover.exists()
+    write_workbook_file(target, write)                      # its own kind: replaced, no error
+    assert publish.written_by_penstock(target)
+    # saved by someone else since (the last-modified-by field changes): refused
+    import openpyxl
+
+    wb = openpyxl.load_workbook(target)
+    wb.properties.lastModifiedBy = "an engineer"
+    wb.save(target)
+    kept = target.read_bytes()
+    with pytest.raises(ReportError, match="not written by penstock"):
+        write_workbook_file(target, write)
+    assert target.read_bytes() == kept
+    assert _hidden(tmp_path) == []

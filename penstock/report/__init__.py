@@ -91,7 +91,7 @@ def write_csv(df, path) -> None:
     columns = [_column_fields(df[c]) for c in df.columns] if len(df.columns) else []
     with open(path, "w", encoding="utf-8", newline="") as fh:
         fh.write(header + "\n")
-        for row in zip(*columns):
+        for row in zip(*columns, strict=True):
             fh.write(",".join(row) + "\n")
 
 

@@ -293,9 +293,9 @@ class ReportLock:
                 raise
             if not free:
                 os.close(fd)
-                raise ReportError(f"{self.report}: another penstock run is writing this report (lock file "
-                                  f"{self.path}); wait for it to finish, or choose another "
-                                  "--out")
+                raise ReportError(f"{self.report}: another penstock run is writing this "
+                                  f"report (lock file {self.path}); wait for it to finish, "
+                                  "or choose another --out")
             # the holder before us may have removed the file after we opened it
             try:
                 same = os.path.samestat(os.fstat(fd), os.stat(self.path))
@@ -531,6 +531,56 @@ def replace_file(tmp: Path, target: Path) -> None:
         os.replace(tmp, target)
     with contextlib.suppress(OSError):
         fsync_dir(Path(target).parent)
+
+
+def write_workbook_file(target, write, case_folders=()) -> Path:
+    """Write a single workbook (a comparison, a portfolio) at ``target``, all or nothing.
+
+    ``write(path)`` writes the workbook to a hidden temporary file beside the target,
+    under the report lock of that name; the temporary file then replaces the target in
+    one step.  Leftovers of killed runs are removed first.  Only a workbook penstock
+    wrote and nobody saved since is replaced (:func:`check_output_file`).
+    """
+    import tempfile
+
+    target = Path(target)
+    check_output_file(target, case_folders)
+    try:
+        target.parent.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise ReportError(f"{target.parent}: cannot create the folder ({os_problem(exc)})"
+                          ) from None
+    prefix = f".{target.stem}.{_TAG}-file-"
+    with ReportLock(target.parent, target.name):
+        for p in target.parent.glob(prefix + "*.xlsx"):
+            with contextlib.suppress(OSError):
+                p.unlink()
+        check_output_file(target, case_folders)
+        try:
+            fd, tmp = tempfile.mkstemp(prefix=prefix, suffix=".xlsx", dir=target.parent)
+            os.close(fd)
+        except OSError as exc:
+            raise ReportError(f"{target}: cannot write in {target.parent} "
+                              f"({os_problem(exc)}); nothing was changed") from None
+        tmp = Path(tmp)
+        try:
+            write(tmp)
+            umask = os.umask(0)
+            os.umask(umask)
+            os.chmod(tmp, 0o666 & ~umask)
+            with open(tmp, "rb") as fh:
+                os.fsync(fh.fileno())
+            replace_file(tmp, target)
+        except OSError as exc:
+            tmp.unlink(missing_ok=True)
+            if isinstance(exc, ReportError):
+                raise
+            raise ReportError(f"{target}: cannot write the workbook ({os_problem(exc)}); "
+                              "nothing was changed") from None
+        except BaseException:
+            tmp.unlink(missing_ok=True)
+            raise
+    return target
 
 
 def run_info(results) -> dict:
