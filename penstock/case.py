@@ -109,8 +109,8 @@ class Case:
 
     @property
     def slug(self) -> str:
-        """File-system name of the case (its folder name)."""
-        return self.folder.name
+        """File-system name of the case: its folder's own name (also when given as '.')."""
+        return self.folder.resolve().name
 
     def headwater_at(self, river_flow, index=None):
         """Headwater level at each step [m]: series, rating at the river flow, or constant."""
@@ -179,6 +179,7 @@ class _Reader:
         self.file = CASE_FILE
         self.echo: list[dict] = []
         self.lines: dict[str, list[int]] = {}
+        self.units: dict[str, dict[str, str]] = {}   # file -> column -> unit as written
         self.say = None   # set once [site] is read: formats chainages in the case's units
 
     def line(self, name: str, row: int) -> int:
@@ -294,8 +295,11 @@ class _Reader:
         lo, hi = f.minimum, f.maximum
         if lo is not None and (val < lo or (f.exclusive_minimum and val <= lo)):
             op = "above" if f.exclusive_minimum else "at least"
+            hint = ""
+            if f.kind == "fraction" and 0 < val < lo and lo <= 100 * val <= (hi or 1.0):
+                hint = f" (did you mean {100 * val:g}, that is \"{1e4 * val:g} %\"?)"
             raise CaseError(self.file, key, f"{shown!r} is out of range; expected {op} "
-                            f"{_fmt_si(lo, f.kind)}")
+                            f"{_fmt_si(lo, f.kind)}{hint}")
         if hi is not None and val > hi:
             hint = ""
             if f.kind == "fraction" and hi <= 1.0 and 1.0 < val <= 100.0:
@@ -307,8 +311,12 @@ class _Reader:
         if not isinstance(raw, str) or not raw.strip():
             raise CaseError(self.file, key, f"{raw!r} is not a file name; expected the name of "
                             "a CSV file inside the case folder")
-        root = self.folder.resolve()
-        path = (self.folder / raw).resolve()
+        try:
+            root = self.folder.resolve()
+            path = (self.folder / raw).resolve()
+        except (RuntimeError, OSError):   # a symbolic link loop
+            raise CaseError(self.file, key, f"'{raw}' is a symbolic link loop; expected a "
+                            "CSV file inside the case folder") from None
         if root != path and root not in path.parents:
             raise CaseError(self.file, key, f"'{raw}' lies outside the case folder; expected a "
                             "file inside it")
@@ -375,8 +383,12 @@ class _Reader:
             col, unit, j = headers[cname]
             series = pd.Series([r[j] for r in raw.rows], dtype=object)
             if kind == "date":
+                if unit is not None:
+                    raise CaseError(name, f"column '{col}'", "a date column takes no unit; "
+                                    f"expected the header '{cname}'")
                 out[cname] = self._dates(series, name, col)
                 continue
+            self.units.setdefault(name, {})[cname] = unit
             values = self._numbers(series, name, col, unit, kind)
             self._column_bounds(values, name, col, cname, kind)
             out[cname] = values
@@ -617,6 +629,11 @@ def load_case(path) -> Case:
     hw_series = None
     if levels["headwater_series"] is not None:
         hw_series = _level_series(rd, levels["headwater_series"], record.index)
+        _levels_not_below(rd, levels["headwater_series"].name, hw_series.to_numpy(), hw_min,
+                          "headwater")
+    if hw_rating is not None:
+        _levels_not_below(rd, levels["headwater_rating"].name,
+                          hw_rating["level"].to_numpy(), hw_min, "headwater")
     if flows["residual_monthly"] and len(flows["residual_monthly"]) != 12:
         raise CaseError(CASE_FILE, "flows.residual_monthly", f"has "
                         f"{len(flows['residual_monthly'])} values; expected 12, January to "
@@ -809,6 +826,12 @@ def _flow_record(rd: _Reader, path: Path, gap_method: str) -> pd.Series:
                         f"{idx[row - 1]}; expected dates in order")
     if len(idx) < 2:
         raise CaseError(fname, "", "needs at least two dated flows")
+    odd = (idx.minute != 0) | (idx.second != 0) | (idx.microsecond != 0) | (idx.nanosecond != 0)
+    if np.any(odd):
+        row = int(np.flatnonzero(odd)[0])
+        raise CaseError(fname, f"row {rd.line(fname, row)}, column 'date'", f"{idx[row]} is not "
+                        "on a whole hour; expected daily or hourly dates (YYYY-MM-DD or "
+                        "YYYY-MM-DD HH:00)")
     series = pd.Series(q, index=idx, name="flow")
     step = pd.Timedelta(int(np.median(np.diff(ns))), "ns")
     if step not in (pd.Timedelta(hours=1), pd.Timedelta(days=1)):
@@ -877,8 +900,9 @@ def _duration_record(rd: _Reader, path: Path) -> pd.Series:
     bad = (p < 0) | (p > 1)
     if bad.any():
         row = int(np.flatnonzero(bad)[0])
+        unit = rd.units.get(name, {}).get("exceedance")
         hint = (" (the column is in [-]: head it 'exceedance [%]' if the values are "
-                "percentages)" if np.all((p >= 0) & (p <= 100)) else "")
+                "percentages)" if unit != "%" and np.all((p >= 0) & (p <= 100)) else "")
         raise CaseError(name, f"row {rd.line(name, row)}, column 'exceedance'", "exceedance is outside "
                         f"0 to 100 %{hint}")
     if np.any(np.diff(p) <= 0):
@@ -900,6 +924,17 @@ def _duration_record(rd: _Reader, path: Path) -> pd.Series:
                     "value (SI)": f"{len(df)} points, turned into a representative hourly year",
                     "SI unit": "m^3/s", "source": name})
     return series
+
+
+def _levels_not_below(rd: _Reader, name: str, levels: np.ndarray, floor: float, what: str):
+    """Refuse headwater levels below the minimum headwater, where the checks hold."""
+    low = levels < floor - 1e-9
+    if low.any():
+        row = int(np.flatnonzero(low)[0])
+        raise CaseError(name, f"row {rd.line(name, row)}, column 'level'", f"{what} "
+                        f"{rd.say.m(float(levels[row]))} is below levels.headwater_min "
+                        f"({rd.say.m(floor)}), the level the pressure and submergence checks "
+                        "hold at; expected levels at or above it (or a lower headwater_min)")
 
 
 def _level_series(rd: _Reader, path: Path, index: pd.DatetimeIndex) -> pd.Series:
@@ -977,6 +1012,14 @@ def _surge(rd: _Reader, surge: dict, chainage: np.ndarray) -> dict:
                                                                          np.diff(o) > 0]))[0])
             raise CaseError(path.name, f"row {rd.line(path.name, row)}, column 'opening'",
                             "opening must lie in 0..1 and never rise during a closure")
+        if o[0] <= 0:
+            raise CaseError(path.name, f"row {rd.line(path.name, 0)}, column 'opening'",
+                            "the valve starts closed; expected the opening before the "
+                            "rejection (e.g. 1) in the first row, at time 0")
+        if not o[-1] < o[0]:
+            raise CaseError(path.name, "column 'opening'", "the opening never falls, so "
+                            "nothing closes; expected openings falling from the first row's "
+                            "to the last row's (e.g. 1 to 0)")
         surge["closure_table"] = (t, o)
         surge["closure_time"] = float(t[np.argmax(o <= o[-1])])
     for i, x in enumerate(surge["record_at"]):

@@ -76,6 +76,8 @@ def cmd_check(args) -> int:
 def cmd_run(args) -> int:
     from .batch import expand
 
+    if args.out is not None and not args.out.strip():
+        raise CaseError("--out", "", "is empty; expected a folder, e.g. --out reports/my-site")
     folders = expand(args.case)
     if len(folders) > 1 or args.workers or args.scheduler != "process":
         return _run_batch(args, folders)
@@ -88,7 +90,7 @@ def _run_batch(args, folders) -> int:
     from .batch import portfolio_table, run_many, write_portfolio
     from .report.publish import check_not_in_a_case, check_output_file
 
-    out_dir = Path(args.out) if args.out else Path("reports")
+    out_dir = Path(args.out) if args.out is not None else Path("reports")
     if out_dir.suffix.lower() == ".xlsx":
         raise CaseError("--out", "", f"'{out_dir}' is a workbook name; for several cases "
                         "--out names the folder the report folders go to")
@@ -96,7 +98,10 @@ def _run_batch(args, folders) -> int:
     check_output_file(out_dir / "portfolio.xlsx", folders)
     by_name: dict[str, Path] = {}
     for f in folders:
-        other = by_name.setdefault(f.name, f)
+        if f.resolve().name == "portfolio.xlsx":
+            raise CaseError(str(f), "", "is named like the batch's portfolio workbook; "
+                            "expected a case folder of another name")
+        other = by_name.setdefault(f.resolve().name, f)
         if other is not f:
             raise CaseError("--out", "", f"the cases {other} and {f} would both write the "
                             f"report {out_dir / f.name}; expected case folders with different "
@@ -143,7 +148,7 @@ def _run_single(args) -> int:
     from .report.publish import check_report_folder
 
     case = load_case(args.case)
-    out = Path(args.out) if args.out else Path("reports") / case.slug
+    out = Path(args.out) if args.out is not None else Path("reports") / case.slug
     if out.suffix.lower() == ".xlsx":
         raise CaseError("--out", "", f"'{out}' names a workbook; expected the report folder, "
                         f"which holds the workbook, e.g. --out {out.with_suffix('')}")
@@ -222,7 +227,10 @@ def cmd_compare(args) -> int:
     from .report.publish import check_output_file
 
     cases = [load_case(c) for c in args.case]
-    if args.out:
+    if args.out is not None:
+        if not args.out.strip():
+            raise CaseError("--out", "", "is empty; expected a workbook name, e.g. --out "
+                            "comparison.xlsx")
         check_output_file(Path(args.out), [c.folder for c in cases])   # fail fast
     if args.diameters and len(cases) > 1:
         raise CaseError("--diameters", "", "compares the diameters of one case; give one case "
@@ -265,7 +273,7 @@ def cmd_compare(args) -> int:
         with pd.option_context("display.width", 200, "display.max_columns", 20,
                                "display.float_format", "{:,.3f}".format):
             print(table.to_string(index=False))
-    if args.out:
+    if args.out is not None:
         _write_comparison(args, cases, table, title, name, version, notes)
     return 0
 

@@ -40,6 +40,11 @@ KIND_LIMITS: dict[str, tuple[float | None, float | None]] = {
     "temperature": (0.0, 100.0),
 }
 
+#: Lowest efficiency taken as meant (common practice: no turbine, generator, gearbox or
+#: transformer of a working plant is below it); lower values are typing slips such as
+#: "0.9 %" for 90 %.
+PLAUSIBLE_EFFICIENCY = 0.3
+
 #: Elevation bounds [m], on any datum (a local survey datum may put the intake at 0 m and
 #: the station far below): wider than any site's levels, narrow enough to stop absurd ones.
 ELEVATION = (-20000.0, 20000.0)
@@ -208,7 +213,7 @@ SECTIONS: tuple[Section, ...] = (
               "flow; the larger of this and the other residual rules governs.",
               default="0 %", minimum=0.0, maximum=1.0),
         Field("firm_exceedance", "fraction", "Exceedance of the firm power (e.g. 95 %).",
-              default="95 %", minimum=0.0, exclusive_minimum=True, maximum=1.0),
+              default="95 %", minimum=0.5, maximum=1.0),
         Field("gaps", "choice", "What to do with gaps in the flow record: refuse the record, "
               "or fill them (linear: straight line in time; previous: last value carried "
               "forward; monthly_mean: mean of the same calendar month). Filled gaps are "
@@ -220,15 +225,15 @@ SECTIONS: tuple[Section, ...] = (
         Field("units", "integer", "Number of identical units.", default=1, minimum=1,
               maximum=12),
         Field("peak_efficiency", "fraction", "Best turbine efficiency.", default=0.90,
-              minimum=0.0, exclusive_minimum=True, maximum=1.0),
+              minimum=PLAUSIBLE_EFFICIENCY, maximum=1.0),
         Field("generator_efficiency", "fraction", "Generator efficiency.", default=0.96,
-              minimum=0.0, exclusive_minimum=True, maximum=1.0),
+              minimum=PLAUSIBLE_EFFICIENCY, maximum=1.0),
         Field("transformer_efficiency", "fraction", "Step-up transformer efficiency.",
-              default=0.99, minimum=0.0, exclusive_minimum=True, maximum=1.0),
+              default=0.99, minimum=PLAUSIBLE_EFFICIENCY, maximum=1.0),
         Field("gearbox_efficiency", "fraction", "Gearbox efficiency (1 for direct drive).",
-              default=1.0, minimum=0.0, exclusive_minimum=True, maximum=1.0),
+              default=1.0, minimum=PLAUSIBLE_EFFICIENCY, maximum=1.0),
         Field("availability", "fraction", "Fraction of time the plant is available (outages).",
-              default=0.97, minimum=0.0, exclusive_minimum=True, maximum=1.0),
+              default=0.97, minimum=0.1, maximum=1.0),
         Field("efficiency_table", "file", "CSV of turbine efficiency against relative flow "
               "(Q / design flow of one unit); replaces the type's typical curve.",
               optional=True, columns=(("relative flow", "dimensionless"),
@@ -274,7 +279,7 @@ SECTIONS: tuple[Section, ...] = (
         Field("density", "density", "Your own density of the wall material, replacing the "
               "grade's.", optional=True, minimum=500.0, maximum=20000.0),
         Field("joint_efficiency", "fraction", "Longitudinal weld joint efficiency.",
-              default=0.9, minimum=0.0, exclusive_minimum=True, maximum=1.0),
+              default=0.9, minimum=PLAUSIBLE_EFFICIENCY, maximum=1.0),
         Field("corrosion_allowance", "length", "Added to the hoop thickness.",
               default="1.5 mm", minimum=0.0, maximum=0.02),
         Field("plates", "length_list", "Available plate thicknesses; default 6 to 50 mm.",

@@ -89,10 +89,28 @@ def template_text() -> str:
 
 def write_template(folder) -> Path:
     """Write the template case folder; refuse to overwrite a non-empty folder."""
+    from .report.publish import MANIFEST, enclosing_case, enclosing_report
+
     folder = Path(folder)
+    if folder.is_symlink() or (folder.exists() and not folder.is_dir()):
+        raise CaseError(str(folder), "", "exists and is not a folder; expected a new folder "
+                        "name")
     if folder.exists() and any(folder.iterdir()):
         raise CaseError(str(folder), "", "exists and is not empty; expected a new folder name")
-    folder.mkdir(parents=True, exist_ok=True)
+    around = enclosing_case(folder.parent)
+    if around is not None:
+        raise CaseError(str(folder), "", f"lies inside the case folder {around} (it holds "
+                        f"{CASE_FILE}); expected a new case folder outside every case")
+    around = enclosing_report(folder.parent)
+    if around is not None:
+        raise CaseError(str(folder), "", f"lies inside the report folder {around} (it holds "
+                        f"{MANIFEST}), which penstock replaces whole; expected a folder "
+                        "elsewhere")
+    try:
+        folder.mkdir(parents=True, exist_ok=True)
+    except (FileExistsError, NotADirectoryError):
+        raise CaseError(str(folder), "", "a part of the path is a file, not a folder; "
+                        "expected a new folder name") from None
     (folder / CASE_FILE).write_text(template_text(), encoding="utf-8")
     ch = np.array([0, 150, 300, 450, 600, 750, 900], float)
     z = np.array([640, 636, 628, 600, 570, 540, 522], float)

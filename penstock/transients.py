@@ -361,13 +361,17 @@ class TransientResult:
 # --------------------------------------------------------------------------- solver
 #: Default bound on the time steps of one simulation (about 0.2 GB of histories).
 MAX_STEPS = 5_000_000
+#: Default bound on the node updates of one simulation (about 10 s at the measured
+#: 1.25e7 node updates a second).
+MAX_NODE_STEPS = 120_000_000
 
 
 def simulate(lengths, diameters, wave_speeds, friction_factors, reservoir_head,
              tailwater_head, flow, closure_time=None, law="linear", *, final_opening=0.0,
              knee_time=None, knee_opening=None, opening_table=None, duration=None,
              min_reaches=10, time_step=None, wave_speed_tolerance=0.05, record_chainages=(),
-             wave_speed_range=WATER_WAVE_SPEED_RANGE, max_steps=MAX_STEPS):
+             wave_speed_range=WATER_WAVE_SPEED_RANGE, max_steps=MAX_STEPS,
+             max_node_steps=MAX_NODE_STEPS):
     """Simulate a valve (or turbine-equivalent orifice) closure by the MOC.
 
     Parameters
@@ -411,6 +415,10 @@ def simulate(lengths, diameters, wave_speeds, friction_factors, reservoir_head,
         Physical range for the wave speeds. [m/s]
     max_steps : int
         Most time steps allowed, a bound on the work and memory of one run. [-]
+    max_node_steps : int
+        Most node updates (grid nodes times time steps) allowed, a bound on the work of
+        one run; below it, the shortest segment gets fewer than ``min_reaches`` reaches
+        (down to one) before the run is refused. [-]
 
     Returns
     -------
@@ -453,6 +461,22 @@ def simulate(lengths, diameters, wave_speeds, friction_factors, reservoir_head,
         raise ValueError("reservoir_head and tailwater_head must be finite (m above datum)")
     grid = characteristic_grid(length, wave_speeds, min_reaches, time_step,
                                wave_speed_tolerance, wave_speed_range)
+    if time_step is None:
+        # a very short segment (a spool, a reducer) would set a tiny time step for the
+        # whole pipe: take fewer reaches in it, down to one, while the work is too large
+        _, motion = _closure(np.zeros(1), law, closure_time, final_opening, knee_time,
+                             knee_opening, opening_table)
+        span = duration if duration is not None else motion + 20.0 * float(np.sum(
+            length / np.asarray(wave_speeds, dtype=float)))
+        n_try = int(min_reaches)
+        while n_try > 1 and (int(grid.reaches.sum()) + 1) * span / grid.time_step > \
+                max_node_steps:
+            n_try = max(1, n_try // 2)
+            try:
+                grid = characteristic_grid(length, wave_speeds, n_try, None,
+                                           wave_speed_tolerance, wave_speed_range)
+            except ValueError:
+                break   # the finer grid stays; the bound below then names the segment
     dt, reaches, speed = grid.time_step, grid.reaches, grid.wave_speeds
     area = 0.25 * math.pi * diameter**2
 
@@ -498,6 +522,14 @@ def simulate(lengths, diameters, wave_speeds, friction_factors, reservoir_head,
                          f"{duration:,.4g} s; expected at most {max_steps:,} (a shorter closure "
                          "time or simulated duration)")
     steps = int(math.ceil(steps - 1e-9))
+    work = (int(grid.reaches.sum()) + 1) * steps
+    if work > max_node_steps:
+        k = int(np.argmin(length / speed))
+        raise ValueError(f"segment {k + 1} ({length[k]:.4g} m long) has the shortest wave "
+                         f"travel time and sets a time step of {dt:.3g} s, so the run would "
+                         f"need {work:,.0f} node updates; expected at most "
+                         f"{max_node_steps:,} (merge this very short segment into its "
+                         "neighbour)")
     time = np.arange(steps + 1) * dt
     tau, _ = _closure(time, law, closure_time, final_opening, knee_time, knee_opening,
                       opening_table)

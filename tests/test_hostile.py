@@ -202,6 +202,40 @@ CATALOGUE = [
     Hostile("route-38-m-above-the-headwater", ALDER, _sub("profile.csv", "\n1250,",
                                                           "\n1250,1450.0,1451\n1251,"),
             ("profile.csv", "chainage 1250.0 m", "vapour pressure", "--run-anyway")),
+    # ---- found by a fresh-eyes trial
+    Hostile("closure-table-never-closes", ALDER, _many(
+        _sub("site.toml", 'closure_time = "30 s"', 'closure_law = "table"\n'
+             'closure_table = "close.csv"'),
+        _write("close.csv", "time [s],opening [-]\n0,1\n10,1\n")),
+            ("close.csv", "column 'opening'", "never falls")),
+    Hostile("closure-table-starts-closed", ALDER, _many(
+        _sub("site.toml", 'closure_time = "30 s"', 'closure_law = "table"\n'
+             'closure_table = "close.csv"'),
+        _write("close.csv", "time [s],opening [-]\n0,0\n10,0\n")),
+            ("close.csv", "row 2", "starts closed")),
+    Hostile("symlink-loop", ALDER, lambda case: ((case / "profile.csv").unlink(),
+                                                 (case / "profile.csv").symlink_to("loop"),
+                                                 (case / "loop").symlink_to("profile.csv")),
+            ("site.toml", "route.profile", "symbolic link loop")),
+    Hostile("a-0.3-m-spool-first", ALDER, _sub(
+        "site.toml", '[[pipe]]\nfrom = "0 m"\nto = "1600 m"',
+        '[[pipe]]\nfrom = "0 m"\nto = "0.3 m"\ndiameter = "1.2 m"\nmaterial = '
+        '"welded_steel"\nwall_thickness = "10 mm"\n[[pipe]]\nfrom = "0.3 m"\nto = "1600 m"'),
+            ("site.toml", "pipe 1", "node updates", "merge")),
+    Hostile("headwater-series-below-minimum", MILL, lambda case: _headwater_series(case, 95.0),
+            ("hw.csv", "row", "below levels.headwater_min")),
+    Hostile("efficiency-0.9-percent", ALDER, _sub("site.toml", "peak_efficiency = 0.90",
+                                                  'peak_efficiency = "0.9 %"'),
+            ("site.toml", "turbine.peak_efficiency", "at least 0.3", "did you mean 0.9")),
+    Hostile("fractional-seconds", ALDER, _sub("flows.csv", "2008-01-02,", "2008-01-02T00:00:00.5,"),
+            ("flows.csv", "row 4", "whole hour")),
+    Hostile("date-with-a-unit", ALDER, _sub("flows.csv", "date,", "date [s],"),
+            ("flows.csv", "date [s]", "takes no unit")),
+    Hostile("compare-out-inside-a-report", ALDER, None, ("report folder",),
+            command="compare", args=("--diameters", "1.2", "--out",
+                                     "{tmp}/out/report/report.xlsx")),
+    Hostile("batch-out-onto-a-report", MILL, None, ("report folder",),
+            command="batch", args=(str(CASES / "cedar-fork-us-units"),)),
     # ---- outputs
     Hostile("compare-out-is-a-folder", ALDER, None, ("is a folder",),
             command="compare", args=("--diameters", "1.2", "--out", "{tmp}")),
@@ -211,6 +245,16 @@ CATALOGUE = [
     Hostile("disk-full-while-writing", MILL, None, ("disk is full", "no report was changed"),
             patch=lambda mp, case: _disk_full(mp)),
 ]
+
+
+def _headwater_series(case: Path, low: float):
+    """A headwater series on the record's dates, every other level at ``low``."""
+    dates = [ln.split(",")[0] for ln in (case / "flows.csv").read_text().splitlines()
+             if ln[:1].isdigit()]
+    rows = "".join(f"{d},{low if i % 2 else 112.0}\n" for i, d in enumerate(dates))
+    (case / "hw.csv").write_text("date,level [m]\n" + rows, encoding="utf-8")
+    edit_file(case / "site.toml", 'headwater = "112.0 m"',
+              'headwater = "112.0 m"\nheadwater_series = "hw.csv"')
 
 
 def _refuse_open(monkeypatch, name: str):
@@ -260,6 +304,8 @@ def test_hostile_input_is_refused_in_one_line(h, tmp_path, earlier_reports, monk
     args = [a.replace("{tmp}", str(tmp_path)) for a in h.args]
     if h.command == "run":
         argv = ["run", case, "--out", report, *args]
+    elif h.command == "batch":
+        argv = ["run", case, *args, "--out", report]
     else:
         argv = [h.command, case, *args]
     start = time.monotonic()
@@ -337,6 +383,70 @@ def test_a_short_duration_table_is_named_in_a_caution(tmp_path):
     r = penstock.run_case(penstock.load_case(case), samples=0)
     msgs = " ".join(r.warnings["message"])
     assert "covers exceedance 10 % to 90 % only" in msgs
+
+
+def test_the_readme_comparison_runs_with_the_monte_carlo_on(tmp_path):
+    # the high-head demo samples 400 cases; the recommended size is checked with the rest
+    code, out, err = run_cli(["compare", CASES / ALDER, "--diameters", "1.0,1.1,1.2"])
+    assert code == 0, err
+    assert "D = 1.000" in out and "D = 1.200" in out
+
+
+def test_the_recommended_diameter_is_always_a_full_candidate(tmp_path):
+    case = copy_demo(ALDER, tmp_path)
+    with open(case / "site.toml", "a", encoding="utf-8") as fh:
+        fh.write('\n[diameter_study]\ncandidates = ["1.0 m", "1.2 m"]\n')
+    r = penstock.run_case(penstock.load_case(case), samples=10)
+    chosen = r.headline["selected_diameter"]
+    assert any(abs(d - chosen) < 1e-12 for d in r.diameter_candidates["diameter [m]"])
+
+
+def test_a_tiny_design_flow_skips_the_diameter_study_with_a_caution(tmp_path):
+    case = copy_demo(ALDER, tmp_path)
+    edit_file(case / "site.toml", 'design = "2.4 m^3/s"', 'design = "0.002 m^3/s"')
+    edit_file(case / "site.toml", 'maximum = "2.6 m^3/s"', 'maximum = "0.002 m^3/s"')
+    edit_file(case / "site.toml", 'extra = ["1.2 m^3/s"]\n', "")
+    edit_file(case / "site.toml", 'residual = "0.15 m^3/s"\n', "")
+    r = penstock.run_case(penstock.load_case(case), samples=0)
+    assert r.diameter_candidates is None
+    assert any("diameter_study.sizes" in m for m in r.warnings["message"])
+
+
+def test_a_record_shorter_than_a_year_is_a_warning(tmp_path):
+    case = copy_demo(ALDER, tmp_path)
+    (case / "flows.csv").write_text("date,flow [m^3/s]\n2008-01-01 00:00,2.0\n"
+                                    "2008-01-01 01:00,2.0\n", encoding="utf-8")
+    r = penstock.run_case(penstock.load_case(case), samples=0)
+    w = r.warnings[r.warnings["message"].str.contains("covers only")]
+    assert list(w["severity"]) == ["warning"]
+
+
+def test_a_case_named_dot_reports_under_its_own_name(tmp_path):
+    case = copy_demo(MILL, tmp_path)
+    code, _, err = run_cli(["run", ".", "--out", tmp_path / "out" / MILL, "--quiet"], cwd=case)
+    assert code == 0, err
+    assert penstock.load_case(case / ".").slug == MILL
+    code, _, err = run_cli(["run", ".", str(CASES / ALDER), "--workers", "1", "--out",
+                            tmp_path / "batch", "--quiet", "--samples", "0"], cwd=case)
+    assert code == 0, err
+    assert sorted(p.name for p in (tmp_path / "batch").iterdir()) == sorted(
+        [ALDER, MILL, "portfolio.xlsx"])
+
+
+@pytest.mark.parametrize("where", ["inside a case", "inside a report", "a file"])
+def test_new_refuses_odd_places(tmp_path, where, earlier_reports):
+    if where == "inside a case":
+        target = copy_demo(MILL, tmp_path) / "sub"
+    elif where == "inside a report":
+        shutil.copytree(earlier_reports[MILL], tmp_path / "report")
+        target = tmp_path / "report" / "x"
+    else:
+        target = tmp_path / "f"
+        target.write_text("mine", encoding="utf-8")
+    before = folder_listing(tmp_path)
+    code, out, err = run_cli(["new", target])
+    assert code == 2 and len(err.strip().splitlines()) == 1, err
+    assert folder_listing(tmp_path) == before
 
 
 # --------------------------------------------------------------------------- properties

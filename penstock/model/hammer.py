@@ -11,6 +11,7 @@ positions are lengths along the pipe; they are mapped back to route chainage
 from __future__ import annotations
 
 import math
+import re
 
 import numpy as np
 import pandas as pd
@@ -204,9 +205,12 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
             res = transients.simulate(lengths, diam, speeds, f, case.headwater, downstream, q,
                                       record_chainages=rec, **law)
         except ValueError as exc:   # e.g. no Courant grid within the wave-speed tolerance
-            raise CaseError(CASE_FILE, "surge.closure_time" if "time steps" in str(exc)
-                            else "surge", f"the water-hammer simulation cannot run: "
-                            f"{exc}") from None
+            msg = str(exc)
+            m = re.match(r"segment (\d+) \(", msg)
+            key = (f"pipe {m.group(1)}" if m and "node updates" in msg else
+                   "surge.closure_time" if "time steps" in msg else "surge")
+            raise CaseError(CASE_FILE, key, f"the water-hammer simulation cannot run: "
+                            f"{msg}") from None
         results.append((q, res))
     q_d, main = results[0]
     adj = float(np.max(np.abs(main.wave_speed_adjustment)))

@@ -157,7 +157,13 @@ def run(case, props, steady, warns, methods, tick) -> dict:
                 f"{Say(case.unit_system).q(float(q.min()))} down to 100 %), "
                 f"{100 * (first + 1 - last):.3g} % of the year, so the energy there is an "
                 "extrapolation; expected a table from near 0 % to near 100 %"))
-    if summ.mean_annual_basis != "complete calendar years":
+    days = len(record) * record.attrs.get("step_hours", 24.0) / 24.0
+    if days < 365.0:
+        warns.append(Warning_("hydrology", f"the flow record covers only {days:.3g} days; the "
+                              "mean annual energy, capacity factor and firm power are scaled "
+                              "from it and do not represent a year of the river's flows; "
+                              "expected a record of one year or more"))
+    elif summ.mean_annual_basis != "complete calendar years":
         warns.append(Warning_("hydrology", f"mean annual energy is based on "
                               f"{summ.mean_annual_basis}", severity="note"))
 

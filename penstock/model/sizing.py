@@ -36,7 +36,7 @@ from .. import economics, pipewall, surge, transients
 from ..constants import GRAVITY, P_ATM_SEA_LEVEL
 from ..materials import get_material as _get_material
 from ..route import build_route
-from .core import Warning_
+from .core import Say, Warning_
 
 STEEL = ("welded_steel", "riveted_steel")
 
@@ -271,6 +271,13 @@ def run(case, props, steady, prod, ham, warns, methods, tick) -> dict:
     sizes = np.asarray(sizes, float)
     if (sizes >= workable).any():
         sizes = sizes[sizes >= workable]   # no size that loses half the head is offered
+    if sizes.size == 0:
+        say = Say(case.unit_system)
+        warns.append(Warning_("diameter study", f"no available size lies near the sweep "
+                              f"range {say.m(lo, 3)} to {say.m(hi, 3)} (the default sizes go "
+                              "in 50 mm steps); give diameter_study.sizes to study this pipe; "
+                              "the study is skipped", severity="warning"))
+        return {"headline": {}}
     d_sweep = np.geomspace(lo, hi, st["points"])
     parts = model.annualized(d_sweep)
     t_sweep, _ = model.wall(d_sweep)
@@ -312,7 +319,9 @@ def run(case, props, steady, prod, ham, warns, methods, tick) -> dict:
         warns.append(Warning_("diameter study", "candidate diameter(s) " + ", ".join(
             f"{d:g} m" for d in dropped) + f" lose more than half the gross head at the design "
             f"flow (smaller than {workable:.3f} m) and are left out"))
-    cands = [d for d in cands if d >= workable] or [opt.selected_size]
+    cands = [d for d in cands if d >= workable]
+    if not any(math.isclose(d, opt.selected_size, rel_tol=1e-12) for d in cands):
+        cands = sorted([*cands, opt.selected_size])   # the recommended size: always checked
     tick("diameter candidates")
     cand = candidate_table(case, props, steady, prod, model, cands, warns)
     # empirical sanity checks

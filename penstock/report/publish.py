@@ -109,7 +109,18 @@ def _real(path) -> Path:
     return Path(os.path.realpath(os.path.abspath(path)))
 
 
-def check_not_in_a_case(path, what: str, case_folders=(), holds: bool = True) -> None:
+def enclosing_report(path, include_self: bool = True) -> Path | None:
+    """The penstock report folder (holding its manifest) that ``path`` is or lies inside."""
+    p = Path(os.path.abspath(path))
+    for q in ((p,) if include_self else ()) + tuple(p.parents):
+        with contextlib.suppress(OSError):
+            if (q / MANIFEST).is_file():
+                return q
+    return None
+
+
+def check_not_in_a_case(path, what: str, case_folders=(), holds: bool = True,
+                        report_itself: bool = False) -> None:
     """Refuse an output ``path`` that is, lies inside or (with ``holds``) contains a case.
 
     ``case_folders`` are the cases being run; any folder holding ``site.toml`` counts
@@ -128,6 +139,12 @@ def check_not_in_a_case(path, what: str, case_folders=(), holds: bool = True) ->
         if _inside(rc, real):
             raise ReportError(f"{path}: the {what} holds the case folder {c}; expected an "
                               "output path outside every case folder")
+    report = enclosing_report(real, include_self=not report_itself)
+    if report is not None:
+        where = "is" if report == real else "lies inside"
+        raise ReportError(f"{path}: the {what} {where} the report folder {report} (it holds "
+                          f"{MANIFEST}), which penstock replaces whole; expected an output "
+                          "path outside every report folder")
 
 
 # --------------------------------------------------------------------------- manifests
@@ -210,7 +227,7 @@ def replaceable(folder: Path) -> str | None:
 def check_report_folder(folder, case_folders=()) -> None:
     """Raise :class:`ReportError` unless a new report may be published at ``folder``."""
     folder = Path(folder)
-    check_not_in_a_case(folder, "report folder", case_folders)
+    check_not_in_a_case(folder, "report folder", case_folders, report_itself=True)
     book = folder / f"{folder.name}.xlsx"
     lock = spreadsheet_lock(book) if folder.is_dir() else None
     if lock is not None:
