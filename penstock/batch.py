@@ -77,6 +77,9 @@ def run_one(folder: str, out_dir: str, units: str | None, proceed: bool = False)
     from .report import ReportError, write_reports
     from .report.publish import check_report_folder
 
+    if _WORKER["stop"]:       # the batch was interrupted: start no new case
+        return Outcome(str(folder), False, {}, f"{folder}: not run (the batch was "
+                       "interrupted)")
     _WORKER["busy"] = True
     try:
         case = load_case(folder)
@@ -84,16 +87,20 @@ def run_one(folder: str, out_dir: str, units: str | None, proceed: bool = False)
         check_report_folder(target, [case.folder])     # before the run: fail fast
         results = run_case(case, proceed=proceed)
         write_reports(results, target, units)
-    except KeyboardInterrupt:
+    except KeyboardInterrupt as exc:
         if not _WORKER["pool"]:
             raise                      # run in the batch's own process: stop the batch
-        return Outcome(str(folder), False, {}, f"{folder}: interrupted; its report was not "
-                       "changed")
+        done = getattr(exc, "published", False)
+        return Outcome(str(folder), False, {}, f"{folder}: interrupted" + (
+            " after its new report was published" if done else "; its report was not "
+            "changed"))
     except (CaseError, ReportError) as exc:
         return Outcome(str(folder), False, {}, str(exc))
     except OSError as exc:
+        from .report.atomic import os_problem
+
         where = exc.filename if exc.filename is not None else folder
-        return Outcome(str(folder), False, {}, f"{where}: {exc.strerror or exc}")
+        return Outcome(str(folder), False, {}, f"{where}: {os_problem(exc)}")
     except Exception as exc:   # an internal error in one case must not stop the batch
         return Outcome(str(folder), False, {}, f"internal error: {type(exc).__name__}: {exc}")
     finally:
@@ -142,11 +149,20 @@ def run_many(folders, out_dir="reports", workers=None, units=None, progress=None
             out.append(run_one(f, str(out_dir), units, proceed))
             tick(i + 1)
         return out
+    import multiprocessing
+
+    from .report.atomic import signals_held
+
     results: dict[int, Outcome] = {}
+    method = multiprocessing.get_start_method()
     pool = cf.ProcessPoolExecutor(max_workers=workers, initializer=_die_with_parent,
-                                  initargs=(os.getpid(),))
+                                  initargs=(os.getpid(), method))
+    futures = {}
     try:
-        with _interrupts_at_safe_points() as interrupted:
+        # SIGINT and SIGTERM are acted on between short waits: a KeyboardInterrupt raised
+        # wherever a signal lands (inside a garbage-collector callback, say) would be
+        # printed as an ignored exception with a traceback
+        with signals_held(redeliver=False) as interrupted:
             futures = {pool.submit(run_one, f, str(out_dir), units, proceed): i
                        for i, f in enumerate(folders)}
             pending = set(futures)
@@ -154,54 +170,52 @@ def run_many(folders, out_dir="reports", workers=None, units=None, progress=None
                 done, pending = cf.wait(pending, timeout=0.2,
                                         return_when=cf.FIRST_COMPLETED)
                 for fut in done:
-                    results[futures[fut]] = fut.result()
+                    results[futures[fut]] = _outcome(fut, folders[futures[fut]])
                 if done:
                     tick(len(results))
                 if interrupted():
                     raise KeyboardInterrupt
     except KeyboardInterrupt:
-        # the workers ignore SIGINT; a polite SIGTERM lets each tidy its unfinished report
-        for proc in list((getattr(pool, "_processes", None) or {}).values()):
-            with contextlib.suppress(OSError, AttributeError):
-                proc.terminate()
-        pool.shutdown(wait=True, cancel_futures=True)
+        _stop_workers(pool)
         raise
     pool.shutdown(wait=True)
     return [results[i] for i in range(len(folders))]
 
 
-@contextlib.contextmanager
-def _interrupts_at_safe_points():
-    """SIGINT and SIGTERM recorded while the batch waits, acted on between waits.
-
-    A KeyboardInterrupt raised wherever the signal happens to land (inside a garbage
-    collector callback, say) is printed as an ignored exception with a traceback; the
-    batch checks the record between its short waits instead.
-    """
-    import signal
-    import threading
-
-    got: list[int] = []
-    if threading.current_thread() is not threading.main_thread():
-        yield lambda: False
-        return
-    saved = {}
-    for name in ("SIGINT", "SIGTERM"):
-        sig = getattr(signal, name, None)
-        if sig is not None:
-            saved[sig] = signal.signal(sig, lambda signum, frame: got.append(signum))
+def _outcome(fut, folder) -> Outcome:
+    """A finished case's outcome; a worker that died (out of memory, killed) fails it alone."""
     try:
-        yield lambda: bool(got)
-    finally:
-        for sig, handler in saved.items():
-            signal.signal(sig, handler)
+        return fut.result()
+    except cf.process.BrokenProcessPool:
+        return Outcome(str(folder), False, {}, f"{folder}: the process running it died (out "
+                       "of memory, or killed); its report was not changed")
 
 
-#: State of this process as a batch worker: started by the pool, running a case.
-_WORKER = {"pool": False, "busy": False}
+def _stop_workers(pool) -> None:
+    """Stop a pool on an interrupt: no new case starts, the running ones tidy up and end.
+
+    The workers ignore SIGINT; SIGTERM makes a busy worker stop its case as on Ctrl-C
+    (its unfinished report is removed) and refuse any case still queued to it, and an
+    idle one exit.  A worker still alive after 30 s is killed (the next run tidies up).
+    """
+    procs = list((getattr(pool, "_processes", None) or {}).values())   # no public access
+    for proc in procs:
+        with contextlib.suppress(OSError, AttributeError):
+            proc.terminate()
+    pool.shutdown(wait=False, cancel_futures=True)
+    for proc in procs:
+        with contextlib.suppress(OSError, AttributeError, AssertionError):
+            proc.join(timeout=30)
+            if proc.is_alive():
+                proc.kill()
 
 
-def _die_with_parent(parent_pid: int) -> None:
+#: State of this process as a batch worker: started by the pool, running a case, told
+#: to stop.
+_WORKER = {"pool": False, "busy": False, "stop": False}
+
+
+def _die_with_parent(parent_pid: int, start_method: str = "fork") -> None:
     """Worker start-up: signals, and an end to this worker as soon as the batch is gone.
 
     Ctrl-C reaches the whole process group; a worker ignores SIGINT and leaves the
@@ -210,8 +224,9 @@ def _die_with_parent(parent_pid: int) -> None:
     an idle worker just exits.
 
     On Linux the kernel sends the worker SIGKILL when its parent dies
-    (``prctl(PR_SET_PDEATHSIG)``); everywhere, a watchdog thread also checks every
-    0.2 s that the parent is still the same process and exits otherwise.  A batch
+    (``prctl(PR_SET_PDEATHSIG)``; the parent is the batch, or under the forkserver start
+    method the server, which ends with the batch); everywhere, a watchdog thread also
+    checks every 0.2 s that the batch process still lives and exits otherwise.  A batch
     killed with SIGKILL therefore leaves no workers running on.
     """
     import signal
@@ -222,6 +237,7 @@ def _die_with_parent(parent_pid: int) -> None:
     signal.signal(signal.SIGINT, signal.SIG_IGN)
 
     def on_term(signum, frame):
+        _WORKER["stop"] = True
         if _WORKER["busy"]:
             raise KeyboardInterrupt
         os._exit(1)
@@ -235,13 +251,29 @@ def _die_with_parent(parent_pid: int) -> None:
             libc.prctl(1, int(signal.SIGKILL), 0, 0, 0)   # PR_SET_PDEATHSIG = 1
         except (OSError, AttributeError):
             pass
-    if os.getppid() != parent_pid:   # the parent died before we got here
+    def batch_alive() -> bool:
+        if os.name == "nt":   # os.kill would end the process there
+            import multiprocessing
+
+            parent = multiprocessing.parent_process()
+            return parent is None or parent.is_alive()
+        if start_method == "fork" and os.getppid() != parent_pid:
+            return False
+        try:
+            os.kill(parent_pid, 0)
+        except ProcessLookupError:
+            return False
+        except OSError:
+            pass   # alive, though not ours to signal
+        return True
+
+    if not batch_alive():   # the batch died before we got here
         os._exit(1)
 
     def watch():
         while True:
             time.sleep(0.2)
-            if os.getppid() != parent_pid:
+            if not batch_alive():
                 os._exit(1)
 
     threading.Thread(target=watch, name="penstock-parent-watch", daemon=True).start()

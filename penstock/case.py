@@ -311,12 +311,22 @@ class _Reader:
         if not isinstance(raw, str) or not raw.strip():
             raise CaseError(self.file, key, f"{raw!r} is not a file name; expected the name of "
                             "a CSV file inside the case folder")
+        bad = _CONTROL.search(raw)
+        if bad or len(raw) > 255:
+            raise CaseError(self.file, key, f"{raw[:40]!r} is not a usable file name ("
+                            + (f"it holds U+{ord(bad.group()):04X}" if bad else
+                               "longer than 255 characters")
+                            + "); expected the name of a CSV file inside the case folder")
         try:
             root = self.folder.resolve()
             path = (self.folder / raw).resolve()
-        except (RuntimeError, OSError):   # a symbolic link loop
+        except RuntimeError:   # Python's word for a symbolic link loop
             raise CaseError(self.file, key, f"'{raw}' is a symbolic link loop; expected a "
                             "CSV file inside the case folder") from None
+        except (OSError, ValueError) as exc:
+            raise CaseError(self.file, key, f"'{raw}' cannot be resolved ("
+                            f"{getattr(exc, 'strerror', None) or exc}); expected a CSV file "
+                            "inside the case folder") from None
         if root != path and root not in path.parents:
             raise CaseError(self.file, key, f"'{raw}' lies outside the case folder; expected a "
                             "file inside it")

@@ -131,7 +131,13 @@ def _run_batch(args, folders) -> int:
     finally:
         if bar is not None:
             bar.close()
-    write_portfolio(outcomes, out_dir / "portfolio.xlsx", __version__)
+    try:
+        write_portfolio(outcomes, out_dir / "portfolio.xlsx", __version__)
+    except KeyboardInterrupt as exc:
+        done = getattr(exc, "published", False)
+        print(f"penstock: interrupted; every case report in {out_dir}/ is whole, and the "
+              f"portfolio was {'written' if done else 'not changed'}", file=sys.stderr)
+        return 130
     table = portfolio_table(outcomes)
     n_bad = int((table["status"] != "ok").sum())
     for o in outcomes:
@@ -402,14 +408,10 @@ def build_parser() -> argparse.ArgumentParser:
 
 def _os_error_line(exc: OSError) -> str:
     """One line for an operating-system error: the path first, then what went wrong."""
-    import errno
+    from .report.atomic import os_problem
 
-    what = {errno.ENOSPC: "the disk is full", errno.EACCES: "permission denied",
-            errno.EPERM: "operation not permitted", errno.EISDIR: "is a folder, not a file",
-            errno.ENOTDIR: "a part of the path is not a folder",
-            errno.EROFS: "the file system is read-only"}.get(exc.errno, exc.strerror or str(exc))
     where = exc.filename if exc.filename is not None else "penstock"
-    return f"{where}: {what}"
+    return f"{where}: {os_problem(exc)}"
 
 
 def main(argv=None) -> int:
@@ -432,8 +434,9 @@ def main(argv=None) -> int:
         return 2
     except KeyboardInterrupt as exc:
         if isinstance(exc, ReportInterrupted) and exc.published:
-            print(f"penstock: interrupted after the new report was published; {exc.folder}/ "
-                  "is complete", file=sys.stderr)
+            what = "workbook" if exc.folder.suffix.lower() == ".xlsx" else "report"
+            print(f"penstock: interrupted after the new {what} was published; "
+                  f"{exc.folder} is complete", file=sys.stderr)
         else:
             print("penstock: interrupted; no report was changed", file=sys.stderr)
         return 130

@@ -107,6 +107,9 @@ def test_interrupted_batch_leaves_finished_workbooks_and_no_partial_files(tmp_pa
     assert "interrupted" in err.decode() and "Traceback" not in err.decode()
     finished = sorted(p for p in out.iterdir() if not p.name.startswith("."))
     assert finished
+    assert len(finished) < 12, "the interrupt did not stop the batch"
+    time.sleep(3.0)                        # no worker goes on with a queued case
+    assert sorted(p for p in out.iterdir() if not p.name.startswith(".")) == finished
     for folder in finished:
         assert replaceable(folder) is None, folder   # whole: every file as its manifest says
         openpyxl.load_workbook(folder / f"{folder.name}.xlsx")

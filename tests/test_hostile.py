@@ -194,8 +194,10 @@ CATALOGUE = [
     Hostile("pipe-in-place-of-site-toml", MILL, _replace_by_pipe("site.toml"),
             ("site.toml", "not a regular file")),
     Hostile("unreadable-csv", MILL, None, ("site.toml", "tailwater.csv", "permission denied"),
-            patch=lambda mp, case: mp.setattr(csvfile.os, "access",
-                                              lambda p, mode: Path(p).name != "tailwater.csv")),
+            patch=lambda mp, case: mp.setattr(csvfile, "os", _NoAccess("tailwater.csv"))),
+    Hostile("nul-in-a-file-name", MILL, _sub("site.toml", 'tailwater_rating = "tailwater.csv"',
+                                             'tailwater_rating = "tail\\u0000water.csv"'),
+            ("site.toml", "levels.tailwater_rating", "U+0000")),
     Hostile("unreadable-site-toml", MILL, None, ("site.toml", "permission denied"),
             patch=lambda mp, case: _refuse_open(mp, "site.toml")),
     # ---- physics the tool's own checks call impossible
@@ -255,6 +257,20 @@ def _headwater_series(case: Path, low: float):
     (case / "hw.csv").write_text("date,level [m]\n" + rows, encoding="utf-8")
     edit_file(case / "site.toml", 'headwater = "112.0 m"',
               'headwater = "112.0 m"\nheadwater_series = "hw.csv"')
+
+
+class _NoAccess:
+    """The os module as the loader sees it, with one file unreadable (as for a non-root
+    user without permission; the tests may run as root, whom permissions do not stop)."""
+
+    def __init__(self, name: str):
+        self.name = name
+
+    def access(self, path, mode):
+        return Path(path).name != self.name and os.access(path, mode)
+
+    def __getattr__(self, attr):
+        return getattr(os, attr)
 
 
 def _refuse_open(monkeypatch, name: str):
@@ -503,6 +519,7 @@ def dialect_case(tmp_path_factory):
 @QUICK
 @given(dialects())
 def test_random_csv_dialects_load_or_are_refused_in_one_line(dialect_case, d):
+    original = (dialect_case / "profile.csv").read_bytes()
     (dialect_case / "profile.csv").write_text(_profile_text(d), encoding="utf-8", newline="")
     standard = d["sep"] == "," and d["decimal"] == "." and not d["trailing"]
     start = time.monotonic()
@@ -514,6 +531,7 @@ def test_random_csv_dialects_load_or_are_refused_in_one_line(dialect_case, d):
         return
     finally:
         assert time.monotonic() - start < 1.0
+        (dialect_case / "profile.csv").write_bytes(original)
     assert standard                 # only the standard dialect is read, and read right
     assert list(case.profile["elevation"]) == [107.0, 106.6, 106.0, 103.5]
 

@@ -27,7 +27,7 @@ from conftest import CASES, copy_demo, folder_listing, run_cli
 
 import penstock.report as report
 from penstock import load_case, run_case
-from penstock.report import publish
+from penstock.report import atomic, publish
 from penstock.report.publish import (
     MANIFEST,
     ReportError,
@@ -215,19 +215,24 @@ def test_a_report_set_aside_by_the_fallback_is_put_back(tmp_path, results, fast_
 
 
 # --------------------------------------------------------------------------- faults, in-process
-#: The steps of writing a report, in order: (name, where to patch, attribute).
+#: The steps of writing a report, in order: (name, where to patch, attribute, when it
+#: happens: "always", "over" an old report, or on the "first" report).
 STEPS = [
-    ("lock", publish, "_try_lock"),
-    ("staging", report, "new_staging"),
-    ("workbook", "penstock.report.workbook", "write_workbook"),
-    ("tables", report, "write_tables"),
-    ("figures", "penstock.report.figures", "write_figures"),
-    ("manifest", report, "write_manifest"),
-    ("flush", report, "fsync_tree"),
-    ("exchange", publish, "exchange"),
-    ("rename", publish, "rename_new"),
-    ("flush folder", publish, "fsync_dir"),
+    ("lock", atomic, "_try_lock", "always"),
+    ("staging", report, "new_staging", "always"),
+    ("workbook", "penstock.report.workbook", "write_workbook", "always"),
+    ("tables", report, "write_tables", "always"),
+    ("figures", "penstock.report.figures", "write_figures", "always"),
+    ("manifest", report, "write_manifest", "always"),
+    ("flush", report, "fsync_tree", "always"),
+    ("exchange", publish, "exchange", "over"),
+    ("rename", publish, "rename_new", "first"),
+    ("flush folder", publish, "fsync_dir", "always"),   # after the new report is in place
+    ("remove old", shutil, "rmtree", "over"),            # the old one, after the exchange
 ]
+CASES_OF_FAULTS = [(name, existing) for name, _, _, when in STEPS
+                   for existing in (True, False)
+                   if when == "always" or (when == "over") == existing]
 
 
 def _target(where):
@@ -236,22 +241,29 @@ def _target(where):
     return importlib.import_module(where) if isinstance(where, str) else where
 
 
-def _inject(monkeypatch, where, attr, fault, after=False):
-    """Make ``where.attr`` raise ``fault`` (before doing its work, or just after)."""
+def _inject(monkeypatch, where, attr, fault, only=None):
+    """Make ``where.attr`` raise ``fault`` instead of working; return the count of faults.
+
+    ``only(args)`` limits the fault to the calls it accepts.
+    """
     module = _target(where)
     original = getattr(module, attr)
+    fired = []
 
     def faulty(*args, **kwargs):
-        if after:
-            original(*args, **kwargs)
+        if only is not None and not only(args):
+            return original(*args, **kwargs)
+        fired.append(args)
         raise fault
 
     monkeypatch.setattr(module, attr, faulty)
+    return fired
 
 
 @pytest.mark.parametrize("fault", ["disk full", "interrupt"])
-@pytest.mark.parametrize("step", [s[0] for s in STEPS] + ["remove old"])
-@pytest.mark.parametrize("existing", [True, False], ids=["over an old report", "first report"])
+@pytest.mark.parametrize("step, existing", CASES_OF_FAULTS,
+                         ids=[f"{n}-{'over an old report' if e else 'first report'}"
+                              for n, e in CASES_OF_FAULTS])
 def test_a_fault_at_any_step_leaves_the_old_report_or_the_new(tmp_path, monkeypatch, results,
                                                                fast_figures, step, fault,
                                                                existing):
@@ -261,19 +273,9 @@ def test_a_fault_at_any_step_leaves_the_old_report_or_the_new(tmp_path, monkeypa
     old = folder_listing(folder) if existing else None
     err = (OSError(errno.ENOSPC, "No space left on device") if fault == "disk full"
            else KeyboardInterrupt())
-    if step == "remove old":
-        real = shutil.rmtree
-
-        def rmtree(path, *a, **k):
-            if ".penstock-" in str(path) and folder.exists() and read_manifest(folder):
-                raise err
-            return real(path, *a, **k)
-
-        monkeypatch.setattr(shutil, "rmtree", rmtree)
-    else:
-        where, attr = next((w, a) for n, w, a in STEPS if n == step)
-        # a rename either happens or fails (one system call); the folder is flushed after it
-        _inject(monkeypatch, where, attr, err, after=step == "flush folder")
+    where, attr = next((w, a) for n, w, a, _ in STEPS if n == step)
+    only = (lambda args: ".penstock-" in str(args[0])) if step == "remove old" else None
+    fired = _inject(monkeypatch, where, attr, err, only)
     try:
         report.write_reports(results, folder)
         outcome = "done"
@@ -283,10 +285,12 @@ def test_a_fault_at_any_step_leaves_the_old_report_or_the_new(tmp_path, monkeypa
         outcome = "new" if "was written" in str(exc) else "old"
         assert str(folder) in str(exc) and "\n" not in str(exc)
         if fault == "disk full" and outcome == "old":
-            assert "disk is full" in str(exc) and "no report was changed" in str(exc)
+            assert "disk is full" in str(exc)
+            assert "no report was changed" in str(exc) or "nothing was changed" in str(exc)
     except OSError:
         outcome = "raw"
     assert outcome != "raw", "an OS error escaped without the report path"
+    assert fired, f"the fault at '{step}' never fired"
     monkeypatch.undo()
     # whatever happened, the report folder is whole: the old one or the new one
     if outcome == "old":
@@ -451,3 +455,148 @@ def test_a_single_workbook_replaces_only_its_own_kind(tmp_path):
         write_workbook_file(target, write)
     assert target.read_bytes() == kept
     assert _hidden(tmp_path) == []
+
+
+def test_a_report_changed_while_the_new_one_is_written_is_left_alone(tmp_path, monkeypatch,
+                                                                     results):
+    folder = tmp_path / "site"
+    import penstock.report.figures as figures
+
+    monkeypatch.setattr(figures, "write_figures", _fast_figures)
+    report.write_reports(results, folder)
+
+    def figures_and_a_user(results_, staging, system):
+        (folder / "notes.txt").write_text("saved meanwhile", encoding="utf-8")
+        return _fast_figures(results_, staging, system)
+
+    monkeypatch.setattr(figures, "write_figures", figures_and_a_user)
+    before = folder_listing(folder)
+    with pytest.raises(ReportError, match="changed while the new report was being written"):
+        report.write_reports(results, folder)
+    after = folder_listing(folder)
+    assert after.pop("notes.txt") == b"saved meanwhile"      # the user's file is kept
+    assert after == before                                   # and the old report with it
+    assert _hidden(tmp_path) == []
+
+
+@pytest.mark.parametrize("exchange_works", [True, False], ids=["exchange", "fallback"])
+def test_the_check_after_the_exchange_holds_in_the_fallback_too(tmp_path, monkeypatch,
+                                                                results, fast_figures,
+                                                                exchange_works):
+    folder = tmp_path / "site"
+    report.write_reports(results, folder)
+    if not exchange_works:
+        monkeypatch.setattr(publish, "exchange", lambda a, b: False)
+    real = publish.replaceable
+    calls = []
+
+    def changed_late(path):
+        calls.append(path)
+        if len(calls) == 3:   # the check at the publication: on the old report, set aside
+            Path(path).joinpath("late.txt").write_text("mine")
+        return real(path)
+
+    monkeypatch.setattr(publish, "replaceable", changed_late)
+    with pytest.raises(ReportError, match="changed while"):
+        report.write_reports(results, folder)
+    assert (folder / "late.txt").read_text() == "mine"
+    assert _hidden(tmp_path) == []
+
+
+def test_desktop_index_files_do_not_block_a_report(tmp_path, results, fast_figures):
+    folder = tmp_path / "site"
+    report.write_reports(results, folder)
+    (folder / ".DS_Store").write_bytes(b"\0\0\0\1Bud1")
+    assert replaceable(folder) is None
+    report.write_reports(results, folder)
+    assert replaceable(folder) is None
+
+
+def test_a_lock_file_that_is_a_link_is_never_followed(tmp_path):
+    precious = tmp_path / "precious.txt"
+    precious.write_text("keep", encoding="utf-8")
+    (tmp_path / ".site.penstock-lock").symlink_to(precious)
+    with pytest.raises(ReportError, match="cannot take the lock"):
+        with ReportLock(tmp_path, "site"):
+            pass
+    assert precious.read_text(encoding="utf-8") == "keep"
+
+
+def test_no_atomic_exchange_where_the_system_has_none(monkeypatch, tmp_path):
+    monkeypatch.setattr(atomic.sys, "platform", "win32")
+    (tmp_path / "a").mkdir()
+    (tmp_path / "b").mkdir()
+    assert atomic.exchange(tmp_path / "a", tmp_path / "b") is False
+
+
+def test_a_comparison_edited_by_a_script_is_not_replaced(tmp_path):
+    import openpyxl
+    import pandas as pd
+
+    from penstock.report.compare import write_comparison_workbook
+    from penstock.report.publish import write_workbook_file
+
+    target = tmp_path / "cmp.xlsx"
+
+    def write(path):
+        write_comparison_workbook(pd.DataFrame({"q": ["a"], "v": [1.0]}), path, "t", "s", "0")
+
+    write_workbook_file(target, write)
+    wb = openpyxl.load_workbook(target)
+    wb.active["A1"] = "my own heading"          # keeps creator and last-modified-by
+    wb.save(target)
+    kept = target.read_bytes()
+    with pytest.raises(ReportError, match="not written by penstock"):
+        write_workbook_file(target, write)
+    assert target.read_bytes() == kept
+
+
+@pytest.mark.skipif(sys.platform == "win32", reason="POSIX signals")
+def test_a_kill_between_the_fallbacks_two_renames_is_undone_by_the_next_run(tmp_path,
+                                                                             results):
+    pickled = tmp_path / "results.pickle"
+    pickled.write_bytes(pickle.dumps(results))
+    out = tmp_path / "reports" / "site"
+    marker = tmp_path / "between"
+    script = tmp_path / "fallback.py"
+    script.write_text(textwrap.dedent(f"""
+        import os, pickle, sys, time
+        from pathlib import Path
+        import penstock.model
+        import penstock.report.figures as figures
+        from penstock import cli
+        from penstock.report import publish
+        with open({str(pickled)!r}, "rb") as fh:
+            results = pickle.load(fh)
+        penstock.model.run_case = lambda *a, **k: results
+        figures.write_figures = lambda r, folder, system: (
+            (Path(folder) / "figure.png").write_bytes(os.urandom(16)), ["figure.png"])[1]
+        slow = sys.argv[1] == "slow"
+        publish.exchange = lambda a, b: False
+        real = os.rename
+        def rename(src, dst):
+            if slow and "staging" in str(src):      # the second rename: old already aside
+                Path({str(marker)!r}).touch()
+                time.sleep(30)
+            return real(src, dst)
+        publish.os.rename = rename
+        sys.exit(cli.main(["run", {str(CASES / LOW_HEAD)!r}, "--out", {str(out)!r}]))
+    """), encoding="utf-8")
+    env = {**os.environ, "CI": "1"}
+    assert subprocess.run([sys.executable, str(script), "fast"], env=env).returncode == 0
+    old = folder_listing(out)
+    proc = subprocess.Popen([sys.executable, str(script), "slow"], env=env)
+    try:
+        deadline = time.time() + 60
+        while not marker.exists() and time.time() < deadline and proc.poll() is None:
+            time.sleep(0.02)
+        assert marker.exists()
+    finally:
+        proc.kill()
+        proc.wait()
+    assert not out.exists()                       # the documented window of the fallback
+    with ReportLock(out.parent, "site"):
+        done = clean_leftovers(out.parent, "site")
+    assert done[0] == out                         # put back first, then the staging removed
+    assert folder_listing(out) == old             # the old report, whole, back in place
+    assert _hidden(out.parent) == []

@@ -7,7 +7,6 @@ over anything penstock did not write.
 
 from __future__ import annotations
 
-import os
 import shutil
 from pathlib import Path
 
@@ -16,6 +15,7 @@ from .publish import (
     ReportError,
     ReportInterrupted,
     ReportLock,
+    _user_mode,
     check_report_folder,
     clean_leftovers,
     fsync_tree,
@@ -129,8 +129,6 @@ def _write_locked(results, folder: Path, book_name: str, system: str, state: dic
     except OSError as exc:
         raise ReportError(f"{folder}: cannot write in {parent} ({os_problem(exc)}); no "
                           "report was changed") from None
-    umask = os.umask(0)
-    os.umask(umask)
     old = None
     try:
         write_workbook(results, staging / book_name, system)
@@ -138,8 +136,8 @@ def _write_locked(results, folder: Path, book_name: str, system: str, state: dic
                                                                        system)
         write_manifest(staging, info)
         for p in staging.iterdir():
-            os.chmod(p, 0o666 & ~umask)
-        os.chmod(staging, 0o777 & ~umask)
+            _user_mode(p)
+        _user_mode(staging, folder=True)
         fsync_tree(staging)
         old = publish_folder(staging, folder, state)
     except BaseException as exc:

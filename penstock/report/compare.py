@@ -79,5 +79,12 @@ def write_comparison_workbook(table: pd.DataFrame, path, title: str, case_name: 
     sh.page_setup(ws, case_name, version, _dt.date.today().isoformat())
     wb.properties.title = title
     wb.properties.creator = f"penstock {version}"
-    wb.properties.lastModifiedBy = "penstock"   # an edit saved by anyone else changes it
+    wb.properties.lastModifiedBy = "penstock"
+    # its own digest goes here once written (report.publish.write_workbook_file), so that
+    # a later run replaces it only while nobody changed it
+    from openpyxl.packaging.custom import StringProperty
+
+    from .publish import DIGEST_PLACEHOLDER, DIGEST_PROPERTY
+
+    wb.custom_doc_props.append(StringProperty(name=DIGEST_PROPERTY, value=DIGEST_PLACEHOLDER))
     wb.save(path)

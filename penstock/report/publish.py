@@ -29,73 +29,93 @@ How a report is published
    the old folder is first renamed aside; a kill between the two renames leaves
    it under its hidden name, and the next run of the report puts it back.
 
+   The old report is checked once more after the exchange: if anything changed in
+   it while the new one was being written (a file added or saved meanwhile), the two
+   are exchanged back and the run stops, so that nothing it did not write is removed.
+
 What is replaced
 ----------------
 Only a folder whose manifest matches its contents exactly (the same files, each
-unchanged since penstock wrote it), or an empty folder.  Anything else in the
-way (a file, a folder without a manifest, a workbook edited since, a file added
-by hand) is an error naming the path, and nothing is touched.  No output may be,
-contain or lie inside a case folder (a folder holding ``site.toml``).
+unchanged since penstock wrote it; the desktop's own index files such as
+``.DS_Store`` aside), or an empty folder.  Anything else in the way (a file, a
+folder without a manifest, a workbook edited since, a file added by hand) is an
+error naming the path, and nothing is touched.  No output may be, contain or lie
+inside a case folder (a folder holding ``site.toml``), nor lie inside a report
+folder.  A single workbook (a comparison, a portfolio) carries the SHA-256 of its
+own parts in a document property, and is replaced only while that still matches.
 """
 
 from __future__ import annotations
 
 import contextlib
-import ctypes
 import datetime as _dt
-import errno
+import glob
 import hashlib
 import json
 import os
+import re
 import secrets
 import shutil
-import signal
-import sys
-import threading
 import zipfile
 from pathlib import Path
 
 from ..schema import CASE_FILE
+from .atomic import (
+    TAG,
+    ReportError,
+    ReportInterrupted,
+    ReportLock,
+    exchange,
+    fsync_dir,
+    fsync_file,
+    fsync_tree,
+    os_problem,
+    rename_new,
+    replace_file,
+    signals_held,
+)
+
+__all__ = ["MANIFEST", "ReportError", "ReportInterrupted", "ReportLock", "check_not_in_a_case",
+           "check_output_file", "check_report_folder", "clean_leftovers", "enclosing_case",
+           "enclosing_report", "exchange", "fsync_tree", "new_staging", "os_problem",
+           "publish_folder", "read_manifest", "replaceable", "run_info", "spreadsheet_lock",
+           "write_manifest", "write_workbook_file", "written_by_penstock"]
 
 #: Name of the manifest file in every report folder.
 MANIFEST = "penstock-manifest.json"
-#: Marks hidden staging and aside folders and the lock file of a report.
-_TAG = "penstock"
+#: Files a desktop writes into any folder it shows; not the user's work, so they never
+#: stop a report from being replaced.
+DESKTOP_FILES = {".DS_Store", "Thumbs.db", "desktop.ini", ".directory"}
+#: Name of the document property holding a single workbook's own digest.
+DIGEST_PROPERTY = "penstock-digest"
+#: What the writer puts in that property before the digest is known.
+DIGEST_PLACEHOLDER = "0" * 64
 
 
-class ReportError(OSError):
-    """The report could not be written; the message names the path (exit status 2)."""
+def _user_mode(path: Path, folder: bool = False) -> None:
+    """Give a file or folder penstock wrote the user's usual permissions (the umask)."""
+    umask = os.umask(0)
+    os.umask(umask)
+    os.chmod(path, (0o777 if folder else 0o666) & ~umask)
 
 
-class ReportInterrupted(KeyboardInterrupt):
-    """An interrupt while writing a report; ``published`` tells whether the new one landed."""
-
-    def __init__(self, folder, published: bool):
-        super().__init__(str(folder))
-        self.folder = Path(folder)
-        self.published = published
-
-
-def os_problem(exc: OSError) -> str:
-    """A short reading of an operating-system error for a one-line message."""
-    if exc.errno == errno.ENOSPC:
-        return "the disk is full"
-    if exc.errno == getattr(errno, "EDQUOT", None):
-        return "the disk quota is exceeded"
-    if exc.errno in (errno.EACCES, errno.EPERM):
-        return "permission denied"
-    if exc.errno == errno.EROFS:
-        return "the file system is read-only"
-    return exc.strerror or str(exc) or type(exc).__name__
-
-
-# --------------------------------------------------------------------------- case folders
+# --------------------------------------------------------------------------- cases, reports
 def enclosing_case(path) -> Path | None:
     """The case folder (holding ``site.toml``) that ``path`` is or lies inside, if any."""
     p = Path(os.path.abspath(path))
     for q in (p, *p.parents):
         with contextlib.suppress(OSError):
             if (q / CASE_FILE).exists():
+                return q
+    return None
+
+
+def enclosing_report(path, include_self: bool = True) -> Path | None:
+    """The penstock report folder (holding its manifest) that ``path`` is or lies inside."""
+    p = Path(os.path.abspath(path))
+    for q in ((p,) if include_self else ()) + tuple(p.parents):
+        with contextlib.suppress(OSError):
+            if (q / MANIFEST).is_file():
                 return q
     return None
 
@@ -109,14 +129,12 @@ def _real(path) -> Path:
     return Path(os.path.realpath(os.path.abspath(path)))
 
 
-def enclosing_report(path, include_self: bool = True) -> Path | None:
-    """The penstock report folder (holding its manifest) that ``path`` is or lies inside."""
-    p = Path(os.path.abspath(path))
-    for q in ((p,) if include_self else ()) + tuple(p.parents):
-        with contextlib.suppress(OSError):
-            if (q / MANIFEST).is_file():
-                return q
-    return None
+def _outside(case: Path, name: str) -> str:
+    """A suggested output path beside a case folder, relative to where the user is."""
+    try:
+        return os.path.relpath(case.parent / "reports" / name)
+    except ValueError:   # another drive (Windows)
+        return str(case.parent / "reports" / name)
 
 
 def check_not_in_a_case(path, what: str, case_folders=(), holds: bool = True,
@@ -125,7 +143,8 @@ def check_not_in_a_case(path, what: str, case_folders=(), holds: bool = True,
 
     ``case_folders`` are the cases being run; any folder holding ``site.toml`` counts
     as a case too.  A folder that is replaced or filled (a report, a batch's reports
-    folder) may not hold a case either; a single file only may not lie in one.
+    folder) may not hold a case either; a single file only may not lie in one.  No
+    output may lie inside a report folder (nor be one, unless ``report_itself``).
     """
     real = _real(path)
     case = enclosing_case(real)
@@ -133,10 +152,9 @@ def check_not_in_a_case(path, what: str, case_folders=(), holds: bool = True,
         where = "is" if case == real else "lies inside"
         raise ReportError(f"{path}: the {what} {where} the case folder {case} (it holds "
                           f"{CASE_FILE}); expected an output path outside every case folder, "
-                          "e.g. --out reports/<name>")
+                          f"e.g. --out {_outside(case, Path(path).name or case.name)}")
     for c in case_folders if holds else ():
-        rc = _real(c)
-        if _inside(rc, real):
+        if _inside(_real(c), real):
             raise ReportError(f"{path}: the {what} holds the case folder {c}; expected an "
                               "output path outside every case folder")
     report = enclosing_report(real, include_self=not report_itself)
@@ -165,7 +183,7 @@ def read_manifest(folder: Path) -> dict | None:
         doc = json.loads(path.read_text(encoding="utf-8"))
     except (OSError, ValueError, UnicodeDecodeError):
         return None
-    if not isinstance(doc, dict) or doc.get("written_by") != _TAG:
+    if not isinstance(doc, dict) or doc.get("written_by") != TAG:
         return None
     return doc
 
@@ -177,7 +195,7 @@ def write_manifest(folder: Path, info: dict, status: str = "complete") -> dict:
         for p in sorted(Path(folder).iterdir()):
             if p.name != MANIFEST:
                 files[p.name] = _sha256(p)
-    doc = {"written_by": _TAG, "format": 1, "status": status, **info, "files": files}
+    doc = {"written_by": TAG, "format": 1, "status": status, **info, "files": files}
     (Path(folder) / MANIFEST).write_text(json.dumps(doc, indent=1, ensure_ascii=False) + "\n",
                                          encoding="utf-8")
     return doc
@@ -187,7 +205,8 @@ def replaceable(folder: Path) -> str | None:
     """Why ``folder`` may not be replaced by a new report, or None if it may.
 
     A folder may be replaced when it is empty, or when it holds exactly the files its
-    manifest lists, each unchanged since penstock wrote it.
+    manifest lists, each unchanged since penstock wrote it (desktop index files such as
+    ``.DS_Store`` aside).
     """
     folder = Path(folder)
     if folder.is_symlink():
@@ -197,9 +216,9 @@ def replaceable(folder: Path) -> str | None:
     if not folder.is_dir():
         return "is a file, not a report folder written by penstock"
     try:
-        names = sorted(os.listdir(folder))
+        names = sorted(n for n in os.listdir(folder) if n not in DESKTOP_FILES)
     except OSError as exc:
-        return f"cannot be read ({exc.strerror})"
+        return f"cannot be read ({os_problem(exc)})"
     if not names:
         return None
     doc = read_manifest(folder)
@@ -217,25 +236,11 @@ def replaceable(folder: Path) -> str | None:
         try:
             same = _sha256(p) == listed[name]
         except OSError as exc:
-            return f"holds {p.name}, which cannot be read ({exc.strerror})"
+            return f"holds {p.name}, which cannot be read ({os_problem(exc)})"
         if not same:
             return (f"holds {p.name}, which has changed since penstock wrote it; keep your "
                     "edits by moving it away, or choose another --out")
     return None
-
-
-def check_report_folder(folder, case_folders=()) -> None:
-    """Raise :class:`ReportError` unless a new report may be published at ``folder``."""
-    folder = Path(folder)
-    check_not_in_a_case(folder, "report folder", case_folders, report_itself=True)
-    book = folder / f"{folder.name}.xlsx"
-    lock = spreadsheet_lock(book) if folder.is_dir() else None
-    if lock is not None:
-        raise ReportError(f"{book}: the workbook is open in a spreadsheet application (lock "
-                          f"file {lock.name}); close it and run again")
-    why = replaceable(folder)
-    if why:
-        raise ReportError(f"{folder}: {why}")
 
 
 def spreadsheet_lock(book: Path) -> Path | None:
@@ -248,20 +253,70 @@ def spreadsheet_lock(book: Path) -> Path | None:
              f"~${book.name[2:]}"]
     for name in names:
         p = book.parent / name
-        if p.exists():
+        if os.path.lexists(p):
             return p
     return None
 
 
+def _refuse_open_workbook(book: Path) -> None:
+    lock = spreadsheet_lock(book)
+    if lock is not None:
+        raise ReportError(f"{book}: the workbook is open in a spreadsheet application (lock "
+                          f"file {lock.name}); close it and run again")
+
+
+def check_report_folder(folder, case_folders=()) -> None:
+    """Raise :class:`ReportError` unless a new report may be published at ``folder``."""
+    folder = Path(folder)
+    check_not_in_a_case(folder, "report folder", case_folders, report_itself=True)
+    if folder.is_dir() and not folder.is_symlink():
+        _refuse_open_workbook(folder / f"{folder.name}.xlsx")
+    why = replaceable(folder)
+    if why:
+        raise ReportError(f"{folder}: {why}")
+
+
+# --------------------------------------------------------------------------- single workbooks
+def _parts_digest(z: zipfile.ZipFile) -> str:
+    """SHA-256 of every part of a workbook but its custom properties (where it is kept)."""
+    h = hashlib.sha256()
+    for name in sorted(z.namelist()):
+        if name != "docProps/custom.xml":
+            h.update(name.encode() + b"\0" + z.read(name) + b"\0")
+    return h.hexdigest()
+
+
+def stamp_workbook(path: Path) -> None:
+    """Write a workbook's own digest into its placeholder document property."""
+    path = Path(path)
+    with zipfile.ZipFile(path) as z:
+        digest = _parts_digest(z)
+        custom = z.read("docProps/custom.xml").decode("utf-8")
+        if DIGEST_PLACEHOLDER not in custom:
+            raise ValueError(f"{path}: the workbook has no {DIGEST_PROPERTY} placeholder")
+        parts = [(info, z.read(info.filename)) for info in z.infolist()]
+    tmp = path.with_name(path.name + ".stamp")
+    with zipfile.ZipFile(tmp, "w") as out:
+        for info, data in parts:
+            if info.filename == "docProps/custom.xml":
+                data = custom.replace(DIGEST_PLACEHOLDER, digest).encode("utf-8")
+            out.writestr(info, data)
+    os.replace(tmp, path)
+
+
 def written_by_penstock(path: Path) -> bool:
-    """Whether an existing .xlsx file was written by penstock and not saved since by anyone."""
+    """Whether an .xlsx file is a single workbook penstock wrote, unchanged since.
+
+    Its parts must still match the digest penstock wrote into its document property.
+    """
     try:
         with zipfile.ZipFile(path) as z:
-            core = z.read("docProps/core.xml").decode("utf-8", "replace")
-    except (OSError, KeyError, zipfile.BadZipFile, ValueError):
+            custom = z.read("docProps/custom.xml").decode("utf-8", "replace")
+            digest = _parts_digest(z)
+    except (OSError, KeyError, zipfile.BadZipFile, ValueError, RuntimeError):
         return False
-    return ("<dc:creator>penstock" in core and
-            "<cp:lastModifiedBy>penstock</cp:lastModifiedBy>" in core)
+    m = re.search(rf'name="{DIGEST_PROPERTY}".*?>([0-9a-f]{{64}})<', custom, re.S)
+    return m is not None and m.group(1) == digest
 
 
 def check_output_file(path, case_folders=()) -> None:
@@ -274,98 +329,82 @@ def check_output_file(path, case_folders=()) -> None:
     if path.suffix.lower() != ".xlsx":
         raise ReportError(f"{path}: is not an .xlsx file name; expected e.g. comparison.xlsx")
     if path.exists() and not written_by_penstock(path):
-        raise ReportError(f"{path}: exists and was not written by penstock (or was saved "
+        raise ReportError(f"{path}: exists and was not written by penstock (or was changed "
                           "since); move it away or choose another name")
-    lock = spreadsheet_lock(path)
-    if lock is not None:
-        raise ReportError(f"{path}: the workbook is open in a spreadsheet application (lock "
-                          f"file {lock.name}); close it and run again")
+    _refuse_open_workbook(path)
 
 
-# --------------------------------------------------------------------------- the lock
-class ReportLock:
-    """An exclusive lock on one report name in one folder, held while it is written."""
+def write_workbook_file(target, write, case_folders=()) -> Path:
+    """Write a single workbook (a comparison, a portfolio) at ``target``, all or nothing.
 
-    def __init__(self, parent: Path, name: str):
-        self.path = Path(parent) / f".{name}.{_TAG}-lock"
-        self.report = Path(parent) / name
-        self.fd = None
+    ``write(path)`` writes the workbook, with a :data:`DIGEST_PLACEHOLDER` in its
+    :data:`DIGEST_PROPERTY` document property, to a hidden temporary file beside the
+    target, under the lock of that name; the file is stamped with its digest and then
+    replaces the target in one step.  Leftovers of killed runs are removed first.  Only
+    a workbook penstock wrote and nobody changed since is replaced.
 
-    def __enter__(self):
-        for _ in range(20):
-            try:
-                fd = os.open(self.path, os.O_RDWR | os.O_CREAT, 0o644)
-            except OSError as exc:
-                raise ReportError(f"{self.report}: cannot write in {self.path.parent} "
-                                  f"({os_problem(exc)}); no report was changed") from None
-            try:
-                free = _try_lock(fd)
-            except OSError as exc:
-                os.close(fd)
-                raise ReportError(f"{self.report}: cannot take the report lock "
-                                  f"{self.path.name} ({os_problem(exc)}); no report was "
-                                  "changed") from None
-            except BaseException:
-                os.close(fd)
-                raise
-            if not free:
-                os.close(fd)
-                raise ReportError(f"{self.report}: another penstock run is writing this "
-                                  f"report (lock file {self.path}); wait for it to finish, "
-                                  "or choose another --out")
-            # the holder before us may have removed the file after we opened it
-            try:
-                same = os.path.samestat(os.fstat(fd), os.stat(self.path))
-            except OSError:
-                same = False
-            if same:
-                self.fd = fd
-                with contextlib.suppress(OSError):
-                    os.ftruncate(fd, 0)
-                    os.write(fd, f"{os.getpid()}\n".encode())
-                return self
-            os.close(fd)
-        raise ReportError(f"{self.path}: cannot take the report lock; try again")
+    Raises
+    ------
+    ReportError
+        Nothing was changed.
+    ReportInterrupted
+        ``published`` tells whether the new workbook is in place.
+    """
+    import tempfile
 
-    def __exit__(self, *exc):
-        if self.fd is not None:
-            with contextlib.suppress(OSError):
-                os.unlink(self.path)
-            os.close(self.fd)   # closing releases the lock
-            self.fd = None
-        return False
-
-
-def _try_lock(fd: int) -> bool:
+    target = Path(target)
+    check_output_file(target, case_folders)
     try:
-        import fcntl
-    except ImportError:   # Windows
-        import msvcrt
-
-        try:
-            msvcrt.locking(fd, msvcrt.LK_NBLCK, 1)
-            return True
-        except OSError:
-            return False
-    try:
-        fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
-        return True
+        target.parent.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
-        if exc.errno in (errno.EAGAIN, errno.EACCES, errno.EWOULDBLOCK):
-            return False
+        raise ReportError(f"{target.parent}: cannot create the folder ({os_problem(exc)})"
+                          ) from None
+    prefix = f".{target.stem}.{TAG}-file-"
+    state = {"published": False}
+    try:
+        with ReportLock(target.parent, target.name):
+            for p in target.parent.glob(glob.escape(prefix) + "*.xlsx"):
+                with contextlib.suppress(OSError):
+                    p.unlink()
+            check_output_file(target, case_folders)
+            try:
+                fd, tmp = tempfile.mkstemp(prefix=prefix, suffix=".xlsx", dir=target.parent)
+                os.close(fd)
+            except OSError as exc:
+                raise ReportError(f"{target}: cannot write in {target.parent} "
+                                  f"({os_problem(exc)}); nothing was changed") from None
+            tmp = Path(tmp)
+            try:
+                write(tmp)
+                stamp_workbook(tmp)
+                _user_mode(tmp)
+                fsync_file(tmp)
+                check_output_file(target, case_folders)   # nothing appeared meanwhile
+                replace_file(tmp, target, state)
+            except BaseException as exc:
+                tmp.unlink(missing_ok=True)
+                if isinstance(exc, OSError) and not isinstance(exc, ReportError):
+                    raise ReportError(f"{target}: cannot write the workbook "
+                                      f"({os_problem(exc)}); nothing was changed") from None
+                raise
+    except ReportInterrupted:
         raise
+    except KeyboardInterrupt:
+        raise ReportInterrupted(target, state["published"]) from None
+    return target
 
 
-# --------------------------------------------------------------------------- staging
+# --------------------------------------------------------------------------- report folders
 def _hidden(parent: Path, name: str, kind: str) -> Path:
-    return Path(parent) / f".{name}.{_TAG}-{kind}-{secrets.token_hex(4)}"
+    return Path(parent) / f".{name}.{TAG}-{kind}-{secrets.token_hex(4)}"
 
 
 def clean_leftovers(parent: Path, name: str) -> list[Path]:
     """Remove what killed runs of the report ``name`` left in ``parent`` (lock held).
 
     A folder set aside by the two-rename fallback is put back first when the report
-    itself is missing.  Returns the paths removed or restored.
+    itself is missing.  Only hidden folders of this report's name that carry a
+    penstock manifest are touched.  Returns the paths removed or restored.
     """
     parent = Path(parent)
     done = []
@@ -373,11 +412,11 @@ def clean_leftovers(parent: Path, name: str) -> list[Path]:
         entries = sorted(parent.iterdir())
     except OSError:
         return done
-    prefix = f".{name}.{_TAG}-"
+    prefix = f".{name}.{TAG}-"
     ours = [p for p in entries if p.name.startswith(prefix) and p.is_dir()
             and not p.is_symlink() and read_manifest(p) is not None]
     target = parent / name
-    if not target.exists() and not target.is_symlink():
+    if not os.path.lexists(target):
         aside = [p for p in ours if p.name.startswith(prefix + "aside-")
                  and read_manifest(p).get("status") == "complete"]
         if aside:
@@ -398,126 +437,18 @@ def new_staging(parent: Path, name: str, info: dict) -> Path:
     return path
 
 
-def fsync_tree(folder: Path) -> None:
-    """Flush every file of ``folder`` and the folder itself to disk."""
-    for p in Path(folder).iterdir():
-        fd = os.open(p, os.O_RDONLY)
-        try:
-            os.fsync(fd)
-        finally:
-            os.close(fd)
-    fsync_dir(folder)
-
-
-def fsync_dir(folder: Path) -> None:
-    """Flush a folder's entries (a no-op where folders cannot be opened, e.g. Windows)."""
-    if os.name != "posix":
-        return
-    fd = os.open(folder, os.O_RDONLY)
-    try:
-        os.fsync(fd)
-    finally:
-        os.close(fd)
-
-
-# --------------------------------------------------------------------------- one-step rename
-_RENAME_NOREPLACE, _RENAME_EXCHANGE = 1, 2          # linux/fs.h
-_MAC_RENAME_SWAP, _MAC_RENAME_EXCL = 0x2, 0x4        # sys/stdio.h
-_UNSUPPORTED = {errno.EINVAL, errno.ENOSYS, getattr(errno, "ENOTSUP", 95),
-                getattr(errno, "EOPNOTSUPP", 95)}
-
-
-def _libc():
-    try:
-        return ctypes.CDLL(None, use_errno=True)
-    except OSError:
-        return None
-
-
-def _rename_flags(src: Path, dst: Path, flags: str) -> bool:
-    """Rename with flags ('exchange' or 'noreplace'); False when the system cannot."""
-    libc = _libc()
-    if libc is None:
-        return False
-    a, b = os.fsencode(os.fspath(src)), os.fsencode(os.fspath(dst))
-    if sys.platform.startswith("linux") and hasattr(libc, "renameat2"):
-        fn = libc.renameat2
-        fn.argtypes = [ctypes.c_int, ctypes.c_char_p, ctypes.c_int, ctypes.c_char_p,
-                       ctypes.c_uint]
-        fn.restype = ctypes.c_int
-        at_fdcwd = -100
-        flag = _RENAME_EXCHANGE if flags == "exchange" else _RENAME_NOREPLACE
-        rc = fn(at_fdcwd, a, at_fdcwd, b, flag)
-    elif sys.platform == "darwin" and hasattr(libc, "renamex_np"):
-        fn = libc.renamex_np
-        fn.argtypes = [ctypes.c_char_p, ctypes.c_char_p, ctypes.c_uint]
-        fn.restype = ctypes.c_int
-        rc = fn(a, b, _MAC_RENAME_SWAP if flags == "exchange" else _MAC_RENAME_EXCL)
-    else:
-        return False
-    if rc == 0:
-        return True
-    err = ctypes.get_errno()
-    if err in _UNSUPPORTED:
-        return False
-    raise OSError(err, os.strerror(err), os.fspath(dst))
-
-
-def exchange(src: Path, dst: Path) -> bool:
-    """Swap two existing folders in one step; False where the system cannot."""
-    return _rename_flags(src, dst, "exchange")
-
-
-def rename_new(src: Path, dst: Path) -> None:
-    """Rename ``src`` to ``dst``, which must not exist, in one step."""
-    if not _rename_flags(src, dst, "noreplace"):
-        if os.path.lexists(dst):
-            raise FileExistsError(errno.EEXIST, "exists", os.fspath(dst))
-        os.rename(src, dst)
-
-
-@contextlib.contextmanager
-def signals_held():
-    """Hold back SIGINT and SIGTERM for the duration; act on them on exit.
-
-    The Python-level handlers are swapped for one that only records the signal (a
-    signal mask would not do: the system may hand a signal to any thread that does not
-    block it, such as a numerical library's, and Python then acts on it in the main
-    thread at once).  On exit the handlers are put back and a recorded signal is
-    acted on as it would have been.
-    """
-    names = [n for n in ("SIGINT", "SIGTERM") if hasattr(signal, n)]
-    if threading.current_thread() is not threading.main_thread():
-        yield   # only the main thread ever receives Python's signal handlers
-        return
-    pending: list[int] = []
-
-    def hold(signum, frame):
-        pending.append(signum)
-
-    saved = {}
-    for n in names:
-        sig = getattr(signal, n)
-        saved[sig] = signal.signal(sig, hold)
-    try:
-        yield
-    finally:
-        for sig, handler in saved.items():
-            signal.signal(sig, handler)
-        if pending:
-            sig = pending[0]
-            handler = saved[sig]
-            if callable(handler):
-                handler(sig, None)          # e.g. raises KeyboardInterrupt
-            elif handler == signal.SIG_DFL:
-                os.kill(os.getpid(), sig)   # the default action, now that we are done
-
-
 def publish_folder(staging: Path, target: Path, state: dict) -> Path | None:
     """Put the complete ``staging`` folder in place of ``target`` in one step.
 
     Sets ``state["published"]`` in the same step.  Returns the hidden path now holding
-    the previous report (to be removed by the caller), or None.
+    the previous report, checked once more to be penstock's own (to be removed by the
+    caller), or None.
+
+    Raises
+    ------
+    ReportError
+        The previous report changed while the new one was written: the two are put
+        back as they were, and nothing was changed.
     """
     staging, target = Path(staging), Path(target)
     with signals_held():
@@ -526,78 +457,34 @@ def publish_folder(staging: Path, target: Path, state: dict) -> Path | None:
             state["published"] = True
             old = None
         elif exchange(staging, target):
+            why = replaceable(staging)          # the previous report, now under the hidden name
+            if why:
+                exchange(staging, target)       # put both back as they were
+                raise ReportError(f"{target}: changed while the new report was being "
+                                  f"written ({why.split(';')[0]}); nothing was changed")
             state["published"] = True
-            old = staging                       # now holds the previous report
+            old = staging
         else:
             # no atomic exchange here: set the old report aside, then rename the new one in
             old = _hidden(target.parent, target.name, "aside")
             os.rename(target, old)
+            why = replaceable(old)
             try:
+                if why:
+                    raise ReportError(f"{target}: changed while the new report was being "
+                                      f"written ({why.split(';')[0]}); nothing was changed")
                 os.rename(staging, target)
             except BaseException:
-                os.rename(old, target)
+                try:
+                    os.rename(old, target)
+                except OSError as exc:
+                    raise ReportError(f"{target}: the earlier report was set aside as {old} "
+                                      f"and could not be put back ({os_problem(exc)}); the "
+                                      "next run puts it back") from None
                 raise
             state["published"] = True
     fsync_dir(target.parent)
     return old
-
-
-def replace_file(tmp: Path, target: Path) -> None:
-    """Replace a single file in one step (``os.replace`` is atomic on one file system)."""
-    with signals_held():
-        os.replace(tmp, target)
-    with contextlib.suppress(OSError):
-        fsync_dir(Path(target).parent)
-
-
-def write_workbook_file(target, write, case_folders=()) -> Path:
-    """Write a single workbook (a comparison, a portfolio) at ``target``, all or nothing.
-
-    ``write(path)`` writes the workbook to a hidden temporary file beside the target,
-    under the report lock of that name; the temporary file then replaces the target in
-    one step.  Leftovers of killed runs are removed first.  Only a workbook penstock
-    wrote and nobody saved since is replaced (:func:`check_output_file`).
-    """
-    import tempfile
-
-    target = Path(target)
-    check_output_file(target, case_folders)
-    try:
-        target.parent.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        raise ReportError(f"{target.parent}: cannot create the folder ({os_problem(exc)})"
-                          ) from None
-    prefix = f".{target.stem}.{_TAG}-file-"
-    with ReportLock(target.parent, target.name):
-        for p in target.parent.glob(prefix + "*.xlsx"):
-            with contextlib.suppress(OSError):
-                p.unlink()
-        check_output_file(target, case_folders)
-        try:
-            fd, tmp = tempfile.mkstemp(prefix=prefix, suffix=".xlsx", dir=target.parent)
-            os.close(fd)
-        except OSError as exc:
-            raise ReportError(f"{target}: cannot write in {target.parent} "
-                              f"({os_problem(exc)}); nothing was changed") from None
-        tmp = Path(tmp)
-        try:
-            write(tmp)
-            umask = os.umask(0)
-            os.umask(umask)
-            os.chmod(tmp, 0o666 & ~umask)
-            with open(tmp, "rb") as fh:
-                os.fsync(fh.fileno())
-            replace_file(tmp, target)
-        except OSError as exc:
-            tmp.unlink(missing_ok=True)
-            if isinstance(exc, ReportError):
-                raise
-            raise ReportError(f"{target}: cannot write the workbook ({os_problem(exc)}); "
-                              "nothing was changed") from None
-        except BaseException:
-            tmp.unlink(missing_ok=True)
-            raise
-    return target
 
 
 def run_info(results) -> dict:
