@@ -64,6 +64,18 @@ def test_written_csv_reads_back_cell_for_cell(tmp_path):
     assert list(back["count"]) == list(range(7))
 
 
+def test_missing_values_and_other_types(tmp_path):
+    path = tmp_path / "t.csv"
+    df = pd.DataFrame({"n": pd.array([1, None], dtype="Int64"),
+                       "x [m]": [np.inf, -np.inf],
+                       "when": pd.to_datetime(["2008-01-01", None]),
+                       "step": pd.to_timedelta(["1 h", None])})
+    write_csv(df, path)
+    lines = path.read_text(encoding="utf-8").splitlines()
+    assert lines[1] == '1,inf,"2008-01-01T00:00:00","P0DT1H0M0S"'
+    assert lines[2] == ',-inf,,'
+
+
 def test_numbers_are_bare_and_text_quoted(tmp_path):
     path = tmp_path / "t.csv"
     write_csv(pd.DataFrame({"a": ["x"], "b [m]": [2.5], "n": [3]}), path)

@@ -57,29 +57,42 @@ def _quoted(text: str) -> str:
     return '"' + safe_text(text).replace('"', '""') + '"'
 
 
+def _number(v) -> str:
+    """A number as a CSV field: 14 significant digits; infinities kept, NaN empty."""
+    v = float(v)
+    if v != v:
+        return ""
+    if v in (float("inf"), float("-inf")):
+        return "inf" if v > 0 else "-inf"
+    return f"{v:.14g}"
+
+
 def _column_fields(series) -> list[str]:
-    """The CSV fields of one column: numbers bare (14 significant digits), text quoted."""
+    """The CSV fields of one column: numbers bare (14 significant digits), text quoted.
+
+    Missing values (NaN, None, NaT, pandas' NA) are empty fields; datetimes and
+    durations are written as text in ISO form.
+    """
     import numpy as np
     import pandas as pd
 
-    values = series.to_numpy()
+    missing = series.isna().to_numpy()
     kind = series.dtype.kind
-    if kind == "f":
-        return ["" if not np.isfinite(v) else f"{v:.14g}" for v in values]
-    if kind in "iu":
-        return [str(int(v)) for v in values]
-    if kind == "b":
-        return ["TRUE" if v else "FALSE" for v in values]
+    values = series.to_numpy(dtype=object)
     out = []
-    for v in values:
-        if v is None or (isinstance(v, float) and not np.isfinite(v)) or v is pd.NaT:
+    for v, na in zip(values, missing, strict=True):
+        if na:
             out.append("")
-        elif isinstance(v, (bool, np.bool_)):
+        elif kind == "b" or isinstance(v, (bool, np.bool_)):
             out.append("TRUE" if v else "FALSE")
         elif isinstance(v, (int, np.integer)):
             out.append(str(int(v)))
         elif isinstance(v, (float, np.floating)):
-            out.append(f"{float(v):.14g}")
+            out.append(_number(v))
+        elif isinstance(v, (pd.Timestamp, np.datetime64)):
+            out.append(_quoted(pd.Timestamp(v).isoformat()))
+        elif isinstance(v, (pd.Timedelta, np.timedelta64)):
+            out.append(_quoted(pd.Timedelta(v).isoformat()))
         else:
             out.append(_quoted(str(v)))
     return out
