@@ -22,17 +22,8 @@ import numpy as np
 import pandas as pd
 
 from . import csvfile, fittings, friction, route, units
+from .errors import CaseError
 from .schema import CASE_FILE, COLUMN_BOUNDS, SECTIONS, SECTIONS_BY_NAME, Field, Section
-
-
-class CaseError(ValueError):
-    """A case folder that cannot be run.  The message is one line for the user."""
-
-    def __init__(self, file: str, where: str, problem: str):
-        self.file = file
-        self.where = where
-        self.problem = problem
-        super().__init__(f"{file}: {where}: {problem}" if where else f"{file}: {problem}")
 
 
 # --------------------------------------------------------------------------- case objects
@@ -566,7 +557,7 @@ def load_case(path) -> Case:
                             for f in sec.fields}
 
     site, water, levels, route = (values[k] for k in ("site", "water", "levels", "route"))
-    from .model.core import Say
+    from .cautions import Say
 
     rd.say = Say(site["units"])
     flows, turbine = values["flows"], values["turbine"]

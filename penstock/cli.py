@@ -67,7 +67,10 @@ def _say(quiet: bool, text: str):
 
 
 def cmd_check(args) -> int:
+    from .model import check_case
+
     case = load_case(args.case)
+    check_case(case, proceed=args.run_anyway)
     _say(args.quiet, f"{args.case}: valid ({len(case.segments)} pipe segments, "
          f"{len(case.losses)} local losses, {len(case.profile)} profile points)")
     return 0
@@ -254,9 +257,11 @@ def cmd_compare(args) -> int:
             if results.diameter_candidates is None:
                 raise CaseError(case.slug, "", "the diameter study does not apply to this case "
                                 "(see its cautions)")
+            from .model.sizing import SAME_SIZE
+
             shown = results.diameter_candidates["diameter [m]"].to_numpy()
             for d in case.diameter_study["candidates"]:
-                if not any(abs(d - x) <= 1e-9 * d for x in shown):
+                if not any(abs(d - x) <= SAME_SIZE * d for x in shown):
                     raise CaseError("--diameters", "", f"{Say(case.unit_system).m(d, 3)} "
                                     "loses more than half the "
                                     "gross head at the design flow, so it cannot be compared; "
@@ -384,6 +389,8 @@ def build_parser() -> argparse.ArgumentParser:
                         epilog=EXAMPLES["check"],
                         formatter_class=argparse.RawDescriptionHelpFormatter)
     common(sp)
+    sp.add_argument("--run-anyway", action="store_true", help="accept a case the tool's own "
+                    "checks find physically impossible, as run --run-anyway does")
     sp.set_defaults(func=cmd_check)
 
     sp = sub.add_parser("compare", help="compare penstock diameters of a case, or several cases",

@@ -18,3 +18,11 @@ SECONDS_PER_HOUR = 3600.0
 
 #: Hours in a (non-leap) year, the usual basis for capacity factor. [h]
 HOURS_PER_YEAR = 8760.0
+
+#: Joules in one kilowatt-hour and in one megawatt-hour (exact). [J]
+J_PER_KWH = 3.6e6
+J_PER_MWH = 3.6e9
+
+#: The international foot and inch (exact, 1959). [m]
+FOOT = 0.3048
+INCH = 0.0254

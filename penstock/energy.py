@@ -33,6 +33,8 @@ __all__ = [
     "electrical_power",
     "simulate_plant",
     "energy_summary",
+    "mean_annual_weights",
+    "net_head",
     "design_flow_study",
 ]
 
@@ -142,6 +144,74 @@ def _net_head(gross, head_loss):
     if callable(head_loss):
         return lambda total_flow: gross - np.asarray(head_loss(total_flow), dtype=float)
     return gross - np.asarray(head_loss, dtype=float)
+
+
+def net_head(gross_head, penstock_loss, draft_tube_recovery=0.0):
+    """Net head at the turbine, penstock's one convention.
+
+    Parameters
+    ----------
+    gross_head : numeric
+        Headwater less tailwater; for an impulse runner set above the tailwater, less
+        the runner's level instead (the head below the runner is lost). [m]
+    penstock_loss : numeric
+        Head lost from the reservoir to the turbine inlet (friction and local losses,
+        intake and valves included). [m]
+    draft_tube_recovery : numeric, default 0
+        Head a draft tube recovers over discharging straight from the runner outlet,
+        from :func:`penstock.drafttube.velocity_head_recovery`; 0 without one. [m]
+
+    Returns
+    -------
+    numeric
+        Net head. [m]
+
+    Notes
+    -----
+    .. math:: H_n = H_g - h_{penstock} + \\Delta H_{draft\\ tube}
+
+    The turbine efficiency curve is taken as that of the machine with its runner-outlet
+    velocity head lost, as at an abrupt exit into the tailwater, so that without a draft
+    tube nothing more is charged at the outlet and a draft tube adds the head it
+    recovers (negative only for a cone wider than Gibson's tests favour, which loses
+    more than an abrupt exit). The same convention serves the energy, the installed
+    capacity, the diameter study and the turbine setting.
+    """
+    return gross_head - penstock_loss + draft_tube_recovery
+
+
+def mean_annual_weights(index):
+    """Per-step weights turning a per-step quantity into its mean annual value.
+
+    Parameters
+    ----------
+    index : pandas.DatetimeIndex
+        Timestamps of a regular record without gaps or duplicates. [-]
+
+    Returns
+    -------
+    numpy.ndarray
+        ``w`` with ``sum(w * x)`` the mean annual value of a per-step quantity ``x``
+        on the basis of :func:`energy_summary`: steps of complete calendar years
+        weigh 1 / (number of complete years), other steps 0; with no complete year,
+        every step weighs 8760 h over the record's duration. [1/year]
+    """
+    index = pd.DatetimeIndex(index)
+    if len(index) < 2:
+        raise ValueError("index: expected a record of at least two steps")
+    step = index[1] - index[0]
+    years = np.asarray(index.year)
+    unique_years, pos = np.unique(years, return_inverse=True)
+    counts = np.bincount(pos, minlength=unique_years.size)
+    tz = index.tz
+    expected = np.rint(np.array([(pd.Timestamp(year=int(y) + 1, month=1, day=1, tz=tz)
+                                  - pd.Timestamp(year=int(y), month=1, day=1, tz=tz)) / step
+                                 for y in unique_years]))
+    complete = counts >= expected
+    if complete.any():
+        return np.where(complete[pos], 1.0 / complete.sum(), 0.0)
+    duration = len(index) * step.total_seconds()
+    return np.full(len(index), HOURS_PER_YEAR * SECONDS_PER_HOUR / duration)
 
 
 def simulate_plant(river_flow, gross_head, rated_flow_per_unit, *, density, n_units=1,

@@ -31,6 +31,26 @@ from . import friction
 from .constants import GRAVITY
 
 
+def mean_velocity(flow, diameter):
+    """Mean velocity of a flow in a full circular pipe.
+
+    Parameters
+    ----------
+    flow : array_like
+        Flow. [m^3/s]
+    diameter : array_like
+        Inside diameter. [m]
+
+    Returns
+    -------
+    numpy.ndarray or float
+        :math:`V = 4Q/(\\pi D^2)` (continuity). [m/s]
+    """
+    d = np.asarray(diameter, dtype=float)
+    v = np.asarray(flow, dtype=float) / (np.pi * d**2 / 4.0)
+    return float(v) if v.ndim == 0 else v
+
+
 def velocity_head(flow, area):
     """Velocity head V²/(2g) of a flow through an area.
 
@@ -149,6 +169,52 @@ def grade_lines(flow, headwater, chainage, elevation, node_area, length, diamete
 
 
 # --------------------------------------------------------------------------- checks
+def crown_pressure_head(pressure_head, diameter, drawdown=0.0):
+    """Gauge pressure head at the pipe crown, from the head at the centreline.
+
+    Parameters
+    ----------
+    pressure_head : array_like
+        Gauge pressure head at the pipe centreline (hydraulic grade line less the
+        centreline elevation). [m]
+    diameter : array_like
+        Pipe inside diameter at the same points. [m]
+    drawdown : float or array_like, default 0
+        How far the headwater lies below the level the grade line was drawn from
+        (for instance normal less minimum headwater), >= 0. Head losses do not depend
+        on the headwater level, so the whole line falls by this amount. [m]
+
+    Returns
+    -------
+    numpy.ndarray
+        Gauge pressure head at the crown. [m]
+
+    Notes
+    -----
+    .. math:: h_{crown} = h_{centre} - D/2 - \\Delta z_{hw}
+
+    Hydrostatics across the section: in a full pipe the piezometric head is uniform
+    over a cross-section (straight, parallel streamlines), so the pressure head falls
+    by the height above the centreline, D/2 at the crown, where the pressure is least.
+    Checking there, with the headwater at its minimum, is the conservative basis of
+    every pressure check in penstock.
+
+    References
+    ----------
+    .. [1] Streeter, V.L., Wylie, E.B. & Bedford, K.W. (1998). Fluid Mechanics, 9th
+       ed., McGraw-Hill, ch. 3 (pressure variation in a fluid at rest and across
+       parallel streamlines) (from memory).
+    """
+    p = np.asarray(pressure_head, dtype=float)
+    d = np.asarray(diameter, dtype=float)
+    dz = np.asarray(drawdown, dtype=float)
+    if np.any(d <= 0.0) or not np.all(np.isfinite(d)):
+        raise ValueError("diameter must be finite and positive [m].")
+    if np.any(dz < 0.0):
+        raise ValueError("drawdown must be >= 0 [m].")
+    return p - 0.5 * d - dz
+
+
 def flagged_stretches(chainage, value, threshold):
     """Stretches of a route where a value falls below a threshold.
 

@@ -696,3 +696,43 @@ def get_material(name, overrides=None):
         sources[key] = "user override"
     kwargs["sources"] = sources
     return make_material(kwargs.pop("name"), kwargs.pop("kind"), **kwargs)
+
+
+#: Registry material standing for each pipe material of the roughness table, for the
+#: wall modulus of the wave speed; None where the registry holds no such material.
+_MODULUS_SOURCE = {
+    "welded_steel": "astm_a36",
+    "riveted_steel": "astm_a36",
+    "ductile_iron_cement_lined": "ductile_iron_awwa",
+    "grp": "grp_awwa_c950",
+    "hdpe": "hdpe_pe100",
+}
+
+#: Wall moduli for pipe materials the registry does not hold (common practice, from
+#: memory): PVC short-term modulus, and uncracked concrete. [Pa]
+_MODULUS_FALLBACK = {
+    "pvc": 3.0e9,
+    "concrete_smooth": 30e9,
+    "concrete_rough": 30e9,
+}
+
+
+def pipe_wall_modulus(pipe_material):
+    """Young's modulus of a pipe wall, by the case's pipe material name.
+
+    Parameters
+    ----------
+    pipe_material : str
+        A material of the roughness table (``welded_steel``, ``hdpe``, ...). [-]
+
+    Returns
+    -------
+    float
+        Modulus from :data:`MATERIALS` where the registry holds the material, else a
+        common-practice value; steel's for an unknown name. [Pa]
+    """
+    if pipe_material in _MODULUS_SOURCE:
+        return float(MATERIALS[_MODULUS_SOURCE[pipe_material]].elastic_modulus)
+    if pipe_material in _MODULUS_FALLBACK:
+        return _MODULUS_FALLBACK[pipe_material]
+    return float(MATERIALS[_MODULUS_SOURCE["welded_steel"]].elastic_modulus)

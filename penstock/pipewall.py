@@ -38,6 +38,8 @@ __all__ = [
     "select_pressure_class",
     "standard_plate_thicknesses",
     "steel_mass",
+    "vacuum_check",
+    "vacuum_thickness",
     "wall_along_route",
 ]
 
@@ -277,8 +279,18 @@ class WallProfile:
         Larger of the two. [m]
     plate_thickness : numpy.ndarray
         Required thickness rounded up to an available plate. [m]
+    vacuum_thickness : numpy.ndarray
+        Plate that resists the external pressure unstiffened (zero when none is given),
+        see :func:`vacuum_thickness`. [m]
+    beyond_plates : numpy.ndarray of bool
+        Stations whose required thickness exceeds the thickest plate; their
+        ``plate_thickness`` is the required thickness itself. [-]
+    reach_required, reach_plate : numpy.ndarray
+        Per reach between consecutive stations (one fewer than the stations): the
+        larger of its two ends, since a reach is one run of plate. [m]
     steps : tuple of (float, float, float)
-        Runs of constant plate thickness: (start chainage, end chainage, thickness). [m]
+        Runs of constant plate thickness: (start chainage, end chainage, thickness),
+        from the reaches. [m]
     """
 
     chainage: np.ndarray
@@ -288,6 +300,10 @@ class WallProfile:
     required_thickness: np.ndarray
     plate_thickness: np.ndarray
     steps: tuple
+    vacuum_thickness: np.ndarray = None
+    beyond_plates: np.ndarray = None
+    reach_required: np.ndarray = None
+    reach_plate: np.ndarray = None
 
 
 def wall_along_route(
@@ -301,6 +317,9 @@ def wall_along_route(
     corrosion_allowance=0.0,
     handling_rule="usbr",
     water_density=_WATER_DENSITY,
+    external_pressure=None,
+    buckling_safety=1.5,
+    beyond_plates="raise",
 ):
     """Steel wall thickness at each station of a route, rounded to available plates.
 
@@ -324,6 +343,16 @@ def wall_along_route(
         Key of :data:`HANDLING_RULES`, or None for no handling minimum. [-]
     water_density : float
         Density used to turn head into pressure. [kg/m^3]
+    external_pressure : float, optional
+        Net external pressure the unstiffened wall must also resist, e.g. full vacuum
+        (the local atmospheric pressure); needs the material's ``elastic_modulus`` and
+        ``poisson_ratio``. Default: no external-pressure rule. [Pa]
+    buckling_safety : float, default 1.5
+        Safety factor on the critical buckling pressure (common practice, from
+        memory). [-]
+    beyond_plates : {"raise", "keep"}, default "raise"
+        Where no plate is thick enough: raise ``ValueError``, or keep the required
+        thickness and flag the station in ``beyond_plates``. [-]
 
     Returns
     -------
@@ -331,9 +360,11 @@ def wall_along_route(
 
     Notes
     -----
-    :math:`p = \\rho g h`, :math:`t = \\max(p D / (2 \\sigma_a E_j) + c,\\ t_{min})`,
-    rounded up with :func:`round_up_to_plates`. A station's plate governs the run from it
-    to the next station; the last station closes the last run.
+    :math:`p = \\rho g h`, :math:`t = \\max(p D / (2 \\sigma_a E_j) + c,\\ t_{min},
+    t_{vac})`, rounded up with :func:`round_up_to_plates`; :math:`t_{vac}` from
+    :func:`vacuum_thickness`. A reach between two stations is one run of plate, so it
+    takes the thicker of its two ends (the conservative choice where the pressure
+    rises along the reach).
     """
     material.require("allowable_stress", purpose="wall_along_route (hoop thickness)")
     x = _array("chainage", chainage, unit="m")
@@ -354,14 +385,36 @@ def wall_along_route(
         t_min = np.zeros_like(x)
     else:
         t_min = np.asarray(minimum_handling_thickness(d, handling_rule))
-    t_req = np.maximum(t_hoop, t_min)
-    t_plate = np.asarray(round_up_to_plates(t_req, plates))
-    change = np.flatnonzero(np.diff(t_plate) != 0.0) + 1
-    starts = np.concatenate(([0], change))
-    ends = np.concatenate((change, [x.size - 1]))
-    steps = tuple(
-        (float(x[s]), float(x[e]), float(t_plate[s])) for s, e in zip(starts, ends, strict=True)
-    )
+    if external_pressure is None:
+        t_vac = np.zeros_like(x)
+    else:
+        material.require("elastic_modulus", purpose="wall_along_route (vacuum buckling)")
+        t_vac = np.asarray(vacuum_thickness(
+            d, material.elastic_modulus, material.poisson_ratio, external_pressure,
+            buckling_safety, corrosion_allowance), dtype=float) * np.ones_like(x)
+    t_req = np.maximum(np.maximum(t_hoop, t_min), t_vac)
+    if beyond_plates not in ("raise", "keep"):
+        raise ValueError("beyond_plates must be 'raise' or 'keep' [-].")
+    plates = np.sort(np.asarray(plates, dtype=float))
+    beyond = t_req > plates[-1] * (1.0 + 1e-12)
+    if beyond_plates == "keep":
+        rounded = np.asarray(round_up_to_plates(np.minimum(t_req, plates[-1]), plates))
+        t_plate = np.where(beyond, t_req, rounded)
+    else:
+        t_plate = np.asarray(round_up_to_plates(t_req, plates))
+    if x.size > 1:
+        reach_req = np.maximum(t_req[:-1], t_req[1:])
+        reach_plate = np.maximum(t_plate[:-1], t_plate[1:])
+    else:
+        reach_req = reach_plate = np.empty(0)
+    steps = []
+    for j, t in enumerate(reach_plate):
+        if steps and steps[-1][2] == t:
+            steps[-1] = (steps[-1][0], float(x[j + 1]), steps[-1][2])
+        else:
+            steps.append((float(x[j]), float(x[j + 1]), float(t)))
+    if x.size == 1:
+        steps = [(float(x[0]), float(x[0]), float(t_plate[0]))]
     return WallProfile(
         chainage=x,
         pressure=p,
@@ -369,7 +422,11 @@ def wall_along_route(
         handling_thickness=t_min,
         required_thickness=t_req,
         plate_thickness=t_plate,
-        steps=steps,
+        steps=tuple(steps),
+        vacuum_thickness=t_vac,
+        beyond_plates=beyond,
+        reach_required=reach_req,
+        reach_plate=reach_plate,
     )
 
 
@@ -587,3 +644,98 @@ def buckling_check(
         "needs_stiffeners": needs,
         "thickness_unstiffened": _finish(t_unstiffened, *args),
     }
+
+
+def vacuum_thickness(
+    inside_diameter,
+    elastic_modulus,
+    poisson_ratio,
+    external_pressure=P_ATM_SEA_LEVEL,
+    safety_factor=1.5,
+    corrosion_allowance=0.0,
+):
+    """Plate thickness whose unstiffened wall resists an external pressure.
+
+    Parameters
+    ----------
+    inside_diameter : numeric
+        Inside diameter of the pipe. [m]
+    elastic_modulus : numeric
+        Young's modulus of the wall. [Pa]
+    poisson_ratio : numeric
+        Poisson ratio of the wall. [-]
+    external_pressure : numeric
+        Net external pressure, e.g. full vacuum (the local atmospheric pressure). [Pa]
+    safety_factor : numeric
+        Required :math:`p_{cr}/p`; 1.5 common practice (from memory). [-]
+    corrosion_allowance : numeric
+        Part of the plate not counted on to carry load. [m]
+
+    Returns
+    -------
+    numeric
+        Plate thickness, corrosion allowance included. [m]
+
+    Notes
+    -----
+    The load-bearing wall is the plate less the corrosion allowance,
+    :math:`t_n = t - c`, on the mean diameter :math:`D_m = D_i + t`
+    (:func:`critical_buckling_pressure`). With
+    :math:`k = (F p (1 - \\nu^2) / (2 E))^{1/3}`, :math:`t_n = k D_m` gives
+
+    .. math:: t = \\frac{k (D_i + c)}{1 - k} + c
+
+    so that :func:`vacuum_check` of the result has a utilisation of exactly one.
+    """
+    d = _array("inside_diameter", inside_diameter, positive=True, unit="m")
+    c = _array("corrosion_allowance", corrosion_allowance, nonnegative=True, unit="m")
+    k = np.asarray(buckling_thickness(external_pressure, 1.0, elastic_modulus, poisson_ratio,
+                                      safety_factor), dtype=float)
+    t = k * (d + c) / (1.0 - k) + c
+    return _finish(t, inside_diameter, elastic_modulus, poisson_ratio, external_pressure,
+                   safety_factor, corrosion_allowance)
+
+
+def vacuum_check(
+    plate_thickness,
+    inside_diameter,
+    elastic_modulus,
+    poisson_ratio,
+    external_pressure=P_ATM_SEA_LEVEL,
+    safety_factor=1.5,
+    corrosion_allowance=0.0,
+):
+    """:func:`buckling_check` of a plate on a pipe given by its inside diameter.
+
+    Parameters
+    ----------
+    plate_thickness : numeric
+        Plate thickness as rolled, corrosion allowance included. [m]
+    inside_diameter : numeric
+        Inside diameter. [m]
+    elastic_modulus, poisson_ratio : numeric
+        Wall properties. [Pa], [-]
+    external_pressure : numeric
+        Net external pressure. [Pa]
+    safety_factor : numeric
+        Required :math:`p_{cr}/p`. [-]
+    corrosion_allowance : numeric
+        Not counted on to carry load. [m]
+
+    Returns
+    -------
+    dict
+        As :func:`buckling_check`.
+
+    Notes
+    -----
+    Applies the convention of :func:`critical_buckling_pressure`: thickness less the
+    corrosion allowance, :math:`t - c`, on the mean diameter :math:`D_i + t`.
+    """
+    t = _array("plate_thickness", plate_thickness, positive=True, unit="m")
+    c = _array("corrosion_allowance", corrosion_allowance, nonnegative=True, unit="m")
+    d = _array("inside_diameter", inside_diameter, positive=True, unit="m")
+    if np.any(t <= c):
+        raise ValueError("plate_thickness must exceed the corrosion_allowance [m].")
+    return buckling_check(t - c, d + t, elastic_modulus, poisson_ratio, external_pressure,
+                          safety_factor)

@@ -77,7 +77,8 @@ class Route:
 
     chainage: np.ndarray       # (n_node,)
     elevation: np.ndarray      # (n_node,)
-    node_area: np.ndarray      # (n_node,), inf at the reservoir
+    node_area: np.ndarray      # (n_node,), inf at the reservoir and past an exit
+    node_diameter: np.ndarray  # (n_node,) pipe inside diameter, nan at the reservoir
     node_label: np.ndarray     # (n_node,) text
     is_reservoir: np.ndarray   # (n_node,) bool
     length: np.ndarray         # (n_element,)
@@ -128,7 +129,7 @@ def build_route(case, warns=None, methods=None) -> Route:
     -------
     Route
     """
-    from .model.core import Say, Warning_  # local import: model imports this module
+    from .cautions import Say, Warning_
 
     say = Say(case.unit_system)
 
@@ -152,13 +153,15 @@ def build_route(case, warns=None, methods=None) -> Route:
     changes = {segs[i + 1].start: (segs[i].diameter, segs[i + 1].diameter)
                for i in range(len(segs) - 1) if segs[i + 1].diameter != segs[i].diameter}
 
-    nodes = [(xs[0], zs[0], math.inf, "reservoir", True)]
+    # (chainage, elevation, flow area, label, is the reservoir, pipe diameter); past an
+    # exit the water is in the tailwater (infinite area) but the pipe is still there
+    nodes = [(xs[0], zs[0], math.inf, "reservoir", True, math.nan)]
     elems = []      # (length, diameter, roughness, k, reference area, group, segment)
     group_kind: dict[str, str] = {}
 
-    def step(j, k, ref_area, name, new_area, diameter):
+    def step(j, k, ref_area, name, new_area, diameter, node_diameter):
         elems.append((0.0, diameter, 0.0, k, ref_area, name, -1))
-        nodes.append((xs[j], zs[j], new_area, name, False))
+        nodes.append((xs[j], zs[j], new_area, name, False, node_diameter))
         group_kind.setdefault(name, "local")
 
     for j, x in enumerate(xs):
@@ -167,7 +170,7 @@ def build_route(case, warns=None, methods=None) -> Route:
         here = losses_at.get(j, [])
         if j == 0 and not any(ls.kind in ("entrance", "trashrack") for ls in here):
             step(0, 0.0, segs[down].area, "entrance (none given)", segs[down].area,
-                 segs[down].diameter)
+                 segs[down].diameter, segs[down].diameter)
             if warns is not None:
                 warns.append(Warning_("losses", "no entrance or trashrack loss is given at the "
                                       "intake; none is counted", chainage=float(x),
@@ -178,7 +181,7 @@ def build_route(case, warns=None, methods=None) -> Route:
                 d_down = d_up
             k, ref_area = loss_k_and_area(ls.kind, ls.params, d_up, d_down, ls.k)
             step(j, k, ref_area, ls.label,
-                 math.inf if ls.kind == "exit" else segs[down].area, d_up)
+                 math.inf if ls.kind == "exit" else segs[down].area, d_up, d_down)
             if methods is not None:
                 methods.add("Local losses", *_method_of(ls))
         if x in changes and not any(ls.kind in ("contraction", "expansion") for ls in here):
@@ -186,7 +189,7 @@ def build_route(case, warns=None, methods=None) -> Route:
             kind = "contraction" if d2 < d1 else "expansion"
             k, ref_area = loss_k_and_area(kind, {"angle": DEFAULT_TRANSITION_ANGLE}, d1, d2)
             name = f"{kind} at {say.ch(x)} (assumed 15° cone)"
-            step(j, k, ref_area, name, segs[down].area, d1)
+            step(j, k, ref_area, name, segs[down].area, d1, d2)
             if warns is not None:
                 warns.append(Warning_("losses", f"diameter changes from {say.m(d1, 3)} to "
                                       f"{say.m(d2, 3)} at {say.ch(x)} with no transition loss "
@@ -199,16 +202,17 @@ def build_route(case, warns=None, methods=None) -> Route:
                     f"D {say.m(seg.diameter, 3)})")
             elems.append((math.hypot(xs[j + 1] - x, zs[j + 1] - zs[j]), seg.diameter,
                           seg.roughness, 0.0, seg.area, name, s))
-            nodes.append((xs[j + 1], zs[j + 1], seg.area, "profile", False))
+            nodes.append((xs[j + 1], zs[j + 1], seg.area, "profile", False, seg.diameter))
             group_kind.setdefault(name, "friction")
 
-    x_n, z_n, a_n, lab_n, _ = nodes[-1]
-    nodes[-1] = (x_n, z_n, a_n, "penstock end" if lab_n == "profile" else lab_n, False)
-    nx, nz, na, nl, nr = zip(*nodes)
+    x_n, z_n, a_n, lab_n, _, d_n = nodes[-1]
+    nodes[-1] = (x_n, z_n, a_n, "penstock end" if lab_n == "profile" else lab_n, False, d_n)
+    nx, nz, na, nl, nr, nd = zip(*nodes)
     el, ed, er, ek, ea, eg, es = zip(*elems)
     first = downstream_segment(xs[0])
     return Route(
         chainage=np.array(nx), elevation=np.array(nz), node_area=np.array(na),
+        node_diameter=np.array(nd, dtype=float),
         node_label=np.array(nl, dtype=object), is_reservoir=np.array(nr),
         length=np.array(el), diameter=np.array(ed), roughness=np.array(er), k=np.array(ek),
         reference_area=np.array(ea), element_segment=np.array(es), element_group=list(eg),

@@ -310,6 +310,41 @@ def allievi_max_head(length, velocity, static_head, closure_time):
     return _same_kind(h * ratio, length, velocity, static_head, closure_time)
 
 
+def allievi_rise_capped(length, velocity, static_head, closure_time, wave_speed):
+    """Head rise at the valve on a uniform closure: Allievi's slow-closure rise, at most
+    Joukowsky's.
+
+    Parameters
+    ----------
+    length : numeric
+        Pipe length. [m]
+    velocity : numeric
+        Initial velocity. [m/s]
+    static_head : numeric
+        Head at the valve above its outlet before closure, H0. [m]
+    closure_time : numeric
+        Time of the uniform closure. [s]
+    wave_speed : numeric
+        Pressure-wave speed. [m/s]
+
+    Returns
+    -------
+    numeric
+        Rise above the static head. [m]
+
+    Notes
+    -----
+    :math:`\\min(H_{max} - H_0,\\ a V_0 / g)` with :math:`H_{max}` from
+    :func:`allievi_max_head` and the cap from :func:`joukowsky`: no closure, however
+    fast, raises the head by more than the instant closure does (the rapid-closure
+    limit).
+    """
+    slow = np.asarray(allievi_max_head(length, velocity, static_head, closure_time)) - \
+        np.asarray(static_head, dtype=float)
+    return _same_kind(np.minimum(slow, np.asarray(joukowsky(wave_speed, velocity))), length,
+                      velocity, static_head, closure_time, wave_speed)
+
+
 def allievi_min_head(length, velocity, static_head, opening_time):
     """Minimum valve head for a slow uniform gate opening, rigid-column closed form.
 

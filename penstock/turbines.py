@@ -32,6 +32,10 @@ from penstock.constants import GRAVITY
 from penstock.hydrology import _check_non_negative, _position, _same_kind
 
 __all__ = [
+    "angular_speed",
+    "head_datum",
+    "synchronous_speed",
+    "units_running",
     "TURBINE_TYPES",
     "TurbineCandidate",
     "DispatchResult",
@@ -157,6 +161,114 @@ def _turbine(turbine_type):
 # ---------------------------------------------------------------------------
 # specific speed
 # ---------------------------------------------------------------------------
+def head_datum(turbine_type, tailwater, runner_elevation=None):
+    """Level the gross head is measured down to: the tailwater, or an impulse runner above it.
+
+    Parameters
+    ----------
+    turbine_type : str
+        Key of :data:`TURBINE_TYPES`. [-]
+    tailwater : numeric
+        Tailwater level. [m]
+    runner_elevation : float, optional
+        Runner (nozzle centreline) elevation. [m]
+
+    Returns
+    -------
+    numeric
+        ``max(tailwater, runner_elevation)`` for an impulse turbine with a runner
+        elevation, else ``tailwater``. [m]
+
+    Notes
+    -----
+    An impulse runner turns in air and discharges freely: the head between the runner
+    and the tailwater below it is lost (common practice). A reaction runner works down
+    to the tailwater through its draft tube.
+    """
+    tw = np.asarray(tailwater, dtype=float)
+    if _turbine(turbine_type)["impulse"] and runner_elevation is not None:
+        out = np.maximum(tw, float(runner_elevation))
+    else:
+        out = tw
+    return float(out) if out.ndim == 0 else out
+
+
+def angular_speed(rotational_speed):
+    """Rotational speed in rpm as an angular speed, ω = 2πn/60. [rad/s]
+
+    Parameters
+    ----------
+    rotational_speed : numeric
+        Speed. [rpm]
+
+    Returns
+    -------
+    numeric
+        Angular speed. [rad/s]
+    """
+    n = np.asarray(rotational_speed, dtype=float)
+    out = 2.0 * np.pi * n / 60.0
+    return float(out) if out.ndim == 0 else out
+
+
+def units_running(flow, rated_flow_per_unit, n_units):
+    """Units sharing a plant flow when each runs as near its rated flow as it can.
+
+    Parameters
+    ----------
+    flow : array_like
+        Plant flow. [m^3/s]
+    rated_flow_per_unit : float
+        Rated flow of one unit. [m^3/s]
+    n_units : int
+        Units installed. [-]
+
+    Returns
+    -------
+    numpy.ndarray of int
+        ``clip(ceil(Q / Q_rated), 1, n)`` (common practice: start a unit only when the
+        running ones are full). [-]
+    """
+    k = np.ceil(np.asarray(flow, float) / rated_flow_per_unit - 1e-9)
+    return np.clip(k, 1, n_units).astype(int)
+
+
+def synchronous_speed(turbine_type, net_head, power_per_unit, frequency, max_pole_pairs=60):
+    """Synchronous speed giving a specific speed nearest the middle of the type's range.
+
+    Parameters
+    ----------
+    turbine_type : str
+        Key of :data:`TURBINE_TYPES`. [-]
+    net_head : float
+        Net head. [m]
+    power_per_unit : float
+        Power of one unit. [W]
+    frequency : float
+        Grid frequency. [Hz]
+    max_pole_pairs : int
+        Largest number of pole pairs tried. [-]
+
+    Returns
+    -------
+    float
+        Speed. [rpm]
+
+    Notes
+    -----
+    Common practice for a first choice of speed: :math:`n = 60 f / p` for :math:`p`
+    pole pairs (synchronous machine), choosing :math:`p` so that the metric specific
+    speed :math:`n \\sqrt{P} / H^{5/4}` (:func:`specific_speed`) lies nearest the
+    geometric middle of the type's published range.
+    """
+    lo, hi = _turbine(turbine_type)["specific_speed_range"]
+    target = np.sqrt(lo * hi)
+    pairs = np.arange(1, int(max_pole_pairs) + 1)
+    speeds = 60.0 * frequency / pairs
+    ns = np.asarray(specific_speed(speeds, power_per_unit, net_head))
+    return float(speeds[np.argmin(np.abs(np.log(ns / target)))])
+
+
 def specific_speed(rotational_speed, power, net_head):
     """Metric (kW-based) specific speed.
 

@@ -398,6 +398,24 @@ class WaterProperties:
     bulk_modulus: float
     atmospheric_pressure: float
 
+    def head(self, pressure):
+        """Pressure [Pa] as a head of this water, p/(ρg). [m]"""
+        return np.asarray(pressure, dtype=float) / (self.density * GRAVITY)
+
+    def pressure(self, head):
+        """Head of this water [m] as a pressure, ρgh. [Pa]"""
+        return self.density * GRAVITY * np.asarray(head, dtype=float)
+
+    @property
+    def atmospheric_head(self) -> float:
+        """The site's atmospheric pressure as a head of this water. [m]"""
+        return float(self.head(self.atmospheric_pressure))
+
+    @property
+    def vapour_head(self) -> float:
+        """The vapour pressure as an absolute head of this water. [m]"""
+        return float(self.head(self.vapour_pressure))
+
 
 def water_properties(temperature, altitude):
     """Collect the water and air properties of a site.

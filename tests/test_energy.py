@@ -204,3 +204,21 @@ def test_design_flow_study_needs_callable_head_loss():
     with pytest.raises(ValueError, match="head_loss: expected a callable"):
         en.design_flow_study(YEAR_2001, np.ones(len(YEAR_2001)), 50.0, density=DENSITY,
                              head_loss=np.zeros(len(YEAR_2001)))
+
+
+@pytest.mark.parametrize("periods,freq", [(24 * 366 * 2 + 500, "h"), (24 * 200, "h"),
+                                          (3 * 365 + 40, "D")])
+def test_mean_annual_weights_give_the_summary_mean(periods, freq):
+    """One definition of a year: the weights reproduce energy_summary's mean annual
+    energy, on complete calendar years or on the annualised record."""
+    idx = pd.date_range("2019-01-01", periods=periods, freq=freq)
+    power = 1e6 * (1.5 + np.sin(np.arange(periods) / 300.0))
+    summ = en.energy_summary(idx, power)
+    w = en.mean_annual_weights(idx)
+    step = (idx[1] - idx[0]).total_seconds()
+    assert np.sum(w * power * step) == pytest.approx(summ.mean_annual_energy, rel=1e-12)
+
+
+def test_net_head_convention():
+    assert en.net_head(100.0, 7.0) == 93.0
+    assert en.net_head(100.0, 7.0, 0.4) == pytest.approx(93.4)

@@ -148,3 +148,16 @@ def test_velocity_head_keeps_kind():
     assert isinstance(gradeline.velocity_head(1.0, 1.0), float)
     out = gradeline.velocity_head(np.array([1.0, 2.0]), 1.0)
     np.testing.assert_allclose(out, np.array([1.0, 4.0]) / (2 * GRAVITY))
+
+
+def test_crown_pressure_head_is_half_a_diameter_and_the_drawdown_below():
+    from penstock.gradeline import crown_pressure_head, mean_velocity
+
+    p = crown_pressure_head(np.array([10.0, 4.0]), np.array([2.0, 1.0]), 1.5)
+    np.testing.assert_allclose(p, [10.0 - 1.0 - 1.5, 4.0 - 0.5 - 1.5])
+    with pytest.raises(ValueError):
+        crown_pressure_head(1.0, np.inf)
+    with pytest.raises(ValueError):
+        crown_pressure_head(1.0, 1.0, -0.1)
+    # continuity: 1 m^3/s through 1 m gives 4/pi m/s
+    assert mean_velocity(1.0, 1.0) == pytest.approx(4.0 / np.pi, rel=1e-15)

@@ -109,3 +109,14 @@ def test_sweep_has_an_interior_minimum(lowhead):
     i = int(np.argmin(s["annualized cost [currency/year]"]))
     assert 0 < i < len(s) - 1
     assert r.headline["optimum_diameter"] == pytest.approx(s["diameter [m]"].iloc[i], rel=0.02)
+
+
+def test_energy_lost_beyond_the_grid_is_evaluated_not_clamped(model):
+    """A candidate larger than the sweep (a recommendation walked up past it) gets its own
+    energy loss, which keeps falling with D."""
+    top = float(model.d_grid[-1])
+    big = np.array([1.2 * top, 1.5 * top])
+    lost = model.energy_lost(big)
+    assert lost[1] < lost[0] < float(model.energy_lost(top))
+    for d, e in zip(big, lost, strict=True):
+        assert e == pytest.approx(model.energy_lost_brute_force(d), rel=1e-3)

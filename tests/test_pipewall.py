@@ -9,6 +9,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from scipy.integrate import quad
 
+from penstock import pipewall
 from penstock.constants import GRAVITY, P_ATM_SEA_LEVEL
 from penstock.materials import MATERIALS
 from penstock.pipewall import (
@@ -268,3 +269,58 @@ def test_buckling_check_zero_thickness_and_series():
 
 
 # Docstring parameters against signatures: tests/test_docstrings.py, for every module.
+
+
+# ----------------------------------------------------------------- vacuum, reach rule
+def test_vacuum_check_uses_net_plate_on_mean_diameter():
+    """8 mm plate with 1.5 mm corrosion allowance on 1.05 m inside: the load-bearing
+    6.5 mm on the 1.058 m mean diameter, p_cr = 2E/(1-nu^2)(t/D)^3 (Timoshenko & Gere
+    1961, ch. 7, from memory) = 105 kPa, not the 201 kPa of the full plate on the inside
+    diameter."""
+    e, nu = 207e9, 0.3
+    chk = pipewall.vacuum_check(0.008, 1.05, e, nu, 101_325.0, 1.0, 1.5e-3)
+    by_hand = 2 * e / (1 - nu**2) * (0.0065 / 1.058) ** 3
+    assert float(chk["critical_pressure"]) == pytest.approx(by_hand, rel=1e-12)
+    assert float(chk["critical_pressure"]) == pytest.approx(105.5e3, rel=1e-3)
+    # with the common-practice safety factor of 1.5 it fails under full vacuum
+    chk15 = pipewall.vacuum_check(0.008, 1.05, e, nu, 101_325.0, 1.5, 1.5e-3)
+    assert bool(chk15["needs_stiffeners"]) is True
+    full = critical_buckling_pressure(e, nu, 0.008, 1.05)
+    assert full == pytest.approx(201.2e3, rel=1e-3)
+
+
+@pytest.mark.parametrize("d", [0.3, 1.05, 2.4])
+@pytest.mark.parametrize("ca", [0.0, 1.5e-3, 3e-3])
+def test_vacuum_thickness_is_the_inverse_of_vacuum_check(d, ca):
+    t = pipewall.vacuum_thickness(d, 207e9, 0.3, 85_000.0, 1.5, ca)
+    chk = pipewall.vacuum_check(t, d, 207e9, 0.3, 85_000.0, 1.5, ca)
+    assert float(chk["utilisation"]) == pytest.approx(1.0, rel=1e-12)
+
+
+def test_wall_along_route_reach_takes_its_thicker_end():
+    steel = MATERIALS["astm_a516_gr70"]
+    x = np.array([0.0, 100.0, 200.0])
+    head = np.array([50.0, 300.0, 310.0])
+    prof = wall_along_route(x, head, 1.2, steel)
+    assert prof.reach_plate.tolist() == [max(prof.plate_thickness[:2]),
+                                         max(prof.plate_thickness[1:])]
+    # the first reach is one run of plate: the downstream end's pressure governs it
+    assert prof.reach_plate[0] == prof.plate_thickness[1] > prof.plate_thickness[0]
+    assert prof.steps[0][2] == prof.reach_plate[0]
+
+
+def test_wall_along_route_vacuum_and_beyond_plates():
+    steel = MATERIALS["astm_a516_gr70"]
+    x = np.array([0.0, 100.0])
+    prof = wall_along_route(x, [5.0, 5.0], 2.0, steel, external_pressure=85_000.0,
+                            buckling_safety=1.5, corrosion_allowance=1.5e-3)
+    t_vac = pipewall.vacuum_thickness(2.0, steel.elastic_modulus, steel.poisson_ratio,
+                                      85_000.0, 1.5, 1.5e-3)
+    np.testing.assert_allclose(prof.vacuum_thickness, t_vac)
+    assert np.all(prof.required_thickness >= t_vac)
+    thin = [0.006, 0.008]
+    with pytest.raises(ValueError):
+        wall_along_route(x, [900.0, 900.0], 2.0, steel, plates=thin)
+    kept = wall_along_route(x, [900.0, 900.0], 2.0, steel, plates=thin, beyond_plates="keep")
+    assert kept.beyond_plates.all()
+    np.testing.assert_allclose(kept.plate_thickness, kept.required_thickness)

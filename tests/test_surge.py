@@ -178,3 +178,11 @@ def test_errors():
 
 
 # Docstrings against signatures and units: tests/test_docstrings.py.
+
+
+def test_allievi_rise_capped_by_joukowsky():
+    """Slow closure: Allievi's rise; a closure far faster than 2L/a: Joukowsky's a·V/g."""
+    slow = surge.allievi_rise_capped(1000.0, 3.0, 200.0, 60.0, 1000.0)
+    assert slow == pytest.approx(surge.allievi_max_head(1000.0, 3.0, 200.0, 60.0) - 200.0)
+    fast = surge.allievi_rise_capped(1000.0, 3.0, 200.0, 0.01, 1000.0)
+    assert fast == pytest.approx(1000.0 * 3.0 / GRAVITY, rel=1e-12)

@@ -180,3 +180,14 @@ def test_scaled_efficiency_table_keeps_shape():
     assert tu.turbine_efficiency(0.9, "francis", table=table) == pytest.approx(0.94)
     with pytest.raises(ValueError, match="peak_efficiency"):
         tu.scaled_efficiency_table("francis", 1.1)
+
+
+def test_head_datum_speed_and_units():
+    assert tu.head_datum("pelton", 100.0, 102.5) == 102.5
+    assert tu.head_datum("pelton", 100.0, 98.0) == 100.0
+    assert tu.head_datum("francis", 100.0, 102.5) == 100.0
+    assert tu.head_datum("pelton", 100.0) == 100.0
+    assert tu.angular_speed(60.0) == pytest.approx(2 * np.pi)
+    assert tu.units_running([0.1, 1.0, 1.01, 5.0], 1.0, 3).tolist() == [1, 1, 2, 3]
+    n = tu.synchronous_speed("francis", 100.0, 2e6, 50.0)
+    assert (3000.0 / n) == pytest.approx(round(3000.0 / n))   # 60 f / p, p whole

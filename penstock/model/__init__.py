@@ -12,14 +12,34 @@ turbine setting).
 from __future__ import annotations
 
 import datetime as _dt
+import warnings as _warnings
 
 import pandas as pd
 
 from .. import __version__, water
+from ..constants import J_PER_MWH
 from . import hammer, production, sizing, steady, uncertainty
 from .core import STANDING_CAUTION, TABLE_ORDER, Methods, Results, Warning_
 
-__all__ = ["STANDING_CAUTION", "TABLE_ORDER", "Results", "Warning_", "run_case"]
+__all__ = ["STANDING_CAUTION", "TABLE_ORDER", "Results", "Warning_", "run_case",
+           "check_case"]
+
+
+def check_case(case, proceed=False) -> list:
+    """Refuse, without the heavy stages, everything :func:`run_case` refuses as bad input.
+
+    Runs the steady hydraulics (the design flow must exist: no absolute pressure below
+    the vapour pressure), the design-flow head check and the wave speeds.  Raises
+    :class:`penstock.case.CaseError`; returns the cautions those stages raised.
+    """
+    warns: list[Warning_] = []
+    methods = Methods()
+    props = water.water_properties(case.temperature, case.altitude)
+    st = steady.run(case, props, warns, methods, lambda name: None, proceed=proceed)
+    gross, loss, _, net = production.design_heads(case, st)
+    production.check_design_head(case, gross, net, loss)
+    hammer._wave_speeds(case, props, warns, methods)
+    return warns
 
 
 def run_case(case, progress=None, samples=None, proceed=False) -> Results:
@@ -56,11 +76,20 @@ def run_case(case, progress=None, samples=None, proceed=False) -> Results:
     methods.add("Atmospheric pressure", "ISO standard atmosphere, troposphere",
                 "ISO 2533:1975 Standard Atmosphere")
 
-    st = steady.run(case, props, warns, methods, tick, proceed=proceed)
-    prod = production.run(case, props, st, warns, methods, tick)
-    ham = hammer.run(case, props, st, prod, warns, methods, tick)
-    size = sizing.run(case, props, st, prod, ham, warns, methods, tick)
-    mc = uncertainty.run(case, props, st, prod, size, warns, methods, tick, samples)
+    stages = []
+    for name, stage in (("steady hydraulics", lambda: steady.run(
+                            case, props, warns, methods, tick, proceed=proceed)),
+                        ("energy", lambda: production.run(case, props, stages[0], warns,
+                                                          methods, tick)),
+                        ("water hammer", lambda: hammer.run(case, props, stages[0], stages[1],
+                                                            warns, methods, tick)),
+                        ("diameter study", lambda: sizing.run(case, props, *stages[:3], warns,
+                                                              methods, tick)),
+                        ("uncertainty", lambda: uncertainty.run(
+                            case, props, stages[0], stages[1], stages[3], warns, methods, tick,
+                            samples))):
+        stages.append(_caught(name, stage, warns))
+    st, prod, ham, size, mc = stages
 
     headline = {**prod["headline"], **ham["headline"], **size["headline"],
                 **mc.get("headline", {}),
@@ -81,44 +110,87 @@ def run_case(case, progress=None, samples=None, proceed=False) -> Results:
     )
 
 
+def _caught(stage_name, stage, warns):
+    """Run a stage, turning each warning a physics function raises (a correlation used
+    outside its range, for instance) into a caution, once per stage and message."""
+    with _warnings.catch_warnings(record=True) as caught:
+        _warnings.simplefilter("always")
+        out = stage()
+    seen = set()
+    for w in caught:
+        if not issubclass(w.category, UserWarning):
+            continue
+        text = str(w.message)
+        if text in seen:
+            continue
+        seen.add(text)
+        warns.append(Warning_("range", f"{stage_name}: {text}"))
+    return out
+
+
 def _summary(case, props, h, route) -> pd.DataFrame:
+    """The headline table: the case's own pipe in ``value``, and beside it, where the
+    diameter study ran, the recommended uniform pipe on the same basis."""
+    years = h.get("energy_roughness_years")
+    basis = "" if years is None else f" (roughness after {years:g} years, the energy basis)"
+    rec = h.get("selected_row")
+    studied = h.get("optimum_diameter") is not None
+
+    def r(key):
+        return rec[key] if rec is not None else None
+
     rows = [
-        ("site", case.name, ""),
-        ("note", case.note, ""),
-        ("recommended penstock diameter (diameter study)", h.get("selected_diameter"), "m"),
-        ("its wall, thinnest to thickest plate", _wall_text(h, case.unit_system), ""),
-        ("gross head at design flow", h["gross_head"], "m"),
-        ("design flow", h["design_flow"], "m^3/s"),
-        ("penstock losses at design flow" if case.draft_tube is None else
-         "penstock and draft-tube losses at design flow", h["total_loss"], "m"),
-        ("net head at design flow", h["net_head"], "m"),
-        ("installed capacity", h["installed_capacity"] / 1e3, "kW"),
-        ("mean annual energy", h["mean_annual_energy"] / 3.6e9, "MWh"),
-        ("capacity factor", 100 * h["capacity_factor"], "%"),
+        ("site", case.name, "", None),
+        ("note", case.note, "", None),
+        ("penstock", "the case's own pipe", "",
+         "recommended uniform pipe" if rec is not None else
+         ("none passes the checks" if studied else "not studied")),
+        ("inside diameter, largest", max(s.diameter for s in case.segments), "m",
+         r("diameter [m]")),
+        ("inside diameter, smallest", min(s.diameter for s in case.segments), "m",
+         r("diameter [m]")),
+        ("wall, thinnest plate", _own_wall(case, min), "mm", r("thinnest plate [mm]")),
+        ("wall, thickest plate", _own_wall(case, max), "mm", r("thickest plate [mm]")),
+        ("gross head at design flow", h["gross_head"], "m", h["gross_head"] if rec else None),
+        ("design flow", h["design_flow"], "m^3/s", h["design_flow"] if rec else None),
+        ("penstock losses at design flow" + basis, h["total_loss"], "m",
+         r("head loss at design flow [m]")),
+        ("head recovered by the draft tube at design flow", h["draft_tube_recovery"], "m",
+         h["draft_tube_recovery"] if rec else None),
+        ("net head at design flow", h["net_head"], "m", r("net head at design flow [m]")),
+        ("installed capacity", h["installed_capacity"] / 1e3, "kW", None),
+        ("mean annual energy", h["mean_annual_energy"] / J_PER_MWH, "MWh",
+         r("mean annual energy [MWh]")),
+        ("capacity factor", 100 * h["capacity_factor"], "%", None),
         (f"firm power (exceeded {100 * case.firm_exceedance:g} % of the time)",
-         h["firm_power"] / 1e3, "kW"),
-        ("energy lost to penstock losses, mean annual" if case.draft_tube is None else
-         "energy lost to penstock and draft-tube losses, mean annual",
-         h["friction_energy"] / 3.6e9, "MWh"),
-        ("minimum steady pressure head at the crown (minimum headwater)",
-         h["min_pressure_head"], "m"),
-        ("maximum transient rise on load rejection", h["max_surge_rise"], "m"),
+         h["firm_power"] / 1e3, "kW", None),
+        ("energy lost to penstock losses, mean annual", h["friction_energy"] / J_PER_MWH, "MWh",
+         r("energy lost [MWh/year]")),
+        ("minimum steady pressure head at the crown (minimum headwater, new and aged pipe)",
+         h["min_pressure_head"], "m",
+         None if rec is None else
+         rec["minimum steady pressure margin at the crown, minimum headwater [m]"]
+         + case.pressure_margin),
+        ("maximum transient rise on load rejection", h["max_surge_rise"], "m",
+         r("maximum surge rise [m]")),
         ("minimum transient pressure head at the crown (minimum headwater)",
-         h["min_transient_pressure_head"], "m"),
-        ("shortest closure keeping the rise within the allowable", h["shortest_closure"], "s"),
-        ("water starting time", h["water_starting_time"], "s"),
-        ("penstock length", float(route.length.sum()), "m"),
-        ("water temperature", case.temperature, "degC"),
-        ("water density", props.density, "kg/m^3"),
-        ("atmospheric pressure at site", props.atmospheric_pressure / 1e3, "kPa"),
+         h["min_transient_pressure_head"], "m",
+         r("minimum transient pressure head at the crown, minimum headwater [m]")),
+        (f"annualized cost, diameter study basis ({case.economics['currency']} per year)",
+         None, "",
+         r("annualized cost [currency/year]")),
+        ("shortest closure keeping the rise within the allowable", h["shortest_closure"], "s",
+         None),
+        ("water starting time", h["water_starting_time"], "s", r("water starting time [s]")),
+        ("penstock length", float(route.length.sum()), "m", None),
+        ("water temperature", case.temperature, "degC", None),
+        ("water density", props.density, "kg/m^3", None),
+        ("atmospheric pressure at site", props.atmospheric_pressure / 1e3, "kPa", None),
     ]
-    return pd.DataFrame(rows, columns=["quantity", "value", "unit"])
+    return pd.DataFrame(rows, columns=["quantity", "value", "unit", "recommended uniform pipe"])
 
 
-def _wall_text(h, system) -> str:
-    if h.get("selected_wall_min") is None:
-        return "not studied"
-    from .core import Say
-
-    say = Say(system)
-    return f"{say.mm(h['selected_wall_min'])} to {say.mm(h['selected_wall_max'])}"
+def _own_wall(case, pick):
+    """The case's own thinnest or thickest wall [mm], or None where none is given."""
+    ts = [s.wall_thickness for s in case.segments if s.wall_thickness is not None]
+    return 1e3 * pick(ts) if ts else None

@@ -16,26 +16,14 @@ import re
 import numpy as np
 import pandas as pd
 
-from .. import friction, gradeline, pipewall, surge, transients, wavespeed
-from ..case import CaseError
-from ..constants import GRAVITY
-from ..materials import MATERIALS
+from .. import friction, gradeline, materials, pipewall, surge, transients, turbines, wavespeed
+from ..errors import CaseError
 from ..schema import CASE_FILE
 from ..turbines import TURBINE_TYPES
 from .core import Warning_
 
-#: Pipe-wall modulus by the roughness-table material, where a case gives none. Values
-#: from the materials registry where it holds the material, otherwise common practice.
-MODULUS_BY_MATERIAL = {
-    "welded_steel": MATERIALS["astm_a36"].elastic_modulus,
-    "riveted_steel": MATERIALS["astm_a36"].elastic_modulus,
-    "ductile_iron_cement_lined": MATERIALS["ductile_iron_awwa"].elastic_modulus,
-    "grp": MATERIALS["grp_awwa_c950"].elastic_modulus,
-    "hdpe": MATERIALS["hdpe_pe100"].elastic_modulus,
-    "pvc": 3.0e9,              # common practice, short-term modulus (from memory)
-    "concrete_smooth": 30e9,   # common practice, uncracked concrete (from memory)
-    "concrete_rough": 30e9,
-}
+#: Materials whose minimum handling thickness may stand in for a missing wall thickness.
+STEEL_MATERIALS = ("welded_steel", "riveted_steel")
 
 
 def _segment_geometry(route, case):
@@ -72,10 +60,15 @@ def _wave_speeds(case, props, warns, methods):
     s = case.surge
     rows, speeds = [], []
     for i, seg in enumerate(case.segments, start=1):
-        e = s["pipe_modulus"] if s["pipe_modulus"] is not None else MODULUS_BY_MATERIAL.get(
-            seg.material, MODULUS_BY_MATERIAL["welded_steel"])
+        e = s["pipe_modulus"] if s["pipe_modulus"] is not None else \
+            materials.pipe_wall_modulus(seg.material)
         t = seg.wall_thickness
         note = ""
+        if t is None and seg.material not in STEEL_MATERIALS and s["wave_speed"] is None:
+            raise CaseError(CASE_FILE, f"pipe {i}.wall_thickness", f"is missing for a "
+                            f"{seg.material.replace('_', ' ')} pipe; the water-hammer wave "
+                            "speed needs it (the steel handling minimum does not apply to "
+                            "this material); expected the wall thickness, or surge.wave_speed")
         if t is None:
             t = float(pipewall.minimum_handling_thickness(seg.diameter))
             note = "wall: minimum handling thickness (no wall_thickness given)"
@@ -87,8 +80,8 @@ def _wave_speeds(case, props, warns, methods):
         if s["air_content"] > 0:
             z_mid = float(np.interp(0.5 * (seg.start + seg.end), case.profile["chainage"],
                                     case.profile["elevation"]))
-            p_abs = props.atmospheric_pressure + props.density * GRAVITY * max(
-                case.headwater - z_mid, 0.0)
+            p_abs = props.atmospheric_pressure + float(props.pressure(max(
+                case.headwater - z_mid, 0.0)))
             a = float(wavespeed.air_content_wave_speed(a, s["air_content"], p_abs,
                                                        props.density,
                                                        bulk_modulus=props.bulk_modulus))
@@ -111,10 +104,10 @@ def _wave_speeds(case, props, warns, methods):
 def outlet_level(case, z_end):
     """Level the closing orifice discharges to: the tailwater, or for an impulse unit the
     runner (the pipe end when no runner elevation is given) if that is higher. [m]"""
-    if TURBINE_TYPES[case.turbine["type"]]["impulse"]:
-        z_run = case.turbine["runner_elevation"]
-        return max(case.tailwater, z_run if z_run is not None else z_end)
-    return case.tailwater
+    z_run = case.turbine["runner_elevation"]
+    if TURBINE_TYPES[case.turbine["type"]]["impulse"] and z_run is None:
+        z_run = z_end   # a free jet discharges at the pipe end at the latest
+    return float(turbines.head_datum(case.turbine["type"], case.tailwater, z_run))
 
 
 def _law_args(s):
@@ -180,7 +173,7 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
     if s["inertia"] is not None:
         speed = prod["headline"]["speed"]
         p_unit = prod["headline"]["installed_capacity"] / case.turbine["units"]
-        tm = float(surge.mechanical_starting_time(s["inertia"], speed * 2 * math.pi / 60,
+        tm = float(surge.mechanical_starting_time(s["inertia"], turbines.angular_speed(speed),
                                                   p_unit))
         rows.append(("mechanical starting time Tm = J·ω²/P", tm, "s"))
         gov = surge.governing_stability_check(tw, tm)
@@ -220,9 +213,7 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
                 f"(largest adjustment {100 * adj:.2f} %)",
                 "Wylie, E.B. & Streeter, V.L. (1993), Fluid Transients in Systems, ch. 3; "
                 "Chaudhry, M.H. (2014), Applied Hydraulic Transients, 3rd ed., Springer, ch. 3")
-    rho_g = props.density * GRAVITY
-    atm_head = props.atmospheric_pressure / rho_g
-    vap_head = props.vapour_pressure / rho_g
+    atm_head, vap_head = props.atmospheric_head, props.vapour_head
     env_rows = []
     design_head = None
     for q, res in results:
@@ -230,10 +221,14 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
         z = np.interp(x, case.profile["chainage"], case.profile["elevation"])
         name = "design flow" if q is q_d else f"{q:.4g} m^3/s"
         # the crown at the minimum headwater: conservative as in the steady checks
-        d_node = np.interp(x, [seg.start for seg in case.segments] + [case.segments[-1].end],
-                           [seg.diameter for seg in case.segments]
-                           + [case.segments[-1].diameter])
-        crown_drop = d_node / 2 + (case.headwater - case.headwater_min)
+        starts = np.array([seg.start for seg in case.segments[1:]])
+        d_seg = np.array([seg.diameter for seg in case.segments])
+        # a node at a diameter step takes the larger pipe, whose crown is higher
+        tol = 1e-6 * max(1.0, float(np.max(np.abs(x))))
+        d_node = np.maximum(d_seg[np.searchsorted(starts, x - tol, side="left")],
+                            d_seg[np.searchsorted(starts, x + tol, side="right")])
+        pmin = gradeline.crown_pressure_head(res.min_head - z, d_node,
+                                             case.headwater - case.headwater_min)
         rise = np.maximum(res.max_head - res.steady_head, 0.0)
         dp = transients.design_pressure_line(case.headwater - z, res.max_head, res.steady_head)
         design_head = dp if design_head is None else np.maximum(design_head, dp)
@@ -243,10 +238,9 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
             "initial steady head [m]": res.steady_head,
             "maximum head [m]": res.max_head, "minimum head [m]": res.min_head,
             "maximum transient rise [m]": rise,
-            "minimum pressure head at the crown [m]": res.min_head - z - crown_drop,
+            "minimum pressure head at the crown [m]": pmin,
             "design pressure head [m]": dp,
         }))
-        pmin = res.min_head - z - crown_drop
         for check, limit, text in (("sub-atmospheric", 0.0, "the down-surge takes the pressure "
                                     "below atmospheric"),
                                    ("vapour pressure", vap_head - atm_head,

@@ -1,11 +1,12 @@
 """Energy stage of a run: flow record, turbines, net head, power and energy.
 
-Net head at each step is ``headwater − tailwater − penstock losses`` (the losses
-from the steady-hydraulics stage at that step's flow) ``− draft-tube loss`` when a
-draft tube is described, i.e. the abrupt-exit loss less the diffuser's recovery.
-Without a draft tube the turbine efficiency curve is taken to include the outlet
-losses.  For an impulse turbine with a given runner elevation the head below the
-runner is lost: the tailwater in the formula is then ``max(tailwater, runner)``.
+Net head at each step follows :func:`penstock.energy.net_head`: headwater less
+tailwater less the penstock losses at that step's flow (from the steady-hydraulics
+stage, with the roughness of the energy basis), plus the head a declared draft tube
+recovers over an abrupt exit.  The efficiency curve is the machine's with its
+runner-outlet velocity head lost, so a draft tube can only add what it recovers.  For
+an impulse turbine with a given runner elevation the head below the runner is lost
+(:func:`penstock.turbines.head_datum`).
 
 The plant's turbined flow is capped at the design flow (all units at rated flow);
 the maximum plant flow serves the hydraulic checks.
@@ -13,19 +14,15 @@ the maximum plant flow serves the hydraulic checks.
 
 from __future__ import annotations
 
-import math
-
 import numpy as np
 import pandas as pd
 
-from .. import drafttube, energy, hydrology, turbines
-from ..case import CaseError
-from ..constants import GRAVITY
+from .. import drafttube, energy, gradeline, hydrology, turbines
+from ..constants import J_PER_MWH
+from ..errors import CaseError
 from ..schema import CASE_FILE
 from ..turbines import TURBINE_TYPES
 from .core import Say, Warning_
-
-J_PER_MWH = 3.6e9
 
 
 def _residual(case, index, river):
@@ -36,40 +33,43 @@ def _residual(case, index, river):
         mean_flow=float(np.mean(river)) if case.residual_percent else None)
 
 
-def _draft_tube_loss(case, n_units):
-    """Draft-tube head loss as a function of total plant flow (all units sharing it)."""
+def _draft_tube_recovery(case, n_units):
+    """Head the draft tube recovers as a function of total plant flow (all units sharing
+    it), or None without a draft tube."""
     dt = case.draft_tube
     if dt is None:
         return None
 
-    def loss(total_flow):
+    def recovery(total_flow):
         q = np.asarray(total_flow, dtype=float) / n_units
-        exit_head = drafttube.abrupt_exit_loss(q, dt["inlet_diameter"])
-        return exit_head - drafttube.velocity_head_recovery(q, dt["inlet_diameter"],
-                                                            dt["area_ratio"], dt["cone_angle"])
+        return drafttube.velocity_head_recovery(q, dt["inlet_diameter"], dt["area_ratio"],
+                                                dt["cone_angle"])
 
-    return loss
-
-
-def units_running(flow, rated_flow_per_unit, n_units):
-    """Units sharing a plant flow when each runs as near its rated flow as it can."""
-    k = np.ceil(np.asarray(flow, float) / rated_flow_per_unit - 1e-9)
-    return np.clip(k, 1, n_units).astype(int)
+    return recovery
 
 
-def synchronous_speed(turbine_type, net_head, power_per_unit, frequency):
-    """Synchronous speed giving a specific speed nearest the middle of the type's range.
+def design_heads(case, steady):
+    """Gross head, penstock loss, draft-tube recovery and net head at the design flow."""
+    t = case.turbine
+    h_design = case.headwater - float(turbines.head_datum(t["type"], case.tailwater,
+                                                          t["runner_elevation"]))
+    loss = float(steady["head_loss"](case.design_flow))
+    rec = _draft_tube_recovery(case, t["units"])
+    gain = float(rec(case.design_flow)) if rec is not None else 0.0
+    return h_design, loss, gain, float(energy.net_head(h_design, loss, gain))
 
-    Common practice for a first choice of speed: n = 60·f/p for p pole pairs,
-    choosing p so that the metric specific speed n·√P/H^(5/4) lies nearest the
-    geometric middle of the type's published range.
-    """
-    lo, hi = TURBINE_TYPES[turbine_type]["specific_speed_range"]
-    target = math.sqrt(lo * hi)
-    pairs = np.arange(1, 61)
-    speeds = 60.0 * frequency / pairs
-    ns = turbines.specific_speed(speeds, power_per_unit, net_head)
-    return float(speeds[np.argmin(np.abs(np.log(ns / target)))])
+
+def check_design_head(case, gross, net, loss):
+    """Refuse a design flow whose penstock loss leaves 5 % of the gross head or less."""
+    if net <= 0.05 * gross:
+        raise CaseError(CASE_FILE, "flows.design", f"the penstock loses {loss:.1f} m of "
+                        f"the {gross:.1f} m gross head at the design flow "
+                        f"{case.design_flow:.4g} m^3/s; expected a smaller design flow or a "
+                        "larger pipe")
+
+
+units_running = turbines.units_running
+synchronous_speed = turbines.synchronous_speed
 
 
 def run(case, props, steady, warns, methods, tick) -> dict:
@@ -85,9 +85,7 @@ def run(case, props, steady, warns, methods, tick) -> dict:
     hw = case.headwater_at(river, index)
     tw = case.tailwater_at(river)
     z_run = t["runner_elevation"]
-    if entry["impulse"] and z_run is not None:
-        tw = np.maximum(tw, z_run)
-    gross = hw - tw
+    gross = hw - turbines.head_datum(ttype, tw, z_run)
     residual = _residual(case, index, river)
     if np.all(residual.to_numpy() >= river):
         warns.append(Warning_("hydrology", "the residual flow is at or above the river flow at "
@@ -101,11 +99,12 @@ def run(case, props, steady, warns, methods, tick) -> dict:
         methods.add("Turbine efficiency", "part-load curve given by the user", "case input")
     min_rel = case.minimum_flow / q_unit if case.minimum_flow is not None else None
     penstock_loss = steady["head_loss"]
-    dt_loss = _draft_tube_loss(case, n)
+    dt_recovery = _draft_tube_recovery(case, n)
 
     def total_loss(q):
-        out = penstock_loss(q)
-        return out + dt_loss(q) if dt_loss is not None else out
+        """Gross less net head at total flow q (energy.net_head with a zero gross head)."""
+        gain = dt_recovery(q) if dt_recovery is not None else 0.0
+        return -energy.net_head(0.0, penstock_loss(q), gain)
 
     drive = dict(gearbox_efficiency=t["gearbox_efficiency"],
                  generator_efficiency=t["generator_efficiency"],
@@ -117,18 +116,26 @@ def run(case, props, steady, warns, methods, tick) -> dict:
     methods.add("Plant operation", "residual flow released first; the number of units giving "
                 "the most power runs at each step; P = ρ·g·Q·Hn·η_turbine·η_gearbox·"
                 "η_generator·η_transformer × availability", "energy balance (hand formula)")
+    years = steady["energy_roughness_years"]
+    methods.add("Net head and energy convention", "net head = headwater − tailwater (or an "
+                "impulse runner above it) − penstock losses + the head a draft tube recovers "
+                "over an abrupt exit; the efficiency curve is the machine's with its "
+                "runner-outlet velocity head lost, so a draft tube can only add what it "
+                "recovers; penstock losses with the roughness " +
+                ("of the pipe as new" if years is None else
+                 f"after {years:g} years, half the service life (the mean of a linear growth)")
+                + "; a year is the mean over the record's complete calendar years (8,760 h "
+                "scaled when there is none), for the energy, the energy lost and the diameter "
+                "study alike", "penstock.energy.net_head and mean_annual_weights")
 
     # installed capacity: all units at rated flow, at the reference (design) levels
-    h_design = case.headwater - case.tailwater
-    if entry["impulse"] and z_run is not None:
-        h_design = case.headwater - max(case.tailwater, z_run)
-    loss_design = float(total_loss(case.design_flow))
-    hn_design = h_design - loss_design
-    if hn_design <= 0.05 * h_design:
-        raise CaseError(CASE_FILE, "flows.design", f"the penstock loses {loss_design:.1f} m of "
-                        f"the {h_design:.1f} m gross head at the design flow "
-                        f"{case.design_flow:.4g} m^3/s; expected a smaller design flow or a "
-                        "larger pipe")
+    h_design, loss_design, gain_design, hn_design = design_heads(case, steady)
+    if gain_design < 0:
+        warns.append(Warning_("draft tube", f"the draft-tube cone loses {-gain_design:.3f} m "
+                              "more than an abrupt exit at the design flow (Gibson's loss "
+                              "factor above one for so wide a cone); expected a narrower "
+                              "cone"))
+    check_design_head(case, h_design, hn_design, loss_design)
     eta_rated = float(turbines.turbine_efficiency(1.0, ttype, table=table))
     capacity = float(energy.electrical_power(case.design_flow, hn_design, rho, eta_rated,
                                              **drive))
@@ -212,10 +219,13 @@ def run(case, props, steady, warns, methods, tick) -> dict:
                                       warns, methods)
     out["draft_tube"] = _draft_tube_table(case, props, steady, table, drive, methods)
     out["operation"] = {"index": index, "river": river, "gross": gross, "op": op,
-                        "table": table, "drive": drive, "dt_loss": dt_loss,
+                        "table": table, "drive": drive, "dt_recovery": dt_recovery,
+                        "total_loss": total_loss,
                         "step_seconds": float(hydrology.time_step(index).total_seconds())}
     out["headline"] = {
         "gross_head": h_design, "net_head": hn_design, "total_loss": loss_design,
+        "draft_tube_recovery": gain_design,
+        "energy_roughness_years": steady["energy_roughness_years"],
         "design_flow": case.design_flow, "installed_capacity": capacity,
         "eta_rated": eta_rated,
         "mean_annual_energy": summ.mean_annual_energy, "capacity_factor": summ.capacity_factor,
@@ -317,8 +327,7 @@ def _setting(case, props, steady, total_loss, speed, table, drive, warns, method
     q_plant = np.minimum(flows, case.maximum_flow)
     tw = np.asarray(case.tailwater_at(q_plant + case.residual_flow), float)
     z_run = t["runner_elevation"]
-    bottom = np.maximum(tw, z_run) if entry["impulse"] and z_run is not None else tw
-    hn = case.headwater - bottom - total_loss(q_plant)
+    hn = case.headwater - turbines.head_datum(ttype, tw, z_run) - total_loss(q_plant)
     rows = []
     if entry["impulse"]:
         tw_max = float(case.tailwater_at(float(case.flow_record.max())))
@@ -348,7 +357,7 @@ def _setting(case, props, steady, total_loss, speed, table, drive, warns, method
         q_u = q / k
         # overload above the rated flow keeps the rated efficiency (the curves end at 1)
         eta = float(turbines.turbine_efficiency(min(q_u / q_rated, 1.0), ttype, table=table))
-        p_unit = props.density * GRAVITY * q_u * h * eta
+        p_unit = float(energy.hydraulic_power(q_u, h, props.density)) * eta
         ns = float(turbines.specific_speed(speed, max(p_unit, 1.0), h))
         ns_c = float(np.clip(ns, lo, hi))
         sigma = float(drafttube.thoma_sigma(ns_c, ttype))
@@ -388,13 +397,12 @@ def _draft_tube_table(case, props, steady, table, drive, methods):
                                             dt["cone_angle"])
     eta = np.array([float(turbines.turbine_efficiency(min(q / (case.design_flow / n), 1.0),
                                                       t["type"], table=table)) for q in q_u])
-    factor = drive["gearbox_efficiency"] * drive["generator_efficiency"] * \
-        drive["transformer_efficiency"]
     return pd.DataFrame({
         "flow case": steady["flow_names"], "plant flow [m^3/s]": flows, "units running": k,
-        "inlet velocity [m/s]": q_u / (math.pi * dt["inlet_diameter"] ** 2 / 4),
+        "inlet velocity [m/s]": gradeline.mean_velocity(q_u, dt["inlet_diameter"]),
         "inlet velocity head [m]": exit_head,
         "head recovered over an abrupt exit [m]": gain,
         "remaining draft-tube loss [m]": exit_head - gain,
-        "power gained [kW]": props.density * GRAVITY * flows * gain * eta * factor / 1e3,
+        "power gained [kW]": np.asarray(energy.electrical_power(flows, gain, props.density,
+                                                               eta, **drive)) / 1e3,
     })

@@ -1,44 +1,57 @@
 """Diameter-study stage: wall thickness, pipe cost and the annualized-cost optimum.
 
-The study treats the penstock as one uniform inside diameter D along the whole
-route (the case's segments keep their roughness; transitions between them vanish).
-For each D:
+Orchestration only: every formula is a tested physics function.  The study treats the
+penstock as one uniform inside diameter D along the whole route (the case's segments
+keep their roughness; transitions between them vanish).  For each D:
 
-* **Energy lost** to the penstock's head loss is computed over the whole flow record
-  through the turbine efficiency.  The plant's dispatch does not depend on D (the net
-  head depends on the total flow only, so the best number of units at each step is
-  set by the efficiency curve alone), hence
-  ``E_lost(D) = η_drive·ρ·g·Δt·Σ_t Q_t·η_t·h(Q_t; D)``.  ``h`` is tabulated on a
-  flow grid for a grid of diameters; the record enters through linear-interpolation
+* **Energy lost** to the penstock's head loss over the whole flow record, with the
+  roughness of the energy basis (mid-life when a growth rate is given), on the mean
+  annual basis of the energy stage (:func:`penstock.energy.mean_annual_weights`).  The
+  plant's dispatch does not depend on D (the net head depends on the total flow
+  only), so ``E_lost(D) = Σ_t w_t·P(Q_t, h(Q_t; D), η_t)·Δt``.  ``h`` is tabulated on
+  a flow grid for a grid of diameters; the record enters through linear-interpolation
   weights on the flow grid, so each D costs one dot product.
-* **Wall**: hoop thickness p·D/(2·σ·E_j) + corrosion allowance, at least the handling
-  minimum, rounded up to the available plates, per reach (the larger of its two
-  ends).  The design head is the static head plus the transient rise: in the sweep an
-  Allievi uniform-closure rise growing linearly from the reservoir to the turbine
-  (common practice for slow closure); for the candidate diameters the envelope of a
-  method-of-characteristics run.
-* **Capital** = steel mass × price × (1 + fabrication + installation) + civil works
-  per metre (fixed + coefficient·D^exponent), plus contingency; O&M a fraction of it.
-* **Annualized cost** = CRF × capital + O&M + value of the energy lost.
+* **Wall** (:func:`penstock.pipewall.wall_along_route`): hoop thickness, handling
+  minimum and an unstiffened wall under full vacuum at the site, rounded up to plates,
+  per reach (the thicker of its two ends).  The design head is the static head plus
+  the transient rise: in the sweep an Allievi uniform-closure rise growing linearly
+  from the reservoir to the turbine (common practice for slow closure); for the
+  candidates the envelope of a method-of-characteristics run.
+* **Capital** (:func:`penstock.economics.pipe_cost_breakdown`) and **annualized
+  cost** (:func:`penstock.diameter.annual_cost_model`).
+* **Feasibility** of each candidate: the steady pressure margin at the crown with the
+  headwater at its minimum, at every study flow up to the maximum plant flow, for the
+  pipe new and with its roughness at the end of the service life (the basis of the
+  Pressure checks sheet); and a wall within the available plates.  The recommended
+  size is the cheaper feasible neighbour of the optimum, or the next larger feasible
+  size.
 """
 
 from __future__ import annotations
 
 import copy
 import dataclasses
-import math
 
 import numpy as np
 import pandas as pd
 
 from .. import diameter as dia
-from .. import economics, pipewall, surge, transients
-from ..constants import GRAVITY, P_ATM_SEA_LEVEL
+from .. import economics, energy, gradeline, pipewall, surge, transients
+from ..constants import J_PER_KWH, J_PER_MWH
 from ..materials import get_material as _get_material
 from ..route import build_route
 from .core import Say, Warning_
 
 STEEL = ("welded_steel", "riveted_steel")
+
+#: Velocities at the design flow that bound the default sweep (common practice).
+SWEEP_VELOCITIES = (6.0, 1.5)
+
+#: Diameters closer than this share (0.1 mm in 1 m) are one size. [-]
+SAME_SIZE = 1e-4
+
+#: How many sizes above the optimum are tried for a feasible recommendation.
+MAX_SIZES_UP = 20
 
 
 def wall_material(case):
@@ -49,7 +62,6 @@ def wall_material(case):
     return _get_material(w["grade"], own or None)
 
 
-
 def uniform_case(case, d):
     """A copy of the case with every pipe segment at inside diameter ``d``."""
     c = copy.copy(case)
@@ -57,64 +69,75 @@ def uniform_case(case, d):
     return c
 
 
+def _plates(case):
+    w = case.wall
+    return np.asarray(w["plates"], float) if w["plates"] else \
+        np.asarray(pipewall.standard_plate_thicknesses(), float)
+
+
 class DiameterModel:
     """Cost components of a uniform-diameter penstock, vectorized over D."""
 
-    def __init__(self, case, props, prod, case_loss=None, n_grid=48, n_flow=512):
+    def __init__(self, case, props, prod, case_loss=None, roughness_years=None, n_grid=48,
+                 n_flow=512):
         self.case = case
         self.props = props
+        self.roughness_years = roughness_years
         op = prod["operation"]
         self.op = op
         t = case.turbine
         o = op["op"]
         q = np.asarray(o.turbined_flow, float)
         eta = np.asarray(o.turbine_efficiency, float)
-        drive = op["drive"]
-        self.drive_factor = (drive["gearbox_efficiency"] * drive["generator_efficiency"]
-                             * drive["transformer_efficiency"] * t["availability"])
-        years = len(q) * op["step_seconds"] / (8760 * 3600.0)
-        self.years = years
-        # linear-interpolation weights of w_t = Q_t·η_t on a flow grid
+        self.drive = dict(op["drive"])
+        self.availability = t["availability"]
+        # per-step weights of the mean annual basis, the energy stage's
+        self.annual = energy.mean_annual_weights(op["index"])
+        # linear-interpolation weights of w_t·Q_t·η_t on a flow grid
         q_top = max(float(q.max()), case.design_flow) * 1.0001
         self.q_grid = np.linspace(0.0, q_top, n_flow)
         dq = self.q_grid[1]
         pos = q / dq
         i = np.clip(np.floor(pos).astype(int), 0, n_flow - 2)
         frac = pos - i
-        w = q * eta
+        w = q * eta * self.annual
         self.weights = (np.bincount(i, w * (1 - frac), n_flow)
                         + np.bincount(i + 1, w * frac, n_flow))
-        self.energy_factor = self.drive_factor * props.density * GRAVITY * op["step_seconds"]
+        self.route = build_route(uniform_case(case, 1.0))   # same nodes at any D
+        self.lengths = self.route.length
+        self._s_nodes = np.concatenate([[0.0], np.cumsum(self.route.length)])
         lo, hi = self.bounds()
         self.d_grid = np.geomspace(lo / 1.05, hi * 1.05, n_grid)
         h = np.array([self.loss_on_grid(d, self.q_grid) for d in self.d_grid])
         self.loss_table = h                     # (n_grid, n_flow) [m]
-        s = h @ self.weights                    # Σ Q η h over the record, per grid D
-        self._log_lost = np.log(np.maximum(s * self.energy_factor / years, 1e-300))
+        self._log_lost = np.log(np.maximum(self._lost(h @ self.weights), 1e-300))
         # the case's own penstock (its real diameters) on the same basis, so that the
         # energy at any D follows from the actual energy: E(D) = E + lost(case) - lost(D)
-        self.case_lost = (float(self.energy_factor * self.weights @ case_loss(self.q_grid)
-                                / years) if case_loss is not None else None)
-        self.route = build_route(uniform_case(case, self.d_grid[0]))   # same nodes at any D
-        w = case.surge["wave_speed"]
+        self.case_lost = (float(self._lost(self.weights @ case_loss(self.q_grid)))
+                          if case_loss is not None else None)
+        w_ = case.surge["wave_speed"]
         # for the Joukowsky cap only; run() sets the case's computed value when it has one
-        self.wave_speed = w if w is not None else 1000.0
-        self.lengths = self.route.length
-        self._x_nodes = self.route.chainage
-        self._s_nodes = np.concatenate([[0.0], np.cumsum(self.route.length)])
+        self.wave_speed = w_ if w_ is not None else 1000.0
+
+    def _lost(self, weighted_head):
+        """Mean annual energy [J/year] of Σ_t w_t·Q_t·η_t·h_t [m·m^3/s·year^-1]."""
+        head = np.asarray(weighted_head, dtype=float)
+        p = energy.electrical_power(np.ones_like(head), head, self.props.density, 1.0,
+                                    **self.drive)
+        return np.asarray(p) * self.availability * self.op["step_seconds"]
 
     # ------------------------------------------------------------------ hydraulics
     def bounds(self):
-        """Sweep bounds: the case's, or 6 m/s to 1.5 m/s at the design flow; never below
-        the diameter whose loss at the design flow takes half the gross head."""
+        """Sweep bounds: the case's, or the economic-velocity diameters at 6 m/s and
+        1.5 m/s at the design flow; never below the diameter whose loss at the design flow
+        takes half the gross head."""
         if getattr(self, "_bounds", None) is not None:
             return self._bounds
         st = self.case.diameter_study
         q = self.case.design_flow
-        lo = st["minimum"] or math.sqrt(4 * q / (math.pi * 6.0))
-        hi = st["maximum"] or math.sqrt(4 * q / (math.pi * 1.5))
-        d_half = self.smallest_workable()
-        lo = max(lo, d_half)
+        lo = st["minimum"] or float(dia.economic_velocity_diameter(q, SWEEP_VELOCITIES[0]))
+        hi = st["maximum"] or float(dia.economic_velocity_diameter(q, SWEEP_VELOCITIES[1]))
+        lo = max(lo, self.smallest_workable())
         if hi <= lo:
             hi = 2.0 * lo
         self._bounds = (float(lo), float(hi))
@@ -122,29 +145,55 @@ class DiameterModel:
 
     def smallest_workable(self):
         """Diameter whose penstock loss at the design flow is half the gross head."""
+        if getattr(self, "_workable", None) is not None:
+            return self._workable
+        from scipy.optimize import brentq
+
         case = self.case
         gross = case.headwater - case.tailwater
         q = np.array([case.design_flow])
-        d_lo, d_hi = 0.02, 50.0
-        for _ in range(40):   # bisection in log D; the loss falls steeply with D
-            mid = math.sqrt(d_lo * d_hi)
-            if self.loss_on_grid(mid, q)[0] > 0.5 * gross:
-                d_lo = mid
-            else:
-                d_hi = mid
-        return d_hi
 
-    def loss_on_grid(self, d, flows):
-        """Penstock head loss at ``flows`` for a uniform diameter ``d`` [m]."""
+        def excess(log_d):   # the loss falls steeply and monotonically with D
+            return float(self.loss_on_grid(float(np.exp(log_d)), q)[0]) - 0.5 * gross
+
+        lo, hi = np.log(0.02), np.log(50.0)
+        if excess(lo) <= 0:
+            self._workable = 0.02
+        else:
+            self._workable = float(np.exp(brentq(excess, lo, hi, xtol=1e-9)))
+        return self._workable
+
+    def roughness(self, route, segments, years):
+        return None if years is None else route.aged_roughness(segments, years)
+
+    def loss_on_grid(self, d, flows, years="energy"):
+        """Penstock head loss at ``flows`` for a uniform diameter ``d`` [m], with the
+        roughness of the energy basis (``years="energy"``), new (None) or after
+        ``years`` of service."""
         c = uniform_case(self.case, d)
         r = build_route(c)
-        g = r.grade_lines(flows, c.headwater, self.props.kinematic_viscosity)
+        years = self.roughness_years if years == "energy" else years
+        g = r.grade_lines(flows, c.headwater, self.props.kinematic_viscosity,
+                          self.roughness(r, c.segments, years))
         return (g.friction_loss + g.local_loss).sum(axis=1)
 
     def energy_lost(self, d):
-        """Mean annual energy lost to the penstock's head loss [J/year]."""
-        x = np.log(np.asarray(d, float))
-        return np.exp(np.interp(x, np.log(self.d_grid), self._log_lost))
+        """Mean annual energy lost to the penstock's head loss [J/year].
+
+        Interpolated in log-log on the diameter grid; a diameter outside the grid (a
+        candidate beyond the sweep) is evaluated directly, never clamped to the grid's end.
+        """
+        d = np.asarray(d, float)
+        x = np.log(d)
+        out = np.exp(np.interp(x, np.log(self.d_grid), self._log_lost))
+        outside = (d < self.d_grid[0] * (1 - 1e-12)) | (d > self.d_grid[-1] * (1 + 1e-12))
+        if np.any(outside):
+            flat = np.atleast_1d(out).astype(float)
+            for k in np.flatnonzero(np.atleast_1d(outside)):
+                di = float(np.atleast_1d(d)[k])
+                flat[k] = float(self._lost(self.loss_on_grid(di, self.q_grid) @ self.weights))
+            out = flat.reshape(np.shape(d)) if np.ndim(d) else flat[0]
+        return out
 
     def energy_lost_brute_force(self, d):
         """The same, by evaluating the losses at every step of the record (for checks)."""
@@ -153,14 +202,13 @@ class DiameterModel:
         eta = np.asarray(o.turbine_efficiency, float)
         grid = np.geomspace(1e-4, 1.0, 600) * max(q.max(), 1e-9)
         h = np.interp(q, grid, self.loss_on_grid(d, grid))
-        return float(self.energy_factor * np.sum(q * eta * h) / self.years)
+        return float(self._lost(np.sum(self.annual * q * eta * h)))
 
     # ------------------------------------------------------------------ wall and cost
     def design_head(self, d, rise=None):
         """Design pressure head at each route node: static + transient rise [m]."""
-        case = self.case
         z = self.route.elevation
-        static = case.headwater - z
+        static = self.case.headwater - z
         if rise is None:
             rise = self.allievi_rise(d)
         s = self._s_nodes / self._s_nodes[-1]
@@ -168,79 +216,89 @@ class DiameterModel:
 
     def allievi_rise(self, d):
         """Allievi's slow-closure rise, at most Joukowsky's (rapid closure governs)."""
-        d = np.asarray(d, float)
         case = self.case
-        v = case.design_flow / (math.pi * d**2 / 4)
-        l_total = float(self._s_nodes[-1])
+        v = gradeline.mean_velocity(case.design_flow, np.asarray(d, float))
         h0 = case.headwater - float(self.route.elevation[-1])
-        slow = surge.allievi_max_head(l_total, v, h0, case.surge["closure_time"]) - h0
-        return np.minimum(slow, surge.joukowsky(self.wave_speed, v))
+        return np.asarray(surge.allievi_rise_capped(float(self._s_nodes[-1]), v, h0,
+                                                    case.surge["closure_time"],
+                                                    self.wave_speed))
 
-    def wall(self, d, design_head=None):
-        """Plate thickness of each reach for diameters ``d`` -> (n_d, n_reach) [m]."""
+    def walls(self, d, design_head=None):
+        """The wall profile along the route for each diameter ``d``.
+
+        Returns the list of :class:`penstock.pipewall.WallProfile`, one per diameter.
+        """
         w = self.case.wall
         d = np.atleast_1d(np.asarray(d, float))
-        steel = wall_material(self.case)
         head = self.design_head(d) if design_head is None else np.atleast_2d(design_head)
-        p = self.props.density * GRAVITY * np.maximum(head, 0.0)
-        hoop = pipewall.hoop_thickness(p, d[:, None], steel.allowable_stress,
-                                       w["joint_efficiency"], w["corrosion_allowance"])
-        hoop = np.maximum(hoop[:, 1:], hoop[:, :-1])[:, self.lengths > 0]  # reach: worse end
-        handling = np.asarray(pipewall.minimum_handling_thickness(d, w["handling_rule"]))
-        req = np.maximum(hoop, handling[:, None])
-        plates = np.asarray(w["plates"]) if w["plates"] else \
-            pipewall.standard_plate_thicknesses()
-        top = float(np.max(plates))
-        # beyond the thickest plate the required thickness stands (flagged by the caller)
-        rounded = np.asarray(pipewall.round_up_to_plates(np.minimum(req, top), plates))
-        return np.where(req > top, req, rounded), req
-
-    def steel_mass(self, d, thickness):
+        head = np.broadcast_to(head, (d.size, head.shape[-1]))
         steel = wall_material(self.case)
-        d = np.atleast_1d(np.asarray(d, float))
-        reach = self.lengths[None, self.lengths > 0]
-        return pipewall.steel_mass(d[:, None], thickness, reach, steel.density).sum(axis=1)
+        return [pipewall.wall_along_route(
+            self.route.chainage, np.maximum(hd, 0.0), di, steel, _plates(self.case),
+            joint_efficiency=w["joint_efficiency"], corrosion_allowance=w["corrosion_allowance"],
+            handling_rule=w["handling_rule"], water_density=self.props.density,
+            external_pressure=self.props.atmospheric_pressure,
+            buckling_safety=w["buckling_safety"], beyond_plates="keep")
+            for di, hd in zip(d, head, strict=True)]
 
-    def capital(self, d, thickness=None, smooth=True):
-        """Pipe capital cost [currency] for diameters ``d``.
+    def wall(self, d, design_head=None):
+        """Plate and required thickness of each reach -> two (n_d, n_reach) arrays [m]."""
+        keep = self.lengths > 0
+        prof = self.walls(d, design_head)
+        return (np.array([p.reach_plate[keep] for p in prof]),
+                np.array([p.reach_required[keep] for p in prof]))
+
+    def costs(self, d, thickness=None, smooth=True, steel_factor=1.0):
+        """Capital cost items of the pipe for diameters ``d`` (summed over the reaches).
 
         ``smooth`` uses the required (unrounded) thickness, which keeps the cost a smooth
         function of D for the optimizer; the candidate table uses the real plates.
+        ``steel_factor`` scales the steel price and the items charged on it.
         """
         c = self.case.costs
         d = np.atleast_1d(np.asarray(d, float))
         if thickness is None:
             plate, req = self.wall(d)
             thickness = req if smooth else plate
-        mass = self.steel_mass(d, thickness)
-        steel_cost = mass / 1000.0 * c["steel_price"]
-        length = float(self.lengths.sum())
-        civil = (c["civil_fixed"] + c["civil_per_diameter"] * d ** c["civil_exponent"]) * length
-        return (steel_cost * (1 + c["fabrication_factor"] + c["installation_factor"]) + civil) \
-            * (1 + c["contingency"])
+        thickness = np.atleast_2d(thickness)
+        reach = self.lengths[self.lengths > 0]
+        parts = economics.pipe_cost_breakdown(
+            d[:, None], reach[None, :], thickness=thickness,
+            density=wall_material(self.case).density,
+            cost_per_tonne=c["steel_price"] * steel_factor,
+            fabrication_factor=c["fabrication_factor"],
+            installation_factor=c["installation_factor"], civil_fixed=c["civil_fixed"],
+            civil_coefficient=c["civil_per_diameter"], civil_exponent=c["civil_exponent"],
+            contingency_factor=c["contingency"])
+        return {k: np.asarray(v).sum(axis=1) for k, v in parts.items()}
 
-    def annualized(self, d, energy_price=None, discount_rate=None, capital_factor=1.0,
+    def capital(self, d, thickness=None, smooth=True, steel_factor=1.0):
+        """Pipe capital cost [currency] for diameters ``d``."""
+        return self.costs(d, thickness, smooth, steel_factor)["total"]
+
+    def steel_mass(self, d, thickness):
+        return self.costs(d, thickness)["mass"]
+
+    def cost_model(self, energy_price=None, discount_rate=None, capital_factor=1.0,
                    steel_factor=1.0):
-        """Annualized cost [currency/year] and its parts for diameters ``d``."""
+        """The annualized cost of a diameter (:func:`penstock.diameter.annual_cost_model`)."""
         e = self.case.economics
-        price = (e["energy_price"] if energy_price is None else energy_price) / 3.6e6
-        rate = e["discount_rate"] if discount_rate is None else discount_rate
-        crf = float(economics.capital_recovery_factor(rate, e["life"]))
-        cap = self.capital(d) * capital_factor
-        if steel_factor != 1.0:
-            cap = cap + (steel_factor - 1.0) * self.steel_part(d) * capital_factor
-        om = self.case.costs["om_fraction"] * cap
-        lost = self.energy_lost(d) * price
-        return {"capital": cap, "crf": crf, "capital_annual": crf * cap, "om": om,
-                "lost_value": lost, "total": crf * cap + om + lost}
+        price = e["energy_price"] if energy_price is None else energy_price
 
-    def steel_part(self, d):
-        c = self.case.costs
-        _, t = self.wall(d)
-        mass = self.steel_mass(d, t)
-        return mass / 1000.0 * c["steel_price"] * (1 + c["fabrication_factor"]
-                                                    + c["installation_factor"]) * \
-            (1 + c["contingency"])
+        def capital(d):
+            out = self.capital(d, steel_factor=steel_factor) * capital_factor
+            return float(out[0]) if np.ndim(d) == 0 else out
+
+        return dia.annual_cost_model(
+            capital, self.energy_lost, energy_price=price / J_PER_KWH,
+            discount_rate=e["discount_rate"] if discount_rate is None else discount_rate,
+            economic_life=e["life"], om_fraction=self.case.costs["om_fraction"])
+
+    def annualized(self, d, **kw):
+        """Annualized cost [currency/year] and its parts for diameters ``d``."""
+        parts = self.cost_model(**kw).components(np.atleast_1d(np.asarray(d, float)))
+        parts["lost_value"] = parts["lost_energy_value"]
+        return parts
 
 
 def applicable(case) -> str | None:
@@ -253,14 +311,17 @@ def applicable(case) -> str | None:
 
 
 def run(case, props, steady, prod, ham, warns, methods, tick) -> dict:
-    """Sweep, optimum, candidates and sensitivity of a uniform penstock diameter."""
+    """Sweep, optimum, feasible recommendation, candidates and sensitivity of a uniform
+    penstock diameter."""
     why = applicable(case)
     if why:
         warns.append(Warning_("diameter study", why + "; the study is skipped",
                               severity="note"))
         return {"headline": {}}
     tick("diameter study")
-    model = DiameterModel(case, props, prod, case_loss=steady["head_loss"])
+    say = Say(case.unit_system)
+    model = DiameterModel(case, props, prod, case_loss=steady["head_loss"],
+                          roughness_years=steady["energy_roughness_years"])
     if ham.get("wave_speeds") is not None:   # the case's own wave speed, for Joukowsky's cap
         model.wave_speed = float(ham["wave_speeds"]["wave speed [m/s]"].mean())
     lo, hi = model.bounds()
@@ -272,7 +333,6 @@ def run(case, props, steady, prod, ham, warns, methods, tick) -> dict:
     if (sizes >= workable).any():
         sizes = sizes[sizes >= workable]   # no size that loses half the head is offered
     if sizes.size == 0:
-        say = Say(case.unit_system)
         warns.append(Warning_("diameter study", f"no available size lies near the sweep "
                               f"range {say.m(lo, 3)} to {say.m(hi, 3)} (the default sizes go "
                               "in 50 mm steps); give diameter_study.sizes to study this pipe; "
@@ -288,42 +348,59 @@ def run(case, props, steady, prod, ham, warns, methods, tick) -> dict:
         "operation and maintenance [currency/year]": parts["om"],
         "value of energy lost [currency/year]": parts["lost_value"],
         "annualized cost [currency/year]": parts["total"],
-        "energy lost [MWh/year]": model.energy_lost(d_sweep) / 3.6e9,
+        "energy lost [MWh/year]": parts["energy_lost"] / J_PER_MWH,
         "thinnest plate [mm]": 1e3 * t_sweep.min(axis=1),
         "thickest plate [mm]": 1e3 * t_sweep.max(axis=1),
     })
-    opt = dia.optimum_diameter(lambda d: float(model.annualized(d)["total"][0]), (lo, hi),
-                               sizes=sizes)
+    base = model.cost_model()
+    opt = dia.optimum_diameter(base, (lo, hi), sizes=sizes)
     if opt.warning:
         warns.append(Warning_("diameter study", opt.warning))
+    years = steady["energy_roughness_years"]
     methods.add("Diameter study", "annualized cost = capital recovery factor × capital + O&M + "
-                "value of the energy lost over the flow record; bounded scalar minimization "
-                "(scipy), snapped to the available sizes", "Capital recovery factor: any "
-                "engineering-economics text, e.g. Newnan, Eschenbach & Lavelle (2020), "
-                "Engineering Economic Analysis, 14th ed., OUP, ch. 4; scipy.optimize."
-                "minimize_scalar (Brent, bounded)")
+                "value of the energy lost over the flow record (roughness " +
+                ("as new" if years is None else f"after {years:g} years, half the service "
+                 "life") + "); bounded scalar minimization (scipy), snapped to the available "
+                "sizes; the recommended size is the cheaper neighbour of the optimum that "
+                "passes the steady pressure check at the crown (minimum headwater, every "
+                "study flow, new and aged pipe) and the wall rules, else the next larger size "
+                "that does", "Capital recovery factor: any engineering-economics text, e.g. "
+                "Newnan, Eschenbach & Lavelle (2020), Engineering Economic Analysis, 14th ed., "
+                "OUP, ch. 4; scipy.optimize.minimize_scalar (Brent, bounded)")
     methods.add("Wall thickness", "hoop stress t = p·D/(2·σ_allow·E_j) + corrosion allowance, "
-                "handling minimum, rounded up to plates; buckling of an unstiffened tube "
-                "under full vacuum p_cr = 2E/(1−ν²)·(t/D)³ with a safety factor",
+                "handling minimum, and an unstiffened wall under full vacuum at the site "
+                "(p_cr = 2E/(1−ν²)·((t−c)/D_mean)³ with the case's safety factor), rounded up "
+                "to plates, each reach at the thicker of its two ends",
                 "AWWA M11 (2017), Steel Pipe, ch. 4 and 6; ASCE MOP 79 (2012), Steel "
                 "Penstocks; Timoshenko & Gere (1961), Theory of Elastic Stability (from "
                 "memory)")
 
     # candidates: the neighbours of the optimum, the case's own diameter(s), user's list
-    cands = list(st["candidates"]) or sorted({opt.lower_size or opt.selected_size,
-                                              opt.selected_size,
-                                              opt.upper_size or opt.selected_size,
+    neighbours = sorted({x for x in (opt.lower_size, opt.selected_size, opt.upper_size)
+                         if x is not None})
+    cands = list(st["candidates"]) or sorted({*neighbours,
                                               *[s.diameter for s in case.segments]})
     dropped = [d for d in cands if d < workable]
     if dropped:
         warns.append(Warning_("diameter study", "candidate diameter(s) " + ", ".join(
-            f"{d:g} m" for d in dropped) + f" lose more than half the gross head at the design "
-            f"flow (smaller than {workable:.3f} m) and are left out"))
-    cands = [d for d in cands if d >= workable]
-    if not any(math.isclose(d, opt.selected_size, rel_tol=1e-12) for d in cands):
-        cands = sorted([*cands, opt.selected_size])   # the recommended size: always checked
+            say.m(d, 3) for d in dropped) + " lose more than half the gross head at the "
+            f"design flow (smaller than {say.m(workable, 3)}) and are left out"))
+    cands = sorted({float(d) for d in cands if d >= workable} | set(neighbours))
+    # one row per size: a listed or own diameter within SAME_SIZE of a size is that size
+    merged = []
+    for d in cands:
+        if merged and abs(d - merged[-1]) <= SAME_SIZE * d:
+            if d in neighbours:
+                merged[-1] = d
+            continue
+        merged.append(d)
+    cands = merged
     tick("diameter candidates")
-    cand = candidate_table(case, props, steady, prod, model, cands, warns)
+    rows = {d: candidate_row(case, props, steady, prod, model, d) for d in cands}
+    recommended = _recommend(opt, sizes, rows, case, props, steady, prod, model, warns, say)
+    cand = pd.DataFrame([rows[d] for d in sorted(rows)])
+    if recommended is not None:
+        _vacuum_note(case, rows[recommended], recommended, warns, say)
     # empirical sanity checks
     p_inst = prod["headline"]["installed_capacity"]
     hn = prod["headline"]["net_head"]
@@ -336,43 +413,38 @@ def run(case, props, steady, prod, ham, warns, methods, tick) -> dict:
                     "source": entry["reference"], "validity": entry["validity"]})
     methods.add("Diameter sanity checks", "empirical diameters of Bier, Sarkaria, Fahlbusch "
                 "and an economic velocity", "; ".join(e["source"] for e in emp))
-    # sensitivity
+    # sensitivity of the economic optimum (before the pressure checks)
     tick("diameter sensitivity")
     e = case.economics
     prices = e["energy_price"] * np.array([0.5, 0.75, 1.0, 1.25, 1.5])
     rates = np.unique(np.clip(e["discount_rate"] + np.array([-0.03, 0.0, 0.03]), 0.0, None))
-    grid_rows = []
-    for pr in prices:
-        for rt in rates:
-            o = dia.optimum_diameter(lambda d, pr=pr, rt=rt: float(model.annualized(
-                d, energy_price=pr, discount_rate=rt)["total"][0]), (lo, hi), sizes=sizes)
-            grid_rows.append({"energy price [currency/kWh]": pr, "discount rate [%]": 100 * rt,
-                              "optimum diameter [m]": o.diameter,
-                              "selected size [m]": o.selected_size,
-                              "annualized cost [currency/year]": o.cost})
-    oat = []
-    for name, kw in (("capital cost (all items)", "capital_factor"),
-                     ("steel, fabrication and installation", "steel_factor")):
-        for factor in (0.8, 1.0, 1.2):
-            o = dia.optimum_diameter(lambda d, kw=kw, f=factor: float(model.annualized(
-                d, **{kw: f})["total"][0]), (lo, hi), sizes=sizes)
-            oat.append({"input varied": name, "factor [-]": factor,
-                        "optimum diameter [m]": o.diameter,
-                        "selected size [m]": o.selected_size,
-                        "annualized cost [currency/year]": o.cost})
-    for name, base in (("energy price", e["energy_price"]),
-                       ("discount rate", e["discount_rate"])):
-        for factor in (0.8, 1.2):
-            kwargs = {"energy_price": base * factor} if name == "energy price" else {
-                "discount_rate": base * factor}
-            o = dia.optimum_diameter(lambda d, kw=kwargs: float(model.annualized(
-                d, **kw)["total"][0]), (lo, hi), sizes=sizes)
-            oat.append({"input varied": name, "factor [-]": factor,
-                        "optimum diameter [m]": o.diameter,
-                        "selected size [m]": o.selected_size,
-                        "annualized cost [currency/year]": o.cost})
-    sel = cand[np.isclose(cand["diameter [m]"], opt.selected_size)]
-    wall_profile = _wall_profile(case, model, ham, opt.selected_size)
+    grid = dia.sensitivity_grid(lambda energy_price, discount_rate: model.cost_model(
+        energy_price=energy_price, discount_rate=discount_rate), prices, rates,
+        bounds=(lo, hi), sizes=sizes)
+    grid_rows = [{"energy price [currency/kWh]": pr, "discount rate [%]": 100 * rt,
+                  "optimum diameter [m]": grid.optimum_diameter[i, j],
+                  "selected size [m]": grid.selected_size[i, j],
+                  "annualized cost [currency/year]": grid.optimum_cost[i, j]}
+                 for i, pr in enumerate(grid.energy_prices)
+                 for j, rt in enumerate(grid.discount_rates)]
+    names = {"capital_factor": "capital cost (all items)",
+             "steel_factor": "steel, fabrication and installation",
+             "energy_price": "energy price", "discount_rate": "discount rate"}
+    base_inputs = {"capital_factor": 1.0, "steel_factor": 1.0,
+                   "energy_price": e["energy_price"]}
+    if e["discount_rate"] > 0:
+        base_inputs["discount_rate"] = e["discount_rate"]
+    oat = [{"input varied": names.get(r.name, r.name), "factor [-]": r.factor,
+            "optimum diameter [m]": r.optimum_diameter, "selected size [m]": r.selected_size,
+            "annualized cost [currency/year]": r.optimum_cost}
+           for r in dia.one_at_a_time(lambda **kw: model.cost_model(**kw), base_inputs,
+                                      bounds=(lo, hi), variation=0.2, sizes=sizes)]
+    methods.add("Diameter sensitivity", "the economic optimum re-found with one input varied "
+                "(before the pressure checks, which may move the recommendation up)",
+                "penstock.diameter.sensitivity_grid and one_at_a_time")
+    sel = rows.get(recommended) if recommended is not None else None
+    wall_profile = _wall_profile(case, model, recommended if recommended is not None else
+                                 opt.selected_size)
     return {
         "diameter_sweep": sweep, "diameter_candidates": cand,
         "diameter_empirical": pd.DataFrame(emp),
@@ -381,15 +453,53 @@ def run(case, props, steady, prod, ham, warns, methods, tick) -> dict:
         "wall_profile": wall_profile,
         "model": model,
         "headline": {
-            "optimum_diameter": opt.diameter, "selected_diameter": opt.selected_size,
+            "optimum_diameter": opt.diameter, "selected_diameter": recommended,
+            "economic_size": opt.selected_size,
             "optimum_cost": opt.cost, "optimum_relative_derivative": opt.relative_derivative,
-            "selected_wall_min": float(sel["thinnest plate [mm]"].iloc[0]) / 1e3 if len(sel)
-            else None,
-            "selected_wall_max": float(sel["thickest plate [mm]"].iloc[0]) / 1e3 if len(sel)
-            else None,
-            "crf": float(economics.capital_recovery_factor(e["discount_rate"], e["life"])),
+            "selected_wall_min": sel["thinnest plate [mm]"] / 1e3 if sel else None,
+            "selected_wall_max": sel["thickest plate [mm]"] / 1e3 if sel else None,
+            "selected_row": sel,
+            "crf": base.crf,
         },
     }
+
+
+def _recommend(opt, sizes, rows, case, props, steady, prod, model, warns, say):
+    """The cheaper feasible neighbour of the optimum, else the next larger feasible size."""
+    near = [d for d in (opt.lower_size, opt.upper_size, opt.selected_size) if d is not None]
+    ok = [d for d in near if rows[d]["passes the checks"]]
+    if ok:
+        best = min(ok, key=lambda d: rows[d]["annualized cost [currency/year]"])
+        if best != opt.selected_size:
+            warns.append(Warning_("diameter study", "the economic size "
+                                  f"{say.m(opt.selected_size, 3)} fails {rows[opt.selected_size]['governing check']}; "
+                                  f"{say.m(best, 3)} is recommended instead"))
+        return best
+    top = max(near)
+    margin = "minimum steady pressure margin at the crown, minimum headwater [m]"
+    previous = rows[top][margin]
+    for d in [float(x) for x in sizes if x > top][:MAX_SIZES_UP]:
+        same = [k for k in rows if abs(k - d) <= SAME_SIZE * d]
+        if same:       # a case's own diameter given in other units, say: already a row
+            d = same[0]
+        else:
+            rows[d] = candidate_row(case, props, steady, prod, model, d)
+        if not rows[d]["passes the checks"] and rows[d][margin] <= previous + 1e-3:
+            break   # a larger pipe no longer raises the grade line where it governs
+        previous = rows[d][margin]
+        if rows[d]["passes the checks"]:
+            warns.append(Warning_("diameter study", f"the sizes beside the optimum fail "
+                                  f"{rows[opt.selected_size]['governing check']}; the smallest "
+                                  f"size that passes every check, {say.m(d, 3)}, is recommended "
+                                  "(costlier than the economic optimum)"))
+            return d
+    last = max(rows)
+    warns.append(Warning_("diameter study", f"no size up to {say.m(last, 3)} passes the "
+                          f"checks (governing: {rows[last]['governing check']}), and larger "
+                          "sizes do not help or were not tried: no diameter is recommended; "
+                          "the route (or the intake's depth), the headwater or the pipe "
+                          "material must change"))
+    return None
 
 
 def _moc_design_head(case, props, model, d):
@@ -409,7 +519,11 @@ def _moc_design_head(case, props, model, d):
     rise = np.interp(s_nodes, res.chainage, np.maximum(res.max_head - res.steady_head, 0.0))
     min_head = np.interp(s_nodes, res.chainage, res.min_head)
     static = c.headwater - route.elevation
-    return static + rise, float(res.max_head_rise.max()), min_head - route.elevation, route
+    pmin = gradeline.crown_pressure_head(min_head - route.elevation,
+                                         np.where(np.isnan(route.node_diameter), d,
+                                                  route.node_diameter),
+                                         c.headwater - c.headwater_min)
+    return static + rise, float(res.max_head_rise.max()), pmin, route
 
 
 class _NullMethods:
@@ -417,65 +531,106 @@ class _NullMethods:
         pass
 
 
-def candidate_table(case, props, steady, prod, model, diameters, warns):
-    """The full table for a few diameters, each with its own water-hammer run."""
-    rows = []
+def steady_crown_margin(case, props, steady, route, d):
+    """Least steady pressure head at the crown over the study flows, minimum headwater,
+    for the pipe new and aged to the end of its service life, less the margin -> (margin
+    [m], chainage [m], flow case)."""
+    pipe = ~route.is_reservoir
+    drawdown = case.headwater - case.headwater_min
+    sets = [(None, "")]
+    if any(s.roughness_growth for s in case.segments):
+        sets.append((route.aged_roughness(case.segments, case.service_life),
+                     f", after {case.service_life:g} years"))
+    worst = (np.inf, None, None)
+    for rough, tag in sets:
+        g = route.grade_lines(steady["flows"], case.headwater, props.kinematic_viscosity, rough)
+        p = gradeline.crown_pressure_head(g.pressure_head[:, pipe], route.node_diameter[pipe],
+                                          drawdown)
+        i, j = np.unravel_index(np.argmin(p), p.shape)
+        if p[i, j] < worst[0]:
+            worst = (float(p[i, j]), float(route.chainage[pipe][j]),
+                     steady["flow_names"][i] + tag)
+    return worst[0] - case.pressure_margin, worst[1], worst[2]
+
+
+def candidate_row(case, props, steady, prod, model, d):
+    """One row of the candidate table: diameter ``d`` with its own water-hammer run, real
+    plates, costs and the checks that decide whether it can be recommended."""
     e = case.economics
-    crf = float(economics.capital_recovery_factor(e["discount_rate"], e["life"]))
-    price = e["energy_price"] / 3.6e6
     gross = prod["headline"]["gross_head"]
     e0 = prod["headline"]["mean_annual_energy"] + model.case_lost
     steel = wall_material(case)
-    for d in sorted(set(float(x) for x in diameters)):
-        head, rise, pmin_t, route = _moc_design_head(case, props, model, d)
-        t, _ = model.wall(d, design_head=head[None, :])
-        cap = float(model.capital(d, thickness=t, smooth=False)[0])
-        mass = float(model.steel_mass(d, t)[0])
-        h_d = float(model.loss_on_grid(d, np.array([case.design_flow]))[0])
-        lost = float(model.energy_lost(d))
-        energy = e0 - lost    # the actual energy, re-based from the case's pipe to this D
-        v = case.design_flow / (math.pi * d**2 / 4)
-        tw = float(surge.water_starting_time(route.length.sum(), v, gross - h_d))
-        # steady pressure margin: minimum over the study flows of the grade lines at d
-        g = route.grade_lines(steady["flows"], case.headwater, props.kinematic_viscosity)
-        p_steady = float(g.pressure_head[:, ~route.is_reservoir].min())
-        buck = pipewall.buckling_check(t[0], d, steel.elastic_modulus, steel.poisson_ratio,
-                                       external_pressure=P_ATM_SEA_LEVEL,
-                                       safety_factor=case.wall["buckling_safety"])
-        needs = np.asarray(buck["needs_stiffeners"])
-        om = case.costs["om_fraction"] * cap
-        rows.append({
-            "diameter [m]": d, "thinnest plate [mm]": 1e3 * t.min(),
-            "thickest plate [mm]": 1e3 * t.max(), "steel mass [t]": mass / 1e3,
-            "capital cost [currency]": cap, "head loss at design flow [m]": h_d,
-            "net head at design flow [m]": gross - h_d,
-            "mean annual energy [MWh]": energy / 3.6e9,
-            "energy lost [MWh/year]": lost / 3.6e9,
-            "value of energy lost [currency/year]": lost * price,
-            "annualized capital [currency/year]": crf * cap,
-            "operation and maintenance [currency/year]": om,
-            "annualized cost [currency/year]": crf * cap + om + lost * price,
-            "maximum surge rise [m]": rise,
-            "minimum pressure margin, steady [m]": p_steady - case.pressure_margin,
-            "minimum pressure head, transient [m]": float(pmin_t.min()),
-            "velocity at design flow [m/s]": v, "water starting time [s]": tw,
-            "reaches needing stiffeners under vacuum [-]": int(needs.sum()),
-        })
-        top = max(case.wall["plates"]) if case.wall["plates"] else \
-            float(np.max(pipewall.standard_plate_thicknesses()))
-        if t.max() > top:
-            warns.append(Warning_("pipe wall", f"at D = {d:g} m the wall needs "
-                                  f"{1e3 * t.max():.1f} mm, more than the thickest plate "
-                                  f"({1e3 * top:.0f} mm)"))
-        if needs.any():
-            warns.append(Warning_("pipe wall", f"at D = {d:g} m, {int(needs.sum())} reaches "
-                                  f"would buckle under full vacuum (safety factor "
-                                  f"{case.wall['buckling_safety']:g}) without stiffeners or "
-                                  "a vacuum valve"))
-    return pd.DataFrame(rows)
+    head, rise, pmin_t, route = _moc_design_head(case, props, model, d)
+    t, _ = model.wall(d, design_head=head[None, :])
+    prof = model.walls(d, design_head=head[None, :])[0]
+    costs = model.costs(d, thickness=t, smooth=False)
+    cost = model.cost_model().components(np.array([d]))
+    cap = float(costs["total"][0])
+    crf = model.cost_model().crf
+    om = case.costs["om_fraction"] * cap
+    lost = float(model.energy_lost(d))
+    price = e["energy_price"] / J_PER_KWH
+    h_d = float(model.loss_on_grid(d, np.array([case.design_flow]))[0])
+    gain = prod["headline"]["draft_tube_recovery"]
+    hn = float(energy.net_head(gross, h_d, gain))
+    energy_d = e0 - lost    # the actual energy, re-based from the case's pipe to this D
+    v = gradeline.mean_velocity(case.design_flow, d)
+    tw = float(surge.water_starting_time(route.length.sum(), v, hn))
+    margin, at, flow_case = steady_crown_margin(case, props, steady, route, d)
+    w = case.wall
+    keep = model.lengths > 0
+    buck = pipewall.vacuum_check(t[0], d, steel.elastic_modulus, steel.poisson_ratio,
+                                 external_pressure=props.atmospheric_pressure,
+                                 safety_factor=w["buckling_safety"],
+                                 corrosion_allowance=w["corrosion_allowance"])
+    beyond = bool(np.any(prof.beyond_plates))
+    vac_governs = int(np.sum(np.maximum(prof.vacuum_thickness[:-1], prof.vacuum_thickness[1:])
+                             [keep] >= t[0] - 1e-12))
+    failures = []
+    # named without numbers (they stand in their own columns), so the text is the same
+    # in any unit system
+    if margin < 0:
+        failures.append(f"the steady pressure margin at the crown ({flow_case}, minimum "
+                        "headwater)")
+    if beyond:
+        failures.append("the wall (more than the thickest plate)")
+    if np.any(np.asarray(buck["needs_stiffeners"])):
+        failures.append("vacuum buckling of the unstiffened wall")
+    return {
+        "diameter [m]": d, "thinnest plate [mm]": 1e3 * t.min(),
+        "thickest plate [mm]": 1e3 * t.max(), "steel mass [t]": float(costs["mass"][0]) / 1e3,
+        "capital cost [currency]": cap, "head loss at design flow [m]": h_d,
+        "net head at design flow [m]": hn,
+        "mean annual energy [MWh]": energy_d / J_PER_MWH,
+        "energy lost [MWh/year]": lost / J_PER_MWH,
+        "value of energy lost [currency/year]": lost * price,
+        "annualized capital [currency/year]": crf * cap,
+        "operation and maintenance [currency/year]": om,
+        "annualized cost [currency/year]": crf * cap + om + lost * price,
+        "annualized cost, unrounded wall [currency/year]": float(cost["total"][0]),
+        "maximum surge rise [m]": rise,
+        "minimum steady pressure margin at the crown, minimum headwater [m]": margin,
+        "at chainage [m]": at,
+        "minimum transient pressure head at the crown, minimum headwater [m]":
+            float(pmin_t.min()),
+        "velocity at design flow [m/s]": v, "water starting time [s]": tw,
+        "largest vacuum-buckling utilisation [-]": float(np.max(buck["utilisation"])),
+        "reaches whose wall is set by full vacuum [-]": vac_governs,
+        "passes the checks": not failures,
+        "governing check": "; ".join(failures) if failures else "all pass",
+    }
 
 
-def _wall_profile(case, model, ham, d):
+def _vacuum_note(case, row, d, warns, say):
+    n = row["reaches whose wall is set by full vacuum [-]"]
+    if n:
+        warns.append(Warning_("pipe wall", f"at the recommended D = {say.m(d, 3)}, {n} reaches "
+                              "take their plate from full vacuum (unstiffened, safety factor "
+                              f"{case.wall['buckling_safety']:g}); stiffener rings or air "
+                              "valves may cost less", severity="note"))
+
+
+def _wall_profile(case, model, d):
     """Wall thickness and design pressure along the route at the selected diameter."""
     head, _, _, route = _moc_design_head(case, model.props, model, d)
     t, req = model.wall(d, design_head=head[None, :])

@@ -9,7 +9,6 @@ import numpy as np
 import pandas as pd
 
 from .. import gradeline
-from ..constants import GRAVITY
 from ..route import build_route
 from ..turbines import TURBINE_TYPES
 from .core import Say, Warning_
@@ -57,9 +56,7 @@ def run(case, props, warns, methods, tick, proceed=False) -> dict:
                 "(64/Re below Re 2000; linear blend 2000–4000)",
                 "Colebrook, C.F. (1939). J. Inst. Civil Eng. 11(4), 133–156, "
                 "doi:10.1680/ijoti.1939.13150")
-    rho_g = props.density * GRAVITY
-    atm_head = props.atmospheric_pressure / rho_g
-    vap_head = props.vapour_pressure / rho_g
+    atm_head, vap_head = props.atmospheric_head, props.vapour_head
     sets = [(gl, flow_names)]
     if any(seg.roughness_growth for seg in case.segments):
         years = case.service_life
@@ -71,6 +68,13 @@ def run(case, props, warns, methods, tick, proceed=False) -> dict:
                     f"{years:g} years", "Colebrook, C.F. & White, C.M. (1937). The reduction of "
                     "carrying capacity of pipes with age. J. ICE 7(1), 99–118; rates after "
                     "Lamont, P.A. (1981), J. AWWA 73(5), 274–280")
+    mid = energy_roughness_years(case)
+    energy_set = []
+    if mid is not None:   # the energy basis, for the loss breakdown that the Summary cites
+        keep = [i for i, n in enumerate(flow_names) if n == "design flow"]
+        energy_set = [(route.grade_lines(flows[keep], case.headwater, nu,
+                                         route.aged_roughness(case.segments, mid)),
+                       [f"design flow, after {mid:g} years"])]
     _design_flow_exists(case, route, gl, flow_names, atm_head, vap_head, warns, proceed)
     grade = pd.concat([_grade_table(route, g, n) for g, n in sets], ignore_index=True)
     parts = [_pressure_checks(case, route, g, n, atm_head, vap_head, warns) for g, n in sets]
@@ -79,7 +83,7 @@ def run(case, props, warns, methods, tick, proceed=False) -> dict:
                           ignore_index=True)
     _submergence(case, route, checks["flow [m^3/s]"].to_numpy(), list(checks["flow case"]),
                  warns, methods, checks)
-    breakdown = pd.concat([_loss_breakdown(case, route, g, n) for g, n in sets],
+    breakdown = pd.concat([_loss_breakdown(case, route, g, n) for g, n in sets + energy_set],
                           ignore_index=True)
     _velocity_checks(case, route, flows, flow_names, warns)
     _siphon_check(case, route, warns)
@@ -87,12 +91,30 @@ def run(case, props, warns, methods, tick, proceed=False) -> dict:
         "route": route, "flows": flows, "flow_names": flow_names, "gl": gl,
         "grade_lines": grade, "pressure_checks": checks, "stretches": stretches,
         "loss_breakdown": breakdown, "profile": _profile_table(case, route),
-        "head_loss": loss_function(case, route, props),
+        "head_loss": loss_function(case, route, props, energy_roughness(case, route)),
+        "energy_roughness_years": energy_roughness_years(case),
     }
 
 
-def loss_function(case, route, props, points: int = 400):
+def energy_roughness_years(case) -> float | None:
+    """Age of the pipe whose roughness the energy uses: half the service life when any
+    pipe's roughness grows (the mean of a linear growth over the life), else None."""
+    if any(seg.roughness_growth for seg in case.segments):
+        return case.service_life / 2.0
+    return None
+
+
+def energy_roughness(case, route):
+    """Element roughness of the energy basis (:func:`energy_roughness_years`), or None for
+    the pipe as new."""
+    years = energy_roughness_years(case)
+    return None if years is None else route.aged_roughness(case.segments, years)
+
+
+def loss_function(case, route, props, roughness=None, points: int = 400):
     """Penstock head loss as a vectorized function of the total flow [m^3/s] -> [m].
+
+    ``roughness`` replaces the route's element roughness (e.g. at mid-life). [m]
 
     The losses are computed exactly on a geometric grid of flows from 1e-4 to 1.5
     times the maximum plant flow and interpolated in between as h(Q) = c(Q)·Q², with
@@ -102,7 +124,7 @@ def loss_function(case, route, props, points: int = 400):
     """
     q_top = 1.5 * case.maximum_flow
     grid = np.geomspace(1e-4 * q_top, q_top, points)
-    g = route.grade_lines(grid, case.headwater, props.kinematic_viscosity)
+    g = route.grade_lines(grid, case.headwater, props.kinematic_viscosity, roughness)
     log_grid = np.log(grid)
     coeff = (g.friction_loss + g.local_loss).sum(axis=1) / grid**2
 
@@ -151,12 +173,12 @@ def _pressure_checks(case, route, gl, flow_names, atm_head, vap_head, warns):
     rows, stretch_rows = [], []
     pipe = ~route.is_reservoir
     x = route.chainage[pipe]
-    crown = np.sqrt(4.0 * route.node_area[pipe] / np.pi) / 2.0
+    d_node = route.node_diameter[pipe]
     drawdown = case.headwater - case.headwater_min
     for i, name in enumerate(flow_names):
         q = float(gl.flow[i])
         p_centre = gl.pressure_head[i, pipe]
-        p = p_centre - drawdown - crown
+        p = gradeline.crown_pressure_head(p_centre, d_node, drawdown)
         j = int(np.argmin(p))
         rows.append({"flow case": name, "flow [m^3/s]": q,
                      "minimum pressure head at the crown [m]": float(p[j]),
@@ -198,13 +220,12 @@ def _design_flow_exists(case, route, gl, flow_names, atm_head, vap_head, warns, 
     result built on it: net head, power, energy) cannot exist.  This is bad input,
     unlike a merely sub-atmospheric stretch, which stays a caution.
     """
-    from ..case import CaseError
+    from ..errors import CaseError
 
     i = int(np.argmin(np.abs(gl.flow - case.design_flow)))
     pipe = ~route.is_reservoir
     x = route.chainage[pipe]
-    crown = np.sqrt(4.0 * route.node_area[pipe] / np.pi) / 2.0
-    p = gl.pressure_head[i, pipe] - crown
+    p = gradeline.crown_pressure_head(gl.pressure_head[i, pipe], route.node_diameter[pipe])
     limit = vap_head - atm_head
     if not (p < limit).any():
         return
@@ -239,7 +260,7 @@ def _siphon_check(case, route, warns):
 
 def _submergence(case, route, flows, flow_names, warns, methods, checks):
     d0 = route.intake_diameter
-    v = flows / (np.pi * d0**2 / 4.0)
+    v = gradeline.mean_velocity(flows, d0)
     need = gradeline.submergence_gordon(v, d0, case.intake_approach)
     have = case.headwater_min - (route.intake_elevation + d0 / 2.0)
     checks["intake submergence available [m]"] = have

@@ -21,7 +21,8 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from .. import economics, energy
+from .. import economics, energy, gradeline
+from ..constants import HOURS_PER_YEAR, J_PER_KWH, J_PER_MWH, SECONDS_PER_HOUR
 from .core import Warning_
 
 BLOCK_ELEMENTS = 2_000_000   # samples × steps per block, to bound memory
@@ -143,11 +144,11 @@ def run(case, props, steady, prod, size, warns, methods, tick, samples=None) -> 
         b = min(n, a + block)
         rv = d["flow factor"][a:b, None] * river[None, :]
         loss = _block_loss(steady["head_loss"], ratio_e.q, ratio_s[a:b])
-        dt_loss = op["dt_loss"]
+        recovery = op["dt_recovery"]
 
-        def total(q, loss=loss, dt_loss=dt_loss):
-            out = loss(q)
-            return out + dt_loss(q) if dt_loss is not None else out
+        def total(q, loss=loss, recovery=recovery):
+            gain = recovery(q) if recovery is not None else 0.0
+            return -energy.net_head(0.0, loss(q), gain)
 
         o = energy.simulate_plant(rv, gross, case.design_flow / t["units"],
                                   density=props.density, n_units=t["units"],
@@ -173,24 +174,24 @@ def run(case, props, steady, prod, size, warns, methods, tick, samples=None) -> 
     elif complete.any():
         mean_energy = energies[:, complete].mean(axis=1)
     else:
-        mean_energy = energies.sum(axis=1) * (8760 * 3600.0) / (len(river) * step)
+        year = HOURS_PER_YEAR * SECONDS_PER_HOUR
+        mean_energy = energies.sum(axis=1) * year / (len(river) * step)
     # annualized cost at the recommended diameter
     e = case.economics
     crf = float(economics.capital_recovery_factor(e["discount_rate"], e["life"]))
     cost = np.full(n, np.nan)
     cost_note = ""
-    if size.get("diameter_candidates") is not None:
-        h = size["headline"]
-        cand = size["diameter_candidates"].set_index("diameter [m]")
-        row = cand.loc[h["selected_diameter"]]
-        base_lost = float(row["energy lost [MWh/year]"]) * 3.6e9
+    row = size.get("headline", {}).get("selected_row")
+    if row is not None:
+        base_lost = float(row["energy lost [MWh/year]"]) * J_PER_MWH
         det_lost = prod["headline"]["friction_energy"]
         scale = lost / det_lost if det_lost > 0 else np.ones(n)
         cap = float(row["capital cost [currency]"]) * d["capital factor"]
-        price = e["energy_price"] / 3.6e6 * d["price factor"]
+        price = e["energy_price"] / J_PER_KWH * d["price factor"]
         cost = crf * cap + case.costs["om_fraction"] * cap + base_lost * scale * price
     else:
-        cost_note = "no diameter study: annualized cost not sampled"
+        cost_note = ("no diameter study or no recommended diameter: annualized cost not "
+                     "sampled")
     margin = _pressure_margin(case, props, steady, route, life, d)
     tick("Monte Carlo summary")
     return _tables(case, n, d, mean_energy, cost, margin, prod, cost_note, warns, methods)
@@ -215,13 +216,14 @@ def _pressure_margin(case, props, steady, route, life, d):
     flows = np.asarray(steady["flows"], float)
     ratio = _LossRatio(case, props, route, life, d["roughness factor"], d["growth offset"])
     pipe = ~route.is_reservoir
-    crown = np.sqrt(4 * route.node_area[pipe] / np.pi) / 2
+    d_node = route.node_diameter[pipe]
     drawdown = case.headwater - case.headwater_min
 
     def margin(factor, growth):
         rough = sampled_roughness(case, route, factor, growth, life)
         g = route.grade_lines(flows, case.headwater, props.kinematic_viscosity, rough)
-        return float((g.pressure_head[:, pipe] - crown - drawdown).min() - case.pressure_margin)
+        crown = gradeline.crown_pressure_head(g.pressure_head[:, pipe], d_node, drawdown)
+        return float(crown.min() - case.pressure_margin)
 
     if not ratio.active:
         return np.full(len(d["roughness factor"]), margin(1.0, 0.0))
@@ -235,8 +237,8 @@ def _pressure_margin(case, props, steady, route, life, d):
 
 
 def _tables(case, n, d, energy_j, cost, margin, prod, cost_note, warns, methods):
-    e_mwh = energy_j / 3.6e9
-    det = prod["headline"]["mean_annual_energy"] / 3.6e9
+    e_mwh = energy_j / J_PER_MWH
+    det = prod["headline"]["mean_annual_energy"] / J_PER_MWH
     rng = np.random.default_rng(case.uncertainty["seed"] + 1)
     boot = np.median(e_mwh[rng.integers(0, n, size=(200, n))], axis=1)
     se_p50 = float(boot.std(ddof=1)) if n > 1 else 0.0
@@ -289,8 +291,8 @@ def _tables(case, n, d, energy_j, cost, margin, prod, cost_note, warns, methods)
         "mc_summary": pd.DataFrame(rows, columns=["quantity", "value", "unit"]),
         "mc_samples": samples, "mc_exceedance": exceed.reset_index(drop=True),
         "mc_cost_histogram": hist,
-        "headline": {"p50_energy": p(0.5) * 3.6e9, "p90_energy": p(0.10) * 3.6e9,
-                     "p99_energy": p(0.01) * 3.6e9, "p50_standard_error": se_p50 * 3.6e9,
+        "headline": {"p50_energy": p(0.5) * J_PER_MWH, "p90_energy": p(0.10) * J_PER_MWH,
+                     "p99_energy": p(0.01) * J_PER_MWH, "p50_standard_error": se_p50 * J_PER_MWH,
                      "probability_negative_margin": float(np.mean(margin < 0))},
     }
 

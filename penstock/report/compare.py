@@ -17,9 +17,11 @@ DIAMETER_ROWS = [
     "capital cost [currency]", "head loss at design flow [m]", "net head at design flow [m]",
     "mean annual energy [MWh]", "value of energy lost [currency/year]",
     "annualized cost [currency/year]", "maximum surge rise [m]",
-    "minimum pressure margin, steady [m]", "minimum pressure head, transient [m]",
+    "minimum steady pressure margin at the crown, minimum headwater [m]",
+    "minimum transient pressure head at the crown, minimum headwater [m]",
     "velocity at design flow [m/s]", "water starting time [s]",
-    "reaches needing stiffeners under vacuum [-]",
+    "largest vacuum-buckling utilisation [-]",
+    "reaches whose wall is set by full vacuum [-]", "passes the checks", "governing check",
 ]
 
 

@@ -18,10 +18,17 @@ def diameter_sheet(ws, ctx, title):
     h = r.headline
     cur = r.case.economics["currency"]
     row = title(ws, ctx, "Diameter study")
-    sh.put(ws, row, 1, f"Uniform inside diameter along the whole route. Optimum "
-           f"{ctx.v(h['optimum_diameter'], 'm'):.3f} {ctx.u('m')}; recommended size "
-           f"{ctx.v(h['selected_diameter'], 'm'):.3f} {ctx.u('m')} (the cheaper available size "
-           "beside it). Costs in " + cur + "; the cost inputs are the case's.", font=sh.SUBTITLE)
+    if h.get("selected_diameter") is not None:
+        pick = (f"recommended size {ctx.v(h['selected_diameter'], 'm'):.3f} {ctx.u('m')}, the "
+                "cheaper size beside it that passes the steady pressure check at the crown "
+                "(minimum headwater, every study flow, pipe new and aged) and the wall rules, "
+                "or the next larger size that does")
+    else:
+        pick = ("no size passes the steady pressure check at the crown and the wall rules, "
+                "so none is recommended (see the column 'governing check')")
+    sh.put(ws, row, 1, f"Uniform inside diameter along the whole route. Economic optimum "
+           f"{ctx.v(h['optimum_diameter'], 'm'):.3f} {ctx.u('m')}; {pick}. Costs in " + cur +
+           "; the cost inputs are the case's.", font=sh.SUBTITLE)
     row += 2
     # capital recovery factor as a live formula
     e = r.case.economics

@@ -66,18 +66,23 @@ def convert_table(df: pd.DataFrame, system: str) -> pd.DataFrame:
             out[col] = series
     res = pd.DataFrame(out, index=df.index)
     if {"value", "unit"} <= set(df.columns):
-        vals, labs = [], []
-        for v, u in zip(df["value"], df["unit"]):
-            if u and isinstance(v, (int, float)) and not isinstance(v, bool):
-                t = report_unit(u, system)
-                vals.append(units.convert(float(v), u, t) if t != u else v)
-                labs.append(units.label(t))
-            else:
-                vals.append(v)
-                labs.append(units.label(u) if u else "")
-        res["value"] = pd.Series(vals, index=df.index, dtype=object)
+        labs = [units.label(report_unit(u, system)) if u else "" for u in df["unit"]]
+        for col in [c for c in VALUE_COLUMNS if c in df.columns]:
+            vals = []
+            for v, u in zip(df[col], df["unit"]):
+                if u and isinstance(v, (int, float)) and not isinstance(v, bool) \
+                        and v == v:
+                    t = report_unit(u, system)
+                    vals.append(units.convert(float(v), u, t) if t != u else v)
+                else:
+                    vals.append(v)
+            res[col] = pd.Series(vals, index=df.index, dtype=object)
         res["unit"] = labs
     return res
+
+
+#: Columns of a (quantity, value, unit) table that hold values in the row's unit.
+VALUE_COLUMNS = ("value", "recommended uniform pipe")
 
 
 def header_label(header: str) -> str:

@@ -123,17 +123,19 @@ def _summary_sheet(ws, ctx):
     ws.row_dimensions[row].height = 48
     row += 2
     table = convert_table(r.summary, ctx.system)
-    first, last = sh.write_table(ws, table, row=row, widths={"quantity": 58, "value": 22,
-                                                               "unit": 10})
+    table = table.rename(columns={"value": "case's own pipe"})
+    first, last = sh.write_table(ws, table, row=row, widths={
+        "quantity": 58, "case's own pipe": 22, "unit": 10, "recommended uniform pipe": 22})
     for i in range(first, last + 1):
-        ws.cell(row=i, column=2).number_format = "#,##0.00"
+        for j in (2, 4):
+            ws.cell(row=i, column=j).number_format = "#,##0.00"
     row = last + 2
     row = _net_head_block(ws, ctx, row)
     n_warn = int((r.warnings["severity"] == "warning").sum()) if len(r.warnings) else 0
     sh.put(ws, row, 1, f"Cautions raised: {n_warn} warnings and "
            f"{len(r.warnings) - n_warn} notes; see the '{SHEET_NAMES['cautions']}' sheet.",
            font=sh.SUBTITLE)
-    ws.column_dimensions["D"].width = 4
+    ws.column_dimensions["E"].width = 4
     # headline chart: the route at the design flow, drawn from the route sheet's columns
     ctx.headline_anchor = f"F{first - 1}"
     ctx.summary_ws = ws
@@ -151,8 +153,10 @@ def _net_head_block(ws, ctx, row: int) -> int:
         ("headwater level", ctx.case.headwater, "m", None),
         ("tailwater level (or runner, impulse units)", ctx.case.headwater - h["gross_head"],
          "m", None),
-        ("penstock and draft-tube losses at design flow", h["total_loss"], "m", None),
-        ("net head", None, "m", "=B{0}-B{1}-B{2}"),
+        ("penstock losses at design flow", h["total_loss"], "m", None),
+        ("head recovered by the draft tube (0 without one)", h["draft_tube_recovery"], "m",
+         None),
+        ("net head", None, "m", "=B{0}-B{1}-B{2}+B{3}"),
         ("design flow", h["design_flow"], "m³/s", None),
         ("water density", ctx.r.headline["density"], "kg/m³", None),
         ("gravity", GRAVITY, "m/s²", None),
@@ -161,7 +165,7 @@ def _net_head_block(ws, ctx, row: int) -> int:
          "-", None),
         ("transformer efficiency", t["transformer_efficiency"], "-", None),
         ("installed capacity", None, "kW",
-         "=B{5}*B{6}*B{4}*B{3}*B{7}*B{8}*B{9}/1000"),
+         "=B{6}*B{7}*B{5}*B{4}*B{8}*B{9}*B{10}/1000"),
     ]
     rows = [row + i for i in range(len(items))]
     for i, (name, value, unit, f) in enumerate(items):
@@ -172,8 +176,8 @@ def _net_head_block(ws, ctx, row: int) -> int:
         else:
             sh.formula(ws, rows[i], 2, f.format(*rows), fmt="#,##0.00", font=sh.SUBTITLE)
         sh.put(ws, rows[i], 3, unit)
-    ctx.formula_cells = {"net head": (ws.title, f"B{rows[3]}", h["net_head"]),
-                         "installed capacity": (ws.title, f"B{rows[10]}",
+    ctx.formula_cells = {"net head": (ws.title, f"B{rows[4]}", h["net_head"]),
+                         "installed capacity": (ws.title, f"B{rows[11]}",
                                                 h["installed_capacity"] / 1e3)}
     return rows[-1] + 2
 
