@@ -195,6 +195,54 @@ def valve_opening(time, law="linear", closure_time=None, final_opening=0.0, knee
 
 
 # --------------------------------------------------------------------------- grid
+def fold_local_losses(friction_factors, diameters, lengths, local_k, local_area, local_segment):
+    """Darcy friction factor of each pipe segment with its local losses folded in.
+
+    Parameters
+    ----------
+    friction_factors : array_like, shape (n_seg,)
+        Darcy friction factor of each segment at the flow of interest. [-]
+    diameters, lengths : array_like, shape (n_seg,)
+        Inside diameter and length along the pipe of each segment. [m]
+    local_k : array_like, shape (n_loss,)
+        Local loss coefficients. [-]
+    local_area : array_like, shape (n_loss,)
+        Area whose velocity head each coefficient refers to. [m^2]
+    local_segment : array_like of int, shape (n_loss,)
+        Segment each local loss is charged to. [-]
+
+    Returns
+    -------
+    numpy.ndarray
+        Equivalent friction factor per segment. [-]
+
+    Notes
+    -----
+    The same head loss at the same flow: :math:`K (Q/A_K)^2/2g = \\Delta f (L/D)
+    (Q/A)^2/2g` gives
+
+    .. math:: f_{eq} = f + \\sum K \\left(\\frac{A}{A_K}\\right)^2 \\frac{D}{L}
+
+    so that the steady state before a transient matches the steady grade lines'
+    losses. The loss is then spread along its segment instead of standing at its
+    point, which shifts the head locally (Wylie & Streeter 1993, §3.5, treat a local
+    loss as its own boundary instead; from memory).
+    """
+    f = np.asarray(friction_factors, dtype=float).copy()
+    d = np.asarray(diameters, dtype=float)
+    length = np.asarray(lengths, dtype=float)
+    k = np.asarray(local_k, dtype=float)
+    a_k = np.asarray(local_area, dtype=float)
+    seg = np.asarray(local_segment, dtype=int)
+    if np.any(length <= 0) or np.any(d <= 0):
+        raise ValueError("segment lengths and diameters must be positive [m].")
+    if np.any(k < 0) or np.any(a_k <= 0):
+        raise ValueError("local loss coefficients must be >= 0 on positive areas.")
+    area = np.pi * d**2 / 4.0
+    np.add.at(f, seg, k * (area[seg] / a_k) ** 2 * d[seg] / length[seg])
+    return f
+
+
 @dataclass(frozen=True)
 class CharacteristicGrid:
     """Space-time grid of the MOC (Courant number 1 in every segment).

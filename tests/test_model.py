@@ -22,6 +22,9 @@ from penstock.constants import GRAVITY
 CASES = Path(__file__).resolve().parents[1] / "cases"
 DEMOS = sorted(p.name for p in CASES.iterdir() if (p / "site.toml").is_file())
 
+CROWN = "minimum pressure head at the crown, minimum headwater [m]"
+CENTRE = "pressure head at the centreline, normal headwater [m]"
+
 
 @pytest.fixture(scope="module", params=DEMOS)
 def demo(request):
@@ -122,7 +125,7 @@ def test_high_point_is_flagged_at_maximum_flow():
     assert st["from chainage [m]"].iloc[0] < 1250 < st["to chainage [m]"].iloc[0]
     assert any("1250.0 m" in m for m in r.warnings["message"])
     # the aged pipe (roughness growth given) is worse than the new one
-    aged = r.pressure_checks.set_index("flow case")["minimum pressure head at the crown [m]"]
+    aged = r.pressure_checks.set_index("flow case")[CROWN]
     assert aged["design flow, after 40 years"] < aged["design flow"]
 
 
@@ -211,12 +214,12 @@ def test_min_pressure_matches_grade_table(demo):
         # the checks hold at the crown (D/2 above the centreline) at the minimum headwater
         d = np.array([next(s.diameter for s in case.segments if s.start <= x <= s.end)
                       for x in part["chainage [m]"]])
-        crown = part["pressure head [m]"].to_numpy() - d / 2 - (case.headwater
+        crown = part[CENTRE].to_numpy() - d / 2 - (case.headwater
                                                                  - case.headwater_min)
-        assert row["minimum pressure head at the crown [m]"] == pytest.approx(crown.min(),
+        assert row[CROWN] == pytest.approx(crown.min(),
                                                                               abs=1e-9)
         assert row["minimum pressure head at the centreline, normal headwater [m]"] == \
-            pytest.approx(part["pressure head [m]"].min())
+            pytest.approx(part["pressure head at the centreline, normal headwater [m]"].min())
 
 
 def test_interpolated_loss_function_matches_direct_evaluation():

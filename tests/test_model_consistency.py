@@ -41,7 +41,7 @@ def test_recommended_diameter_passes_the_pressure_checks_as_the_case_own_pipe(de
         recommended += 1
         case = penstock.load_case(CASES / name)
         own = run_case(sizing.uniform_case(case, d), samples=0)
-        low = own.pressure_checks["minimum pressure head at the crown [m]"].min()
+        low = own.pressure_checks["minimum pressure head at the crown, minimum headwater [m]"].min()
         assert low >= case.pressure_margin - 1e-9, name
         row = r.diameter_candidates.set_index("diameter [m]").loc[d]
         assert row[MARGIN] == pytest.approx(low - case.pressure_margin, abs=1e-6)
@@ -114,9 +114,9 @@ def test_an_exit_loss_gives_finite_pressures(tmp_path):
     edit_file(folder / "site.toml", '[flows]', '[[loss]]\nkind = "exit"\nat = "64 m"\n\n'
               '[flows]')
     r = run_case(penstock.load_case(folder), samples=0)
-    pc = r.pressure_checks["minimum pressure head at the crown [m]"]
+    pc = r.pressure_checks["minimum pressure head at the crown, minimum headwater [m]"]
     assert np.isfinite(pc).all()
-    assert np.isfinite(r.grade_lines["pressure head [m]"]).all()
+    assert np.isfinite(r.grade_lines["pressure head at the centreline, normal headwater [m]"]).all()
     assert not (r.stretches["check"] == "vapour pressure").any()
 
 

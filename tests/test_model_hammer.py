@@ -17,6 +17,8 @@ from penstock.constants import GRAVITY
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 
+CROWN = "minimum pressure head at the crown, minimum headwater [m]"
+
 
 @pytest.fixture(scope="module")
 def alder():
@@ -108,7 +110,7 @@ def test_down_surge_at_the_high_point_is_flagged(alder):
     start, end = (float(v) for v in re.search(r"from ([\d.]+) to ([\d.]+) m", msgs[0]).groups())
     assert start < 1250.0 < end
     steady_min = r.pressure_checks.set_index("flow case").loc["design flow",
-                                                              "minimum pressure head at the crown [m]"]
+                                                              CROWN]
     assert steady_min > 0 > r.headline["min_transient_pressure_head"]
 
 

@@ -20,6 +20,7 @@ from .. import __version__, water
 from ..constants import J_PER_MWH
 from . import hammer, production, sizing, steady, uncertainty
 from .core import STANDING_CAUTION, TABLE_ORDER, Methods, Results, Warning_
+from .steady import CROWN_MINIMUM
 
 __all__ = ["STANDING_CAUTION", "TABLE_ORDER", "Results", "Warning_", "run_case",
            "check_case"]
@@ -95,7 +96,7 @@ def run_case(case, progress=None, samples=None, proceed=False) -> Results:
                 **mc.get("headline", {}),
                 "density": props.density,
                 "min_pressure_head": float(
-                    st["pressure_checks"]["minimum pressure head at the crown [m]"].min())}
+                    st["pressure_checks"][CROWN_MINIMUM].min())}
     tick("cautions")
     warn_df = pd.DataFrame(
         [{"severity": w.severity, "topic": w.topic, "message": w.message,

@@ -21,6 +21,7 @@ from ..errors import CaseError
 from ..schema import CASE_FILE
 from ..turbines import TURBINE_TYPES
 from .core import Warning_
+from .steady import CROWN_MINIMUM
 
 #: Materials whose minimum handling thickness may stand in for a missing wall thickness.
 STEEL_MATERIALS = ("welded_steel", "riveted_steel")
@@ -36,24 +37,23 @@ def _segment_geometry(route, case):
 
 
 def _folded_friction(case, route, props, flow, lengths):
-    """Darcy friction factor per segment at ``flow``, with the local losses folded in."""
+    """Darcy friction factor per segment at ``flow``, with the local losses folded in
+    (:func:`penstock.transients.fold_local_losses`)."""
     segs = case.segments
-    f_seg = np.zeros(len(segs))
-    for i, s in enumerate(segs):
-        v = flow / s.area
-        re = friction.reynolds(v, s.diameter, props.kinematic_viscosity)
-        f_seg[i] = float(friction.friction_factor(re, s.roughness / s.diameter))
+    diam = np.array([s.diameter for s in segs])
+    v = gradeline.mean_velocity(flow, diam)
+    re = friction.reynolds(v, diam, props.kinematic_viscosity)
+    f_seg = np.asarray(friction.friction_factor(re, np.array([s.roughness for s in segs])
+                                                / diam), dtype=float)
     # local losses: the element before a step tells its segment (the step's upstream pipe)
     seg_of_element = route.element_segment.copy()
     for j in range(len(seg_of_element)):
         if seg_of_element[j] < 0:
             later = seg_of_element[j:][seg_of_element[j:] >= 0]
             seg_of_element[j] = later[0] if len(later) else len(segs) - 1
-    for j in np.flatnonzero(route.k > 0):
-        i = int(seg_of_element[j])
-        a = segs[i].area
-        f_seg[i] += route.k[j] * (a / route.reference_area[j]) ** 2 * segs[i].diameter / lengths[i]
-    return f_seg
+    local = np.flatnonzero(route.k > 0)
+    return transients.fold_local_losses(f_seg, diam, lengths, route.k[local],
+                                        route.reference_area[local], seg_of_element[local])
 
 
 def _wave_speeds(case, props, warns, methods):
@@ -238,7 +238,7 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
             "initial steady head [m]": res.steady_head,
             "maximum head [m]": res.max_head, "minimum head [m]": res.min_head,
             "maximum transient rise [m]": rise,
-            "minimum pressure head at the crown [m]": pmin,
+            "minimum pressure head at the crown, minimum headwater [m]": pmin,
             "design pressure head [m]": dp,
         }))
         for check, limit, text in (("sub-atmospheric", 0.0, "the down-surge takes the pressure "
@@ -325,7 +325,7 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
         "headline": {"max_surge_rise": rise_valve, "joukowsky": dh_jouk,
                      "joukowsky_inputs": (float(speeds[-1]), float(vel[-1])),
                      "shortest_closure": shortest, "water_starting_time": tw,
-                     "min_transient_pressure_head": float(envelope["minimum pressure head at the crown [m]"]
+                     "min_transient_pressure_head": float(envelope[CROWN_MINIMUM]
                                                           .min())},
     }
 

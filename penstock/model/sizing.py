@@ -472,7 +472,8 @@ def _recommend(opt, sizes, rows, case, props, steady, prod, model, warns, say):
         best = min(ok, key=lambda d: rows[d]["annualized cost [currency/year]"])
         if best != opt.selected_size:
             warns.append(Warning_("diameter study", "the economic size "
-                                  f"{say.m(opt.selected_size, 3)} fails {rows[opt.selected_size]['governing check']}; "
+                                  f"{say.m(opt.selected_size, 3)} fails "
+                                  f"{rows[opt.selected_size]['governing check']}; "
                                   f"{say.m(best, 3)} is recommended instead"))
         return best
     top = max(near)

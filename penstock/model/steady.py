@@ -13,6 +13,9 @@ from ..route import build_route
 from ..turbines import TURBINE_TYPES
 from .core import Say, Warning_
 
+#: The column of the pressure checks: the basis of every steady pressure check.
+CROWN_MINIMUM = "minimum pressure head at the crown, minimum headwater [m]"
+
 
 def _study_flows(case) -> tuple[np.ndarray, list[str]]:
     """Flows at which grade lines are drawn, with their names, in rising order."""
@@ -150,7 +153,7 @@ def _grade_table(route, gl, flow_names) -> pd.DataFrame:
         "energy grade line [m]": gl.energy.ravel(),
         "hydraulic grade line [m]": gl.hydraulic.ravel(),
         "velocity head [m]": gl.velocity_head.ravel(),
-        "pressure head [m]": gl.pressure_head.ravel(),
+        "pressure head at the centreline, normal headwater [m]": gl.pressure_head.ravel(),
     })
 
 
@@ -181,7 +184,7 @@ def _pressure_checks(case, route, gl, flow_names, atm_head, vap_head, warns):
         p = gradeline.crown_pressure_head(p_centre, d_node, drawdown)
         j = int(np.argmin(p))
         rows.append({"flow case": name, "flow [m^3/s]": q,
-                     "minimum pressure head at the crown [m]": float(p[j]),
+                     "minimum pressure head at the crown, minimum headwater [m]": float(p[j]),
                      "at chainage [m]": float(x[j]),
                      "minimum absolute pressure head [m]": float(p[j] + atm_head),
                      "vapour pressure head [m]": vap_head,

@@ -211,7 +211,8 @@ def _route_sheet(ws, ctx):
         flows[name] = q
         wide[f"EGL, {name} [m]"] = part["energy grade line [m]"].to_numpy()
         wide[f"HGL, {name} [m]"] = part["hydraulic grade line [m]"].to_numpy()
-        wide[f"pressure head, {name} [m]"] = part["pressure head [m]"].to_numpy()
+        wide[f"pressure head, {name} [m]"] = part[
+            "pressure head at the centreline, normal headwater [m]"].to_numpy()
     flagged = _flag_column(r, wide["chainage [m]"].to_numpy(), wide["pipe elevation [m]"])
     wide["flagged: pressure below margin [m]"] = flagged
     wide["required margin [m]"] = ctx.case.pressure_margin
