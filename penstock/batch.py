@@ -18,13 +18,14 @@ from pathlib import Path
 import pandas as pd
 
 from .case import CaseError
+from .constants import J_PER_MWH
 from .schema import CASE_FILE
 
 #: Columns of the portfolio table, from each case's headline.
 PORTFOLIO = [
     ("net head at design flow [m]", "net_head", 1.0),
     ("installed capacity [kW]", "installed_capacity", 1e-3),
-    ("mean annual energy [MWh]", "mean_annual_energy", 1 / 3.6e9),
+    ("mean annual energy [MWh]", "mean_annual_energy", 1 / J_PER_MWH),
     ("capacity factor [%]", "capacity_factor", 100.0),
     ("recommended diameter [m]", "selected_diameter", 1.0),
     ("maximum transient rise [m]", "max_surge_rise", 1.0),

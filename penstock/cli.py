@@ -15,6 +15,7 @@ from pathlib import Path
 
 from . import __version__
 from .case import CaseError, load_case
+from .constants import J_PER_MWH
 from .schema import SECTIONS_BY_NAME
 
 EXAMPLES = {
@@ -179,7 +180,7 @@ def _run_single(args) -> int:
     head = convert_value(h["net_head"], "m", system)
     _say(args.quiet, f"{case.name}: net head {head:.2f} {report_unit('m', system)} at the "
          f"design flow, {h['installed_capacity'] / 1e3:,.0f} kW installed, "
-         f"{h['mean_annual_energy'] / 3.6e9:,.0f} MWh a year; {n_warn} "
+         f"{h['mean_annual_energy'] / J_PER_MWH:,.0f} MWh a year; {n_warn} "
          f"warning{'s' if n_warn != 1 else ''} (see the Cautions sheet)")
     _say(args.quiet, f"wrote the report folder {written['folder']}/: the workbook "
          f"{written['workbook'].name} and {len(written['files']) - 1} tables and figures")

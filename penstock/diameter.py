@@ -24,6 +24,7 @@ import numpy as np
 from scipy.interpolate import PchipInterpolator
 from scipy.optimize import minimize_scalar
 
+from penstock.constants import FOOT
 from penstock.economics import annualized_cost, capital_recovery_factor, lost_energy_value
 
 from ._numeric import same_kind as _finish
@@ -50,7 +51,7 @@ __all__ = [
 
 _KW = 1000.0  # W
 _HP = 745.6998715822702  # W per mechanical horsepower (550 ft lbf/s; NIST SP 811, B.8)
-_FOOT = 0.3048  # m, exact
+_FOOT = FOOT
 
 
 def _positive(name, value, unit):

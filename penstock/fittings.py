@@ -41,6 +41,7 @@ import numpy as np
 from ._numeric import as_float_array as _as_float_array
 from ._numeric import require as _require
 from ._numeric import same_kind as _same_kind
+from .constants import INCH
 
 __all__ = [
     "BEND_METHODS",
@@ -75,7 +76,7 @@ __all__ = [
 
 #: Absolute roughness of clean commercial steel pipe used by Crane TP-410 (2009)
 #: to define the fully turbulent friction factor fT: 0.0018 in. [m] (from memory)
-CRANE_ROUGHNESS = 0.0018 * 0.0254
+CRANE_ROUGHNESS = 0.0018 * INCH
 
 _ANGLE_EPS = 1e-9  # tolerance on angles given in radians (degree conversion round-off)
 
@@ -442,7 +443,7 @@ class ValveKind:
     source: str
 
 
-_INCH = 0.0254
+_INCH = INCH
 # Crane butterfly bands 2-8 in, 10-14 in, 16-24 in; split at 9 in and 15 in.
 _BUTTERFLY_BANDS = (9.0 * _INCH, 15.0 * _INCH)
 

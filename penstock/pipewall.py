@@ -20,7 +20,7 @@ import dataclasses
 
 import numpy as np
 
-from penstock.constants import GRAVITY, P_ATM_SEA_LEVEL
+from penstock.constants import GRAVITY, INCH, P_ATM_SEA_LEVEL
 
 from ._numeric import checked_array as _array
 from ._numeric import same_kind as _finish
@@ -43,7 +43,7 @@ __all__ = [
     "wall_along_route",
 ]
 
-_INCH = 0.0254  # m, exact (international inch, 1959)
+_INCH = INCH
 _WATER_DENSITY = 1000.0  # kg/m^3, conventional density for pressure heads of water
 
 

@@ -323,6 +323,7 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
         "design_pressure": pd.DataFrame({"chainage [m]": to_x(main.chainage),
                                          "design pressure head [m]": design_head}),
         "headline": {"max_surge_rise": rise_valve, "joukowsky": dh_jouk,
+                     "allowable_rise": allowable,
                      "joukowsky_inputs": (float(speeds[-1]), float(vel[-1])),
                      "shortest_closure": shortest, "water_starting_time": tw,
                      "min_transient_pressure_head": float(envelope[CROWN_MINIMUM]

@@ -5,6 +5,7 @@ from __future__ import annotations
 from openpyxl.chart import BarChart, Reference
 from openpyxl.utils import get_column_letter
 
+from ..constants import J_PER_MWH
 from . import sheets as sh
 from .units import convert_table
 
@@ -88,7 +89,7 @@ def energy_sheet(ws, ctx, title):
                        font=sh.SUBTITLE)
     if complete:
         ctx.formula_cells["mean annual energy"] = (ws.title, f"N{mean_row}",
-                                                   r.headline["mean_annual_energy"] / 3.6e9)
+                                                   r.headline["mean_annual_energy"] / J_PER_MWH)
     ws.freeze_panes = ws.cell(row=first, column=2)
     # mean monthly energy chart
     chart = BarChart()

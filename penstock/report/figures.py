@@ -9,6 +9,7 @@ import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
 
 from .. import units as _units  # noqa: E402
+from ..constants import J_PER_MWH
 from .units import convert_value, report_unit  # noqa: E402
 
 
@@ -150,8 +151,7 @@ def hammer_figure(results, system: str):
     c = results.closure_study
     a3.plot(c["closure time [s]"], cv(c["maximum head rise [m]"]), "o-", color="C3",
             label="maximum head rise")
-    allow = results.case.surge["allowable_rise"] * float(
-        results.surge_checks.set_index("quantity").loc["static head at the turbine", "value"])
+    allow = results.headline["allowable_rise"]   # the stage's own value, not a row looked up
     a3.axhline(float(cv(allow)), color="C3", ls=":", label="allowable rise")
     a3.set_xlabel("closure time [s]")
     a3.set_ylabel(f"head rise [{lu}]")
@@ -172,8 +172,8 @@ def uncertainty_figure(results, system: str):
     a1.plot(ex["probability of exceedance [%]"], ex["mean annual energy [MWh]"], color="C0")
     h = results.headline
     for key, lab in (("p50_energy", "P50"), ("p90_energy", "P90"), ("p99_energy", "P99")):
-        a1.axhline(h[key] / 3.6e9, ls=":", color="0.4")
-        a1.annotate(lab, (2, h[key] / 3.6e9), fontsize=8, va="bottom")
+        a1.axhline(h[key] / J_PER_MWH, ls=":", color="0.4")
+        a1.annotate(lab, (2, h[key] / J_PER_MWH), fontsize=8, va="bottom")
     a1.set_xlabel("probability of exceedance [%]")
     a1.set_ylabel("mean annual energy [MWh]")
     a1.set_title("Mean annual energy")
