@@ -138,12 +138,20 @@ class PlantOperation(NamedTuple):
     power_without_friction: object
 
 
-def _net_head(gross, head_loss):
-    if head_loss is None:
+def _net_head(gross, head_loss, head_gain=None):
+    """Net head as a function of the total flow (or an array): gross − loss + gain."""
+    if head_loss is None and head_gain is None:
         return gross
-    if callable(head_loss):
-        return lambda total_flow: gross - np.asarray(head_loss(total_flow), dtype=float)
-    return gross - np.asarray(head_loss, dtype=float)
+    if not callable(head_loss) and head_gain is None:
+        return gross - np.asarray(head_loss, dtype=float)
+
+    def at(values, total_flow):
+        if values is None:
+            return 0.0
+        return np.asarray(values(total_flow) if callable(values) else values, dtype=float)
+
+    return lambda total_flow: net_head(gross, at(head_loss, total_flow),
+                                       at(head_gain, total_flow))
 
 
 def net_head(gross_head, penstock_loss, draft_tube_recovery=0.0):
@@ -217,7 +225,7 @@ def mean_annual_weights(index):
 def simulate_plant(river_flow, gross_head, rated_flow_per_unit, *, density, n_units=1,
                    turbine_type="francis", efficiency_table=None, head_loss=None, residual=0.0,
                    minimum_relative_flow=None, gearbox_efficiency=1.0, generator_efficiency=1.0,
-                   transformer_efficiency=1.0, availability=1.0):
+                   transformer_efficiency=1.0, availability=1.0, head_gain=None):
     """Operate a plant of identical units over a flow record.
 
     Parameters
@@ -248,6 +256,10 @@ def simulate_plant(river_flow, gross_head, rated_flow_per_unit, *, density, n_un
         Drive-train efficiencies. [-]
     availability : float, default 1.0
         Availability factor. [-]
+    head_gain : callable, optional
+        Head added at the turbine as a function of the total flow, e.g. a draft tube's
+        recovery (:func:`net_head`); it is part of the plant, not a penstock loss, so
+        ``power_without_friction`` keeps it. None means none. [m]
 
     Returns
     -------
@@ -282,9 +294,10 @@ def simulate_plant(river_flow, gross_head, rated_flow_per_unit, *, density, n_un
     drive = dict(gearbox_efficiency=gearbox_efficiency,
                  generator_efficiency=generator_efficiency,
                  transformer_efficiency=transformer_efficiency, availability=availability)
-    actual = dispatch(allocation.turbined, n_units, rated, eta_fn, _net_head(gross, head_loss),
-                      density)
-    ideal = dispatch(allocation.turbined, n_units, rated, eta_fn, gross, density)
+    actual = dispatch(allocation.turbined, n_units, rated, eta_fn,
+                      _net_head(gross, head_loss, head_gain), density)
+    ideal = dispatch(allocation.turbined, n_units, rated, eta_fn,
+                     _net_head(gross, None, head_gain), density)
     factor = float(_efficiency_product(**drive))  # electrical W per W of shaft power
     spill = allocation.spill + (allocation.turbined - actual.turbined_flow)
 
@@ -460,7 +473,7 @@ def design_flow_study(index, river_flow, gross_head, *, density, head_loss=None,
                       n_units=1, turbine_type="francis", efficiency_table=None,
                       minimum_relative_flow=None, design_exceedances=None, design_flows=None,
                       gearbox_efficiency=1.0, generator_efficiency=1.0,
-                      transformer_efficiency=1.0, availability=1.0):
+                      transformer_efficiency=1.0, availability=1.0, head_gain=None):
     """Installed capacity, mean annual energy and capacity factor against design flow.
 
     Parameters
@@ -496,6 +509,9 @@ def design_flow_study(index, river_flow, gross_head, *, density, head_loss=None,
         Drive-train efficiencies. [-]
     availability : float, default 1.0
         Availability factor (reduces energy, not installed capacity). [-]
+    head_gain : callable, optional
+        Head added at the turbine against total flow (a draft tube), as in
+        :func:`simulate_plant`. [m]
 
     Returns
     -------
@@ -534,7 +550,7 @@ def design_flow_study(index, river_flow, gross_head, *, density, head_loss=None,
                  generator_efficiency=generator_efficiency,
                  transformer_efficiency=transformer_efficiency)
     common = dict(density=density, n_units=n_units, turbine_type=turbine_type,
-                  efficiency_table=efficiency_table, head_loss=head_loss,
+                  efficiency_table=efficiency_table, head_loss=head_loss, head_gain=head_gain,
                   minimum_relative_flow=minimum_relative_flow, **drive)
     rows = []
     gross_at_rated = float(np.max(gross_head))

@@ -248,8 +248,11 @@ SECTIONS: tuple[Section, ...] = (
               maximum=ELEVATION[1]),
     )),
     Section("draft_tube", "A conical draft tube (gradual expansion) at the reaction-turbine "
-            "outlet; without it the tool treats the outlet losses as part of the turbine "
-            "efficiency.", (
+            "outlet. The turbine efficiency curve is taken as the machine's with its "
+            "runner-outlet velocity head lost, so without this section nothing more is "
+            "charged at the outlet, and with it the head the cone recovers over an abrupt "
+            "exit (Gibson) is added to the net head. Leave it out when the efficiency curve "
+            "already includes the draft tube (a whole-machine curve).", (
         Field("inlet_diameter", "length", "Diameter at the runner outlet (draft-tube inlet).",
               minimum=0.0, exclusive_minimum=True, maximum=20.0),
         Field("area_ratio", "dimensionless", "Outlet over inlet area.", minimum=1.0,

@@ -419,7 +419,7 @@ def simulate(lengths, diameters, wave_speeds, friction_factors, reservoir_head,
              knee_time=None, knee_opening=None, opening_table=None, duration=None,
              min_reaches=10, time_step=None, wave_speed_tolerance=0.05, record_chainages=(),
              wave_speed_range=WATER_WAVE_SPEED_RANGE, max_steps=MAX_STEPS,
-             max_node_steps=MAX_NODE_STEPS):
+             max_node_steps=MAX_NODE_STEPS, dry_run=False):
     """Simulate a valve (or turbine-equivalent orifice) closure by the MOC.
 
     Parameters
@@ -467,6 +467,9 @@ def simulate(lengths, diameters, wave_speeds, friction_factors, reservoir_head,
         Most node updates (grid nodes times time steps) allowed, a bound on the work of
         one run; below it, the shortest segment gets fewer than ``min_reaches`` reaches
         (down to one) before the run is refused. [-]
+    dry_run : bool, default False
+        Only check the inputs and the bounds on the work, raising ``ValueError`` as a run
+        would, and return None (for validating a case without running it). [-]
 
     Returns
     -------
@@ -578,6 +581,8 @@ def simulate(lengths, diameters, wave_speeds, friction_factors, reservoir_head,
                          f"need {work:,.0f} node updates; expected at most "
                          f"{max_node_steps:,} (merge this very short segment into its "
                          "neighbour)")
+    if dry_run:
+        return None
     time = np.arange(steps + 1) * dt
     tau, _ = _closure(time, law, closure_time, final_opening, knee_time, knee_opening,
                       opening_table)

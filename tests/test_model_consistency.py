@@ -225,3 +225,91 @@ def test_model_holds_no_physical_constant_or_formula(path):
                 and isinstance(n.value, float)]
     for factor in (3.6e6, 3.6e9, 9.81, 9.80665, 0.3048, 0.0254, 8760.0, 3600.0):
         assert factor not in literals, f"{path.name} holds the literal {factor}"
+
+
+def test_energy_lost_with_a_draft_tube_is_the_penstock_loss_only(demos):
+    """The draft tube's recovery is part of the plant, not a penstock loss: the energy lost
+    is that of the penstock, as the diameter study counts it for the case's own pipe."""
+    r = demos["millrace-flats-low-head"]
+    assert r.case.draft_tube is not None
+    lost = r.headline["friction_energy"]
+    assert lost > 0
+    own = r.diameter_candidates.set_index("diameter [m]").loc[r.case.segments[0].diameter]
+    assert lost / 3.6e9 == pytest.approx(own["energy lost [MWh/year]"], rel=1e-3)
+
+
+def test_transient_minimum_never_above_the_steady_minimum(demos):
+    for name, r in demos.items():
+        env = r.transient_envelope
+        steady_min = r.pressure_checks.set_index("flow case").loc[
+            "design flow", "minimum pressure head at the crown, minimum headwater [m]"]
+        design = env[env["rejection from"] == "design flow"]
+        assert design["minimum pressure head at the crown, minimum headwater [m]"].min() \
+            <= steady_min + 1e-9, name
+
+
+def test_candidate_wall_takes_every_rejection_flow(tmp_path):
+    """The study's design head covers the listed rejection flows, as the water-hammer
+    stage does (a larger rejection flow raises the wall's design head)."""
+    base = copy_demo("millrace-flats-low-head", tmp_path / "a")
+    more = copy_demo("millrace-flats-low-head", tmp_path / "b")
+    edit_file(more / "site.toml", 'allowable_rise = "30 %"',
+              'allowable_rise = "30 %"\nrejection_flows = ["19 m^3/s"]')
+    ra = run_case(penstock.load_case(base), samples=0)
+    rb = run_case(penstock.load_case(more), samples=0)
+    d = ra.case.segments[0].diameter
+    wa = ra.diameter_candidates.set_index("diameter [m]").loc[d, "maximum surge rise [m]"]
+    wb = rb.diameter_candidates.set_index("diameter [m]").loc[d, "maximum surge rise [m]"]
+    assert wb > wa
+    # and the water-hammer stage's own rise for the case's pipe is the candidate's
+    stage = rb.headline["max_surge_rise"]
+    assert wb == pytest.approx(max(stage, wb), rel=1e-9)
+
+
+def test_vacuum_governed_reaches_are_counted(demos):
+    """Millrace's large, low-pressure pipe takes its wall from full vacuum, and says so."""
+    r = demos["millrace-flats-low-head"]
+    rec = r.diameter_candidates.set_index("diameter [m]").loc[r.headline["selected_diameter"]]
+    assert rec["reaches whose wall is set by full vacuum [-]"] > 0
+    assert r.warnings["message"].str.contains("take their plate from full vacuum").any()
+
+
+def test_a_passing_listed_candidate_beyond_the_sizes_is_recommended(tmp_path):
+    """A listed candidate that passes is found even when the size list stops below it."""
+    folder = copy_demo("alder-gorge-high-head", tmp_path)
+    edit_file(folder / "site.toml", "[economics]",
+              '[diameter_study]\nmaximum = "1.3 m"\ncandidates = ["1.1 m", "2.0 m"]\n\n'
+              '[economics]')
+    r = run_case(penstock.load_case(folder), samples=0)
+    cand = r.diameter_candidates.set_index("diameter [m]")
+    assert cand.loc[2.0, "passes the checks"]
+    rec = r.headline["selected_diameter"]
+    assert rec is not None and rec <= 2.0
+    assert cand.loc[rec, "passes the checks"]
+
+
+def test_check_refuses_a_simulation_run_would_refuse(tmp_path):
+    """A very short last segment and a one-hour closure: the MOC would need millions of
+    steps; check says so without simulating, in the same line as run."""
+    folder = copy_demo("millrace-flats-low-head", tmp_path)
+    edit_file(folder / "site.toml", 'to = "64 m"\ndiameter = "3.2 m"',
+              'to = "63.5 m"\ndiameter = "3.2 m"\nmaterial = "welded_steel"\n'
+              'wall_thickness = "14 mm"\n\n[[pipe]]\nfrom = "63.5 m"\nto = "64 m"\n'
+              'diameter = "3.2 m"')
+    edit_file(folder / "site.toml", 'closure_time = "8 s"', 'closure_time = "3600 s"')
+    code_run, _, err_run = run_cli(["run", folder, "--out", tmp_path / "rep", "--quiet"])
+    code_chk, _, err_chk = run_cli(["check", folder])
+    assert code_run == 2 and code_chk == 2, (err_run, err_chk)
+    assert err_run.strip() == err_chk.strip()
+    assert "water-hammer" in err_chk or "closure-time study" in err_chk
+
+
+def test_case_comparison_matches_rows_and_shows_the_recommendation(demos):
+    from penstock.report.compare import RECOMMENDED, case_comparison
+
+    table = case_comparison(list(demos.values()))
+    q = table["quantity"].tolist()
+    assert len(q) == len(set(q))              # one row per quantity, whatever the case
+    row = table.set_index("quantity").loc[RECOMMENDED]
+    assert row["cedar-fork-us-units"] == "none passes the checks"
+    assert row["millrace-flats-low-head"].endswith(" m")

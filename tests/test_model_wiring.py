@@ -62,7 +62,7 @@ def test_diameter_study_wiring(monkeypatch, alder):
         assert kw["handling_rule"] == w["handling_rule"]
         assert kw["external_pressure"] == pytest.approx(props.atmospheric_pressure)
         assert kw["buckling_safety"] == w["buckling_safety"]
-    for args, kw in spies["vacuum_check"].calls:
+    for _, kw in spies["vacuum_check"].calls:
         assert kw["corrosion_allowance"] == w["corrosion_allowance"]
         assert kw["safety_factor"] == w["buckling_safety"]
     # the costs: the case's steel price and factors

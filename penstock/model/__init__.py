@@ -30,7 +30,8 @@ def check_case(case, proceed=False) -> list:
     """Refuse, without the heavy stages, everything :func:`run_case` refuses as bad input.
 
     Runs the steady hydraulics (the design flow must exist: no absolute pressure below
-    the vapour pressure), the design-flow head check and the wave speeds.  Raises
+    the vapour pressure), the design-flow head check, the wave speeds and the bounds on
+    the water-hammer simulations (without simulating).  Raises
     :class:`penstock.case.CaseError`; returns the cautions those stages raised.
     """
     warns: list[Warning_] = []
@@ -39,7 +40,7 @@ def check_case(case, proceed=False) -> list:
     st = steady.run(case, props, warns, methods, lambda name: None, proceed=proceed)
     gross, loss, _, net = production.design_heads(case, st)
     production.check_design_head(case, gross, net, loss)
-    hammer._wave_speeds(case, props, warns, methods)
+    hammer.check(case, props, st)
     return warns
 
 
@@ -133,7 +134,7 @@ def _summary(case, props, h, route) -> pd.DataFrame:
     """The headline table: the case's own pipe in ``value``, and beside it, where the
     diameter study ran, the recommended uniform pipe on the same basis."""
     years = h.get("energy_roughness_years")
-    basis = "" if years is None else f" (roughness after {years:g} years, the energy basis)"
+    basis = "as new" if years is None else f"after {years:g} years (half the service life)"
     rec = h.get("selected_row")
     studied = h.get("optimum_diameter") is not None
 
@@ -154,7 +155,8 @@ def _summary(case, props, h, route) -> pd.DataFrame:
         ("wall, thickest plate", _own_wall(case, max), "mm", r("thickest plate [mm]")),
         ("gross head at design flow", h["gross_head"], "m", h["gross_head"] if rec else None),
         ("design flow", h["design_flow"], "m^3/s", h["design_flow"] if rec else None),
-        ("penstock losses at design flow" + basis, h["total_loss"], "m",
+        ("pipe roughness of the energy basis", basis, "", basis if rec else None),
+        ("penstock losses at design flow", h["total_loss"], "m",
          r("head loss at design flow [m]")),
         ("head recovered by the draft tube at design flow", h["draft_tube_recovery"], "m",
          h["draft_tube_recovery"] if rec else None),
@@ -177,8 +179,7 @@ def _summary(case, props, h, route) -> pd.DataFrame:
         ("minimum transient pressure head at the crown (minimum headwater)",
          h["min_transient_pressure_head"], "m",
          r("minimum transient pressure head at the crown, minimum headwater [m]")),
-        (f"annualized cost, diameter study basis ({case.economics['currency']} per year)",
-         None, "",
+        ("annualized cost per year, diameter study basis, in the case's currency", None, "",
          r("annualized cost [currency/year]")),
         ("shortest closure keeping the rise within the allowable", h["shortest_closure"], "s",
          None),

@@ -20,7 +20,7 @@ from .. import friction, gradeline, materials, pipewall, surge, transients, turb
 from ..errors import CaseError
 from ..schema import CASE_FILE
 from ..turbines import TURBINE_TYPES
-from .core import Warning_
+from .core import Methods, Warning_
 from .steady import CROWN_MINIMUM
 
 #: Materials whose minimum handling thickness may stand in for a missing wall thickness.
@@ -110,6 +110,78 @@ def outlet_level(case, z_end):
     return float(turbines.head_datum(case.turbine["type"], case.tailwater, z_run))
 
 
+def rejection_flows(case) -> list:
+    """Flows a load rejection is simulated from: the design flow, then the listed ones."""
+    q0 = case.design_flow
+    return [q0] + [q for q in case.surge["rejection_flows"] if not math.isclose(q, q0)]
+
+
+def steady_crown_at(case, props, route, flow, x):
+    """Steady crown pressure head at the minimum headwater at chainages ``x`` [m], from the
+    steady grade line at ``flow``: the floor under a transient minimum, which starts from
+    this state (where two nodes share a chainage, at a local loss, the lower one)."""
+    pipe = ~route.is_reservoir
+    g = route.grade_lines(np.array([flow]), case.headwater, props.kinematic_viscosity)
+    p = gradeline.crown_pressure_head(g.pressure_head[0, pipe], route.node_diameter[pipe],
+                                      case.headwater - case.headwater_min)
+    xs = route.chainage[pipe]
+    ux, inv = np.unique(xs, return_inverse=True)
+    low = np.full(ux.size, np.inf)
+    np.minimum.at(low, inv, p)
+    return np.interp(x, ux, low)
+
+
+def _refusal(exc) -> CaseError:
+    """The one-line error for a rejection the simulation refuses, naming the key."""
+    msg = str(exc)
+    m = re.match(r"segment (\d+) \(", msg)
+    key = (f"pipe {m.group(1)}" if m and "node updates" in msg else
+           "surge.closure_time" if "time steps" in msg else "surge")
+    return CaseError(CASE_FILE, key, f"the water-hammer simulation cannot run: {msg}")
+
+
+def _study_times(s, period):
+    """Closure times of the closure-time study: the case's, or nine around the period."""
+    tc = s["closure_time"]
+    times = list(s["study_closure_times"]) or list(
+        np.geomspace(0.5 * period, max(8 * period, 2 * tc), 9))
+    if s["closure_law"] != "instant":
+        times = sorted(set(times) | {tc})
+    return times
+
+
+def check(case, props, steady):
+    """Refuse, as :func:`run` would, a case whose simulations cannot run, without running
+    them (:func:`penstock.transients.simulate` with ``dry_run``)."""
+    s = case.surge
+    route = steady["route"]
+    lengths = _segment_geometry(route, case)
+    diam = np.array([seg.diameter for seg in case.segments])
+    speeds, _ = _wave_speeds(case, props, [], Methods())
+    downstream = outlet_level(case, float(route.elevation[-1]))
+    law = _law_args(s)
+    for q in rejection_flows(case):
+        f = _folded_friction(case, route, props, q, lengths)
+        try:
+            transients.simulate(lengths, diam, speeds, f, case.headwater, downstream, q,
+                                dry_run=True, **law)
+        except ValueError as exc:
+            raise _refusal(exc) from None
+    times = _study_times(s, 2 * float(surge.travel_time(lengths, speeds)))
+    f = _folded_friction(case, route, props, case.design_flow, lengths)
+    study_law = {"law": "linear"} if law["law"] in ("table", "instant") else \
+        {k: v for k, v in law.items() if k != "closure_time"}
+    if study_law["law"] == "two_stage":
+        study_law["knee_time"] = s["knee_time"] / s["closure_time"] * max(times)
+    try:
+        transients.simulate(lengths, diam, speeds, f, case.headwater, downstream,
+                            case.design_flow, closure_time=max(times), dry_run=True,
+                            **study_law)
+    except ValueError as exc:
+        raise CaseError(CASE_FILE, "surge.study_closure_times", f"the closure-time study "
+                        f"cannot run: {exc}") from None
+
+
 def _law_args(s):
     law = s["closure_law"]
     args = {"law": law, "closure_time": s["closure_time"]}
@@ -185,7 +257,7 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
     # ---- MOC load rejections
     tick("method of characteristics")
     law = _law_args(s)
-    rej_flows = [q0] + [q for q in s["rejection_flows"] if not math.isclose(q, q0)]
+    rej_flows = rejection_flows(case)
     s_nodes_x = np.concatenate([[0.0], np.cumsum(route.length)])
     x_nodes = route.chainage
     to_x = lambda sl: np.interp(sl, s_nodes_x, x_nodes)  # noqa: E731
@@ -198,12 +270,7 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
             res = transients.simulate(lengths, diam, speeds, f, case.headwater, downstream, q,
                                       record_chainages=rec, **law)
         except ValueError as exc:   # e.g. no Courant grid within the wave-speed tolerance
-            msg = str(exc)
-            m = re.match(r"segment (\d+) \(", msg)
-            key = (f"pipe {m.group(1)}" if m and "node updates" in msg else
-                   "surge.closure_time" if "time steps" in msg else "surge")
-            raise CaseError(CASE_FILE, key, f"the water-hammer simulation cannot run: "
-                            f"{msg}") from None
+            raise _refusal(exc) from None
         results.append((q, res))
     q_d, main = results[0]
     adj = float(np.max(np.abs(main.wave_speed_adjustment)))
@@ -229,6 +296,10 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
                             d_seg[np.searchsorted(starts, x + tol, side="right")])
         pmin = gradeline.crown_pressure_head(res.min_head - z, d_node,
                                              case.headwater - case.headwater_min)
+        # a transient minimum is never above the steady state it starts from: the MOC's
+        # reservoir boundary and its folded local losses lift its heads by up to a velocity
+        # head (issue 13 replaces them); until then the steady crown is the floor
+        pmin = np.minimum(pmin, steady_crown_at(case, props, route, q, x))
         rise = np.maximum(res.max_head - res.steady_head, 0.0)
         dp = transients.design_pressure_line(case.headwater - z, res.max_head, res.steady_head)
         design_head = dp if design_head is None else np.maximum(design_head, dp)
@@ -277,10 +348,7 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
 
     # ---- closure-time study (the case's law shape, linear when a table is given)
     tick("closure-time study")
-    times = list(s["study_closure_times"]) or list(
-        np.geomspace(0.5 * period, max(8 * period, 2 * tc), 9))
-    if s["closure_law"] != "instant":
-        times = sorted(set(times) | {tc})
+    times = _study_times(s, period)
     study_law = {k: v for k, v in law.items() if k != "closure_time"}
     if study_law.get("law") in ("table", "instant"):
         study_law = {"law": "linear"}

@@ -110,7 +110,8 @@ def run(case, props, steady, warns, methods, tick) -> dict:
                  generator_efficiency=t["generator_efficiency"],
                  transformer_efficiency=t["transformer_efficiency"])
     op = energy.simulate_plant(river, gross, q_unit, density=rho, n_units=n, turbine_type=ttype,
-                               efficiency_table=table, head_loss=total_loss, residual=residual,
+                               efficiency_table=table, head_loss=penstock_loss,
+                               head_gain=dt_recovery, residual=residual,
                                minimum_relative_flow=min_rel, availability=t["availability"],
                                **drive)
     methods.add("Plant operation", "residual flow released first; the number of units giving "
@@ -130,6 +131,13 @@ def run(case, props, steady, warns, methods, tick) -> dict:
 
     # installed capacity: all units at rated flow, at the reference (design) levels
     h_design, loss_design, gain_design, hn_design = design_heads(case, steady)
+    if case.draft_tube is not None:
+        warns.append(Warning_("draft tube", f"the draft tube's recovery ({gain_design:.3f} m at "
+                              "the design flow) is added to the head the efficiency curve works "
+                              "on, which is taken as the machine's with its outlet velocity head "
+                              "lost; if the curve is a whole-machine curve with its draft tube "
+                              "(as from model tests), leave [draft_tube] out, or the recovery "
+                              "counts twice", severity="note"))
     if gain_design < 0:
         warns.append(Warning_("draft tube", f"the draft-tube cone loses {-gain_design:.3f} m "
                               "more than an abrupt exit at the design flow (Gibson's loss "
@@ -193,7 +201,8 @@ def run(case, props, steady, warns, methods, tick) -> dict:
                               "flows from Q10 to Q60 are left out: zero (the river is below the "
                               "residual flow) or more than the penstock can carry",
                               severity="note"))
-    study = energy.design_flow_study(index, river, gross, density=rho, head_loss=total_loss,
+    study = energy.design_flow_study(index, river, gross, density=rho, head_loss=penstock_loss,
+                                     head_gain=dt_recovery,
                                      residual=residual, n_units=n, turbine_type=ttype,
                                      efficiency_table=table, minimum_relative_flow=min_rel,
                                      design_flows=q_study[feasible],

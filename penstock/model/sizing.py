@@ -31,6 +31,7 @@ from __future__ import annotations
 
 import copy
 import dataclasses
+import warnings
 
 import numpy as np
 import pandas as pd
@@ -157,10 +158,12 @@ class DiameterModel:
             return float(self.loss_on_grid(float(np.exp(log_d)), q)[0]) - 0.5 * gross
 
         lo, hi = np.log(0.02), np.log(50.0)
-        if excess(lo) <= 0:
-            self._workable = 0.02
-        else:
-            self._workable = float(np.exp(brentq(excess, lo, hi, xtol=1e-9)))
+        with warnings.catch_warnings():   # a probe: far-off trial sizes leave the
+            warnings.simplefilter("ignore")   # correlations' ranges, and no result uses them
+            if excess(lo) <= 0:
+                self._workable = 0.02
+            else:
+                self._workable = float(np.exp(brentq(excess, lo, hi, xtol=1e-9)))
         return self._workable
 
     def roughness(self, route, segments, years):
@@ -443,6 +446,8 @@ def run(case, props, steady, prod, ham, warns, methods, tick) -> dict:
                 "(before the pressure checks, which may move the recommendation up)",
                 "penstock.diameter.sensitivity_grid and one_at_a_time")
     sel = rows.get(recommended) if recommended is not None else None
+    # the wall along the route of the recommended size, else of the economic size (labelled
+    # so on the sheet)
     wall_profile = _wall_profile(case, model, recommended if recommended is not None else
                                  opt.selected_size)
     return {
@@ -465,38 +470,50 @@ def run(case, props, steady, prod, ham, warns, methods, tick) -> dict:
 
 
 def _recommend(opt, sizes, rows, case, props, steady, prod, model, warns, say):
-    """The cheaper feasible neighbour of the optimum, else the next larger feasible size."""
+    """The cheaper feasible neighbour of the optimum, else the smallest feasible size above
+    it: among the rows already computed (listed candidates too) and the sizes tried upward
+    (the case's sizes, or the standard series beyond the sweep)."""
     near = [d for d in (opt.lower_size, opt.upper_size, opt.selected_size) if d is not None]
     ok = [d for d in near if rows[d]["passes the checks"]]
+    failing = rows[opt.selected_size]
     if ok:
         best = min(ok, key=lambda d: rows[d]["annualized cost [currency/year]"])
-        if best != opt.selected_size:
+        if not failing["passes the checks"]:
             warns.append(Warning_("diameter study", "the economic size "
                                   f"{say.m(opt.selected_size, 3)} fails "
-                                  f"{rows[opt.selected_size]['governing check']}; "
-                                  f"{say.m(best, 3)} is recommended instead"))
+                                  f"{failing['governing check']}; {say.m(best, 3)} is "
+                                  "recommended instead"))
         return best
     top = max(near)
     margin = "minimum steady pressure margin at the crown, minimum headwater [m]"
     previous = rows[top][margin]
-    for d in [float(x) for x in sizes if x > top][:MAX_SIZES_UP]:
+    upward = [float(x) for x in sizes if x > top]
+    if not case.diameter_study["sizes"]:   # the standard series goes on beyond the sweep
+        upward = sorted(set(upward) | {float(x) for x in dia.standard_sizes(minimum=top * 1.001,
+                                                                           maximum=top * 3.0)})
+    last_failing = failing
+    for d in upward[:MAX_SIZES_UP]:
         same = [k for k in rows if abs(k - d) <= SAME_SIZE * d]
         if same:       # a case's own diameter given in other units, say: already a row
             d = same[0]
         else:
             rows[d] = candidate_row(case, props, steady, prod, model, d)
-        if not rows[d]["passes the checks"] and rows[d][margin] <= previous + 1e-3:
+        if rows[d]["passes the checks"]:
+            break
+        last_failing = rows[d]
+        if rows[d][margin] <= previous + 1e-3:
             break   # a larger pipe no longer raises the grade line where it governs
         previous = rows[d][margin]
-        if rows[d]["passes the checks"]:
-            warns.append(Warning_("diameter study", f"the sizes beside the optimum fail "
-                                  f"{rows[opt.selected_size]['governing check']}; the smallest "
-                                  f"size that passes every check, {say.m(d, 3)}, is recommended "
-                                  "(costlier than the economic optimum)"))
-            return d
-    last = max(rows)
-    warns.append(Warning_("diameter study", f"no size up to {say.m(last, 3)} passes the "
-                          f"checks (governing: {rows[last]['governing check']}), and larger "
+    passing = [k for k in sorted(rows) if k > top and rows[k]["passes the checks"]]
+    if passing:
+        d = passing[0]
+        warns.append(Warning_("diameter study", f"the sizes beside the optimum fail "
+                              f"{failing['governing check']}; the smallest size that passes "
+                              f"every check, {say.m(d, 3)}, is recommended (costlier than the "
+                              "economic optimum)"))
+        return d
+    warns.append(Warning_("diameter study", f"no size up to {say.m(max(rows), 3)} passes the "
+                          f"checks (governing: {last_failing['governing check']}), and larger "
                           "sizes do not help or were not tried: no diameter is recommended; "
                           "the route (or the intake's depth), the headwater or the pipe "
                           "material must change"))
@@ -504,7 +521,9 @@ def _recommend(opt, sizes, rows, case, props, steady, prod, model, warns, say):
 
 
 def _moc_design_head(case, props, model, d):
-    """Design head at the route nodes from a load-rejection run at diameter d."""
+    """Design head at the route nodes from load rejections at diameter d, from the same
+    flows as the water-hammer stage (design flow and the listed rejection flows): the
+    envelope over them, with the transient minimum at the crown floored at the steady one."""
     from . import hammer
 
     c = uniform_case(case, d)
@@ -512,19 +531,26 @@ def _moc_design_head(case, props, model, d):
     lengths = hammer._segment_geometry(route, c)
     diam = np.full(len(c.segments), d)
     speeds, _ = hammer._wave_speeds(c, props, [], _NullMethods())
-    f = hammer._folded_friction(c, route, props, c.design_flow, lengths)
     downstream = hammer.outlet_level(c, float(route.elevation[-1]))
-    res = transients.simulate(lengths, diam, speeds, f, c.headwater, downstream,
-                              c.design_flow, **hammer._law_args(c.surge))
     s_nodes = np.concatenate([[0.0], np.cumsum(route.length)])
-    rise = np.interp(s_nodes, res.chainage, np.maximum(res.max_head - res.steady_head, 0.0))
-    min_head = np.interp(s_nodes, res.chainage, res.min_head)
     static = c.headwater - route.elevation
-    pmin = gradeline.crown_pressure_head(min_head - route.elevation,
-                                         np.where(np.isnan(route.node_diameter), d,
-                                                  route.node_diameter),
-                                         c.headwater - c.headwater_min)
-    return static + rise, float(res.max_head_rise.max()), pmin, route
+    d_node = np.where(np.isnan(route.node_diameter), d, route.node_diameter)
+    head, pmin, rise_max = None, None, 0.0
+    for q in hammer.rejection_flows(c):
+        f = hammer._folded_friction(c, route, props, q, lengths)
+        res = transients.simulate(lengths, diam, speeds, f, c.headwater, downstream, q,
+                                  **hammer._law_args(c.surge))
+        dp = transients.design_pressure_line(np.interp(res.chainage, s_nodes, static),
+                                             res.max_head, res.steady_head)
+        h = np.interp(s_nodes, res.chainage, dp)
+        low = gradeline.crown_pressure_head(np.interp(s_nodes, res.chainage, res.min_head)
+                                            - route.elevation, d_node,
+                                            c.headwater - c.headwater_min)
+        low = np.minimum(low, hammer.steady_crown_at(c, props, route, q, route.chainage))
+        head = h if head is None else np.maximum(head, h)
+        pmin = low if pmin is None else np.minimum(pmin, low)
+        rise_max = max(rise_max, float(res.max_head_rise.max()))
+    return head, rise_max, pmin, route
 
 
 class _NullMethods:
@@ -585,8 +611,9 @@ def candidate_row(case, props, steady, prod, model, d):
                                  safety_factor=w["buckling_safety"],
                                  corrosion_allowance=w["corrosion_allowance"])
     beyond = bool(np.any(prof.beyond_plates))
+    # reaches whose required thickness is the vacuum rule's (the plate rounds it up)
     vac_governs = int(np.sum(np.maximum(prof.vacuum_thickness[:-1], prof.vacuum_thickness[1:])
-                             [keep] >= t[0] - 1e-12))
+                             [keep] >= prof.reach_required[keep] - 1e-12))
     failures = []
     # named without numbers (they stand in their own columns), so the text is the same
     # in any unit system

@@ -79,7 +79,9 @@ def run(case, props, warns, methods, tick, proceed=False) -> dict:
                                          route.aged_roughness(case.segments, mid)),
                        [f"design flow, after {mid:g} years"])]
     _design_flow_exists(case, route, gl, flow_names, atm_head, vap_head, warns, proceed)
-    grade = pd.concat([_grade_table(route, g, n) for g, n in sets], ignore_index=True)
+    drawdown = case.headwater - case.headwater_min
+    grade = pd.concat([_grade_table(route, g, n, drawdown) for g, n in sets],
+                      ignore_index=True)
     parts = [_pressure_checks(case, route, g, n, atm_head, vap_head, warns) for g, n in sets]
     checks = pd.concat([p[0] for p in parts], ignore_index=True)
     stretches = pd.concat([p[1] for p in parts if len(p[1])] or [parts[0][1]],
@@ -99,11 +101,17 @@ def run(case, props, warns, methods, tick, proceed=False) -> dict:
     }
 
 
+def mid_life(case) -> float:
+    """Half the service life: the mean age over the life, whose roughness is the mean of a
+    linear growth. [year]"""
+    return case.service_life / 2.0
+
+
 def energy_roughness_years(case) -> float | None:
-    """Age of the pipe whose roughness the energy uses: half the service life when any
-    pipe's roughness grows (the mean of a linear growth over the life), else None."""
+    """Age of the pipe whose roughness the energy uses: :func:`mid_life` when any pipe's
+    roughness grows, else None (the pipe as new)."""
     if any(seg.roughness_growth for seg in case.segments):
-        return case.service_life / 2.0
+        return mid_life(case)
     return None
 
 
@@ -142,8 +150,11 @@ def loss_function(case, route, props, roughness=None, points: int = 400):
 
 
 # --------------------------------------------------------------------------- tables
-def _grade_table(route, gl, flow_names) -> pd.DataFrame:
+def _grade_table(route, gl, flow_names, drawdown) -> pd.DataFrame:
     n_flow, n_node = gl.energy.shape
+    # the reservoir node stands at the intake: its crown is the intake's
+    d_node = np.where(np.isnan(route.node_diameter), route.intake_diameter,
+                      route.node_diameter)
     return pd.DataFrame({
         "flow case": np.repeat(flow_names, n_node),
         "flow [m^3/s]": np.repeat(gl.flow, n_node),
@@ -154,6 +165,8 @@ def _grade_table(route, gl, flow_names) -> pd.DataFrame:
         "hydraulic grade line [m]": gl.hydraulic.ravel(),
         "velocity head [m]": gl.velocity_head.ravel(),
         "pressure head at the centreline, normal headwater [m]": gl.pressure_head.ravel(),
+        CROWN_MINIMUM.replace("minimum pressure", "pressure"): gradeline.crown_pressure_head(
+            gl.pressure_head, d_node[None, :], drawdown).ravel(),
     })
 
 

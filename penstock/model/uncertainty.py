@@ -5,12 +5,14 @@ samples at once (arrays of shape ``(samples, steps)``; :func:`penstock.energy.
 simulate_plant` broadcasts over the leading axis).  The sampled inputs:
 
 * the pipes' roughness, a log-normal factor and a growth rate spread: the penstock
-  loss of each sample is the deterministic loss (pipe as new, as in the energy stage)
-  times the ratio of the sample's loss to the deterministic one, both with the
-  roughness at half the service life, tabulated on a grid of (factor, growth offset);
+  loss of each sample is the deterministic loss of the energy stage (roughness at half
+  the service life when it grows) times the ratio of the sample's loss to the
+  deterministic one, both at half the service life, tabulated on a grid of (factor,
+  growth offset);
 * an offset on the turbine efficiency, applied to each step's efficiency (the
   dispatch follows the unshifted curve, a planning simplification);
 * a factor on the flow record, or that factor and a block bootstrap of complete years;
+  means are on the energy stage's year (:func:`penstock.energy.mean_annual_weights`);
 * log-normal factors on the energy price and the pipe capital cost.
 
 With every spread zero each sample reproduces the deterministic run.
@@ -22,8 +24,9 @@ import numpy as np
 import pandas as pd
 
 from .. import economics, energy, gradeline
-from ..constants import HOURS_PER_YEAR, J_PER_KWH, J_PER_MWH, SECONDS_PER_HOUR
+from ..constants import J_PER_KWH, J_PER_MWH
 from .core import Warning_
+from .steady import mid_life
 
 BLOCK_ELEMENTS = 2_000_000   # samples × steps per block, to bound memory
 
@@ -129,7 +132,7 @@ def run(case, props, steady, prod, size, warns, methods, tick, samples=None) -> 
     route = steady["route"]
     life = case.service_life
     # energy uses the roughness at half the service life; the margin at its end
-    ratio_e = _LossRatio(case, props, route, life / 2, d["roughness factor"],
+    ratio_e = _LossRatio(case, props, route, mid_life(case), d["roughness factor"],
                          d["growth offset"])
     ratio_s = ratio_e.per_sample(d["roughness factor"], d["growth offset"])
     annual_steps = _year_blocks(index, prod)
@@ -137,6 +140,8 @@ def run(case, props, steady, prod, size, warns, methods, tick, samples=None) -> 
     step = op["step_seconds"]
     energies = np.empty((n, len(complete)))
     lost = np.empty(n)
+    mean_energy = np.empty(n)
+    weights = energy.mean_annual_weights(index)   # the energy stage's year
     block = max(1, BLOCK_ELEMENTS // max(len(river), 1))
     min_rel = case.minimum_flow / (case.design_flow / t["units"]) \
         if case.minimum_flow is not None else None
@@ -144,16 +149,11 @@ def run(case, props, steady, prod, size, warns, methods, tick, samples=None) -> 
         b = min(n, a + block)
         rv = d["flow factor"][a:b, None] * river[None, :]
         loss = _block_loss(steady["head_loss"], ratio_e.q, ratio_s[a:b])
-        recovery = op["dt_recovery"]
-
-        def total(q, loss=loss, recovery=recovery):
-            gain = recovery(q) if recovery is not None else 0.0
-            return -energy.net_head(0.0, loss(q), gain)
-
         o = energy.simulate_plant(rv, gross, case.design_flow / t["units"],
                                   density=props.density, n_units=t["units"],
                                   turbine_type=t["type"], efficiency_table=op["table"],
-                                  head_loss=total, residual=residual[None, :],
+                                  head_loss=loss, head_gain=op["dt_recovery"],
+                                  residual=residual[None, :],
                                   minimum_relative_flow=min_rel,
                                   availability=t["availability"], **op["drive"])
         p = np.asarray(o.power, float)
@@ -165,17 +165,12 @@ def run(case, props, steady, prod, size, warns, methods, tick, samples=None) -> 
         e_step = p * step
         energies[a:b] = np.add.reduceat(e_step, annual_steps["starts"], axis=1)
         gap = (np.asarray(o.power_without_friction, float) - np.asarray(o.power, float)) * step
-        by_year = np.add.reduceat(gap, annual_steps["starts"], axis=1)
-        lost[a:b] = by_year[:, complete].mean(axis=1) if complete.any() else by_year.sum(1)
+        lost[a:b] = gap @ weights
+        mean_energy[a:b] = e_step @ weights
     if u["flow_method"] == "bootstrap" and complete.sum() >= 2:
         years = np.flatnonzero(complete)
         pick = d["rng"].integers(0, len(years), size=(n, len(years)))
         mean_energy = np.take_along_axis(energies[:, years], pick, axis=1).mean(axis=1)
-    elif complete.any():
-        mean_energy = energies[:, complete].mean(axis=1)
-    else:
-        year = HOURS_PER_YEAR * SECONDS_PER_HOUR
-        mean_energy = energies.sum(axis=1) * year / (len(river) * step)
     # annualized cost at the recommended diameter
     e = case.economics
     crf = float(economics.capital_recovery_factor(e["discount_rate"], e["life"]))
@@ -188,7 +183,8 @@ def run(case, props, steady, prod, size, warns, methods, tick, samples=None) -> 
         scale = lost / det_lost if det_lost > 0 else np.ones(n)
         cap = float(row["capital cost [currency]"]) * d["capital factor"]
         price = e["energy_price"] / J_PER_KWH * d["price factor"]
-        cost = crf * cap + case.costs["om_fraction"] * cap + base_lost * scale * price
+        cost = economics.annualized_cost(cap, crf, case.costs["om_fraction"],
+                                         base_lost * scale * price)
     else:
         cost_note = ("no diameter study or no recommended diameter: annualized cost not "
                      "sampled")
@@ -277,8 +273,14 @@ def _tables(case, n, d, energy_j, cost, margin, prod, cost_note, warns, methods)
                            "mean annual energy [MWh]": order})
     if len(exceed) > 1000:
         exceed = exceed.iloc[np.linspace(0, len(exceed) - 1, 1000).astype(int)]
-    counts, edges = np.histogram(cost[np.isfinite(cost)], bins=20) if np.isfinite(cost).any() \
-        else (np.zeros(0), np.zeros(1))
+    finite = cost[np.isfinite(cost)]
+    if finite.size:
+        lo, hi = float(finite.min()), float(finite.max())
+        if hi - lo <= 1e-9 * max(abs(hi), 1.0):   # no spread: one value, rounding aside
+            lo, hi = lo - 0.5, hi + 0.5
+        counts, edges = np.histogram(finite, bins=20, range=(lo, hi))
+    else:
+        counts, edges = np.zeros(0), np.zeros(1)
     hist = pd.DataFrame({"annualized cost, bin centre [currency/year]":
                          0.5 * (edges[1:] + edges[:-1]), "samples": counts})
     methods.add("Uncertainty", "Monte Carlo over roughness, efficiency, flows, price and capital "

@@ -38,18 +38,33 @@ def diameter_comparison(results, system: str) -> pd.DataFrame:
     return out.reset_index()
 
 
+RECOMMENDED = "recommended uniform pipe diameter (diameter study)"
+
+
 def case_comparison(results_list, system: str | None = None) -> pd.DataFrame:
-    """Headline summaries of several cases side by side."""
-    cols = {}
-    base = None
+    """Headline summaries of several cases side by side, the case's own pipe of each, rows
+    matched by quantity, with the diameter study's recommendation of each."""
+    cols, order = {}, []
     for r in results_list:
         s = convert_table(r.summary, system or r.case.unit_system)
         s = s[~s["quantity"].isin(["note"])]
-        label = r.case.slug
-        cols[label] = [f"{_num(v)} {u}".strip() if isinstance(v, (int, float)) else str(v)
-                       for v, u in zip(s["value"], s["unit"])]
-        base = s["quantity"].tolist() if base is None else base
-    return pd.DataFrame({"quantity": base, **cols})
+        values = {q: (f"{_num(v)} {u}".strip() if isinstance(v, (int, float))
+                      and not isinstance(v, bool) and v == v else
+                      "" if v is None or (isinstance(v, float) and v != v) else str(v))
+                  for q, v, u in zip(s["quantity"], s["value"], s["unit"], strict=True)}
+        rec = s.set_index("quantity").get("recommended uniform pipe")
+        d = rec.get("inside diameter, largest") if rec is not None else None
+        unit = s.set_index("quantity").loc["inside diameter, largest", "unit"]
+        values[RECOMMENDED] = (f"{_num(d)} {unit}" if isinstance(d, (int, float)) and d == d
+                               else "none passes the checks"
+                               if r.headline.get("optimum_diameter") is not None
+                               else "not studied")
+        for q in values:
+            if q not in order:
+                order.append(q)
+        cols[r.case.slug] = values
+    return pd.DataFrame({"quantity": order,
+                         **{k: [v.get(q, "") for q in order] for k, v in cols.items()}})
 
 
 def _num(v: float) -> str:

@@ -98,9 +98,13 @@ def diameter_sheet(ws, ctx, title):
     # wall and design pressure along the route at the recommended size
     wp = convert_table(r.wall_profile, ctx.system)
     wcol = ocol + 3
-    sh.put(ws, row, wcol, "Wall at the recommended size", font=sh.NOTE)
+    which = ("the recommended size" if h.get("selected_diameter") is not None else
+             "the economic size (none is recommended: it fails the checks)")
+    sh.put(ws, row, wcol, f"Wall at {which}", font=sh.NOTE)
     wfirst, wlast = sh.write_table(ws, wp, row=row + 1, col=wcol)
-    ch2 = sh.scatter_chart("Plate thickness along the route (recommended size)",
+    ch2 = sh.scatter_chart("Plate thickness along the route (" + (
+        "recommended size" if h.get("selected_diameter") is not None else "economic size")
+        + ")",
                            f"chainage [{ctx.u('m')}]", f"thickness [{ctx.u('mm')}]",
                            x_format="0", y_format="0", width=18, height=11)
     sh.add_line(ch2, ws, wcol + 1, wcol + 4, wfirst, wlast, "plate", "1F77B4", markers=True)

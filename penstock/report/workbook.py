@@ -211,8 +211,9 @@ def _route_sheet(ws, ctx):
         flows[name] = q
         wide[f"EGL, {name} [m]"] = part["energy grade line [m]"].to_numpy()
         wide[f"HGL, {name} [m]"] = part["hydraulic grade line [m]"].to_numpy()
-        wide[f"pressure head, {name} [m]"] = part[
-            "pressure head at the centreline, normal headwater [m]"].to_numpy()
+        # the basis of the pressure checks and of the margin line beside it
+        wide[f"crown pressure head, minimum headwater, {name} [m]"] = part[
+            "pressure head at the crown, minimum headwater [m]"].to_numpy()
     flagged = _flag_column(r, wide["chainage [m]"].to_numpy(), wide["pipe elevation [m]"])
     wide["flagged: pressure below margin [m]"] = flagged
     wide["required margin [m]"] = ctx.case.pressure_margin
@@ -291,17 +292,18 @@ def _pressure_chart(ctx, ws, table, cols, first, last, cases):
     lu = ctx.u("m")
     x = table.iloc[:, 0].to_numpy(dtype=float)
     ch = sh.scatter_chart("Pressure head along the route", f"chainage [{lu}]",
-                          f"pressure head [{lu}]", x_major=sh.nice_step(x.max() - x.min()),
-                          width=20, height=13)
+                          f"pressure head at the crown, minimum headwater [{lu}]",
+                          x_major=sh.nice_step(x.max() - x.min()), width=20, height=13)
     ch.x_axis.scaling.min = float(x.min())
     ch.x_axis.scaling.max = float(x.max())
-    ys = [table[c].to_numpy(dtype=float) for c in cols if c.startswith("pressure head")]
+    ys = [table[c].to_numpy(dtype=float) for c in cols
+          if c.startswith("crown pressure head")]
     top = float(np.nanmax([np.nanmax(y) for y in ys]))
     low = float(np.nanmin([np.nanmin(y) for y in ys]))
     # the low range is where the checks bite: show up to ten margins (at least 20 m)
     margin = float(ctx.v(ctx.case.pressure_margin, "m"))
     top = min(top, max(10 * margin, float(ctx.v(20.0, "m"))))
-    ch.title = "Pressure head along the route (lower range)"
+    ch.title = "Pressure head at the crown, minimum headwater (lower range)"
     ch.y_axis.scaling.min = float(min(0.0, np.floor(low)))
     step = sh.nice_step(top - ch.y_axis.scaling.min, 6)
     ch.y_axis.majorUnit = step
@@ -309,7 +311,7 @@ def _pressure_chart(ctx, ws, table, cols, first, last, cases):
         (top - ch.y_axis.scaling.min) / step))
     ch.y_axis.number_format = "0" if float(step).is_integer() else "0.0"
     for i, name in enumerate(cases):
-        j = _col(cols, f"pressure head, {name}")
+        j = _col(cols, f"crown pressure head, minimum headwater, {name}")
         if j is not None:
             sh.add_line(ch, ws, 1, j, first, last, name, sh_color(i))
     m = _col(cols, "required margin")
