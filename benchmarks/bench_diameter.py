@@ -52,7 +52,7 @@ def run():
     prod = production.run(case, props, st, warns, _Null(), lambda n: None)
     t_energy = time.perf_counter() - t0
     t0 = time.perf_counter()
-    model = sizing.DiameterModel(case, props, prod, case_loss=st["head_loss"])
+    model = sizing.DiameterModel(case, props, prod, case_loss=st.head_loss)
     lo, hi = model.bounds()
     d = np.geomspace(lo, hi, 200)
     cost = model.annualized(d)["total"]

@@ -313,3 +313,17 @@ def test_case_comparison_matches_rows_and_shows_the_recommendation(demos):
     row = table.set_index("quantity").loc[RECOMMENDED]
     assert row["cedar-fork-us-units"] == "none passes the checks"
     assert row["millrace-flats-low-head"].endswith(" m")
+
+
+def test_stage_tables_are_results_tables():
+    """Each stage's table fields are Results attributes of the same name."""
+    import dataclasses
+
+    from penstock.model import stages
+    from penstock.model.core import TABLE_ORDER
+
+    for cls in (stages.SteadyStage, stages.ProductionStage, stages.HammerStage,
+                stages.SizingStage, stages.UncertaintyStage):
+        for f in dataclasses.fields(cls):
+            if "DataFrame" in str(f.type):
+                assert f.name in TABLE_ORDER or f.name == "profile", (cls.__name__, f.name)

@@ -34,7 +34,7 @@ def model():
     warns, methods = [], type("M", (), {"add": lambda *a: None})()
     st_ = steady.run(case, props, warns, methods, lambda n: None)
     prod = production.run(case, props, st_, warns, methods, lambda n: None)
-    return sizing.DiameterModel(case, props, prod, case_loss=st_["head_loss"])
+    return sizing.DiameterModel(case, props, prod, case_loss=st_.head_loss)
 
 
 @pytest.mark.parametrize("d", [0.75, 0.9, 1.05, 1.3])

@@ -20,6 +20,7 @@ from .. import __version__, water
 from ..constants import J_PER_MWH
 from . import hammer, production, sizing, steady, uncertainty
 from .core import STANDING_CAUTION, TABLE_ORDER, Methods, Results, Warning_
+from .stages import stage_tables
 from .steady import CROWN_MINIMUM
 
 __all__ = ["STANDING_CAUTION", "TABLE_ORDER", "Results", "Warning_", "run_case",
@@ -93,21 +94,20 @@ def run_case(case, progress=None, samples=None, proceed=False) -> Results:
         stages.append(_caught(name, stage, warns))
     st, prod, ham, size, mc = stages
 
-    headline = {**prod["headline"], **ham["headline"], **size["headline"],
-                **mc.get("headline", {}),
+    headline = {**prod.headline, **ham.headline, **size.headline,
+                **mc.headline,
                 "density": props.density,
                 "min_pressure_head": float(
-                    st["pressure_checks"][CROWN_MINIMUM].min())}
+                    st.pressure_checks[CROWN_MINIMUM].min())}
     tick("cautions")
     warn_df = pd.DataFrame(
         [{"severity": w.severity, "topic": w.topic, "message": w.message,
           "chainage [m]": w.chainage, "flow [m^3/s]": w.flow} for w in warns],
         columns=["severity", "topic", "message", "chainage [m]", "flow [m^3/s]"])
-    tables = {k: v for k, v in {**st, **prod, **ham, **size, **mc}.items()
-              if isinstance(v, pd.DataFrame)}
+    tables = stage_tables(st, prod, ham, size, mc)
     return Results(
         case=case, run_date=_dt.date.today().isoformat(), version=__version__,
-        summary=_summary(case, props, headline, st["route"]), inputs=pd.DataFrame(case.echo),
+        summary=_summary(case, props, headline, st.route), inputs=pd.DataFrame(case.echo),
         warnings=warn_df, methods=methods.table(), headline=headline, **tables,
     )
 

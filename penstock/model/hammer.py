@@ -21,6 +21,7 @@ from ..errors import CaseError
 from ..schema import CASE_FILE
 from ..turbines import TURBINE_TYPES
 from .core import Methods, Warning_
+from .stages import HammerStage
 from .steady import CROWN_MINIMUM
 
 #: Materials whose minimum handling thickness may stand in for a missing wall thickness.
@@ -154,7 +155,7 @@ def check(case, props, steady):
     """Refuse, as :func:`run` would, a case whose simulations cannot run, without running
     them (:func:`penstock.transients.simulate` with ``dry_run``)."""
     s = case.surge
-    route = steady["route"]
+    route = steady.route
     lengths = _segment_geometry(route, case)
     diam = np.array([seg.diameter for seg in case.segments])
     speeds, _ = _wave_speeds(case, props, [], Methods())
@@ -198,7 +199,7 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
     """Quick checks, MOC load rejections, closure-time study and the design pressure line."""
     tick("water hammer")
     s = case.surge
-    route = steady["route"]
+    route = steady.route
     lengths = _segment_geometry(route, case)
     diam = np.array([seg.diameter for seg in case.segments])
     areas = np.array([seg.area for seg in case.segments])
@@ -221,7 +222,7 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
     dh_mich = float(surge.michaud(l_total, v_mean, tc))
     h0 = case.headwater - downstream
     rise_allievi = float(surge.allievi_max_head(l_total, v_mean, h0, tc)) - h0
-    hn = prod["headline"]["net_head"]
+    hn = prod.headline["net_head"]
     tw = float(surge.water_starting_time(lengths, vel, hn))
     rows = [
         ("pipe length along the route", l_total, "m"),
@@ -243,8 +244,8 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
                 "Prentice Hall (from memory)")
     tm = None
     if s["inertia"] is not None:
-        speed = prod["headline"]["speed"]
-        p_unit = prod["headline"]["installed_capacity"] / case.turbine["units"]
+        speed = prod.headline["speed"]
+        p_unit = prod.headline["installed_capacity"] / case.turbine["units"]
         tm = float(surge.mechanical_starting_time(s["inertia"], turbines.angular_speed(speed),
                                                   p_unit))
         rows.append(("mechanical starting time Tm = J·ω²/P", tm, "s"))
@@ -385,18 +386,16 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
         warns.append(Warning_("water hammer", f"the closure time {tc:g} s is shorter than the "
                               f"{shortest:.1f} s that keeps the rise within the allowable"))
     quick = pd.DataFrame(rows, columns=["quantity", "value", "unit"])
-    return {
-        "surge_checks": quick, "wave_speeds": wave_table, "transient_envelope": envelope,
-        "valve_history": history, "closure_study": study_table,
-        "design_pressure": pd.DataFrame({"chainage [m]": to_x(main.chainage),
-                                         "design pressure head [m]": design_head}),
-        "headline": {"max_surge_rise": rise_valve, "joukowsky": dh_jouk,
-                     "allowable_rise": allowable,
-                     "joukowsky_inputs": (float(speeds[-1]), float(vel[-1])),
-                     "shortest_closure": shortest, "water_starting_time": tw,
-                     "min_transient_pressure_head": float(envelope[CROWN_MINIMUM]
-                                                          .min())},
-    }
+    return HammerStage(
+        surge_checks=quick, wave_speeds=wave_table, transient_envelope=envelope,
+        valve_history=history, closure_study=study_table,
+        design_pressure=pd.DataFrame({"chainage [m]": to_x(main.chainage),
+                                      "design pressure head [m]": design_head}),
+        headline={"max_surge_rise": rise_valve, "joukowsky": dh_jouk,
+                  "allowable_rise": allowable,
+                  "joukowsky_inputs": (float(speeds[-1]), float(vel[-1])),
+                  "shortest_closure": shortest, "water_starting_time": tw,
+                  "min_transient_pressure_head": float(envelope[CROWN_MINIMUM].min())})
 
 
 def _two_stage_study(lengths, diam, speeds, case, props, route, downstream, q0, times, frac,

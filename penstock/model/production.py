@@ -23,6 +23,7 @@ from ..errors import CaseError
 from ..schema import CASE_FILE
 from ..turbines import TURBINE_TYPES
 from .core import Say, Warning_
+from .stages import Operation, ProductionStage
 
 
 def _residual(case, index, river):
@@ -53,7 +54,7 @@ def design_heads(case, steady):
     t = case.turbine
     h_design = case.headwater - float(turbines.head_datum(t["type"], case.tailwater,
                                                           t["runner_elevation"]))
-    loss = float(steady["head_loss"](case.design_flow))
+    loss = float(steady.head_loss(case.design_flow))
     rec = _draft_tube_recovery(case, t["units"])
     gain = float(rec(case.design_flow)) if rec is not None else 0.0
     return h_design, loss, gain, float(energy.net_head(h_design, loss, gain))
@@ -98,7 +99,7 @@ def run(case, props, steady, warns, methods, tick) -> dict:
     else:
         methods.add("Turbine efficiency", "part-load curve given by the user", "case input")
     min_rel = case.minimum_flow / q_unit if case.minimum_flow is not None else None
-    penstock_loss = steady["head_loss"]
+    penstock_loss = steady.head_loss
     dt_recovery = _draft_tube_recovery(case, n)
 
     def total_loss(q):
@@ -117,7 +118,7 @@ def run(case, props, steady, warns, methods, tick) -> dict:
     methods.add("Plant operation", "residual flow released first; the number of units giving "
                 "the most power runs at each step; P = ρ·g·Q·Hn·η_turbine·η_gearbox·"
                 "η_generator·η_transformer × availability", "energy balance (hand formula)")
-    years = steady["energy_roughness_years"]
+    years = steady.energy_roughness_years
     methods.add("Net head and energy convention", "net head = headwater − tailwater (or an "
                 "impulse runner above it) − penstock losses + the head a draft tube recovers "
                 "over an abrupt exit; the efficiency curve is the machine's with its "
@@ -227,14 +228,14 @@ def run(case, props, steady, warns, methods, tick) -> dict:
     out["turbine_setting"] = _setting(case, props, steady, total_loss, speed, table, drive,
                                       warns, methods)
     out["draft_tube"] = _draft_tube_table(case, props, steady, table, drive, methods)
-    out["operation"] = {"index": index, "river": river, "gross": gross, "op": op,
-                        "table": table, "drive": drive, "dt_recovery": dt_recovery,
-                        "total_loss": total_loss,
-                        "step_seconds": float(hydrology.time_step(index).total_seconds())}
+    out["operation"] = Operation(
+        index=index, river=river, gross=gross, op=op, table=table, drive=drive,
+        dt_recovery=dt_recovery, total_loss=total_loss,
+        step_seconds=float(hydrology.time_step(index).total_seconds()))
     out["headline"] = {
         "gross_head": h_design, "net_head": hn_design, "total_loss": loss_design,
         "draft_tube_recovery": gain_design,
-        "energy_roughness_years": steady["energy_roughness_years"],
+        "energy_roughness_years": steady.energy_roughness_years,
         "design_flow": case.design_flow, "installed_capacity": capacity,
         "eta_rated": eta_rated,
         "mean_annual_energy": summ.mean_annual_energy, "capacity_factor": summ.capacity_factor,
@@ -243,7 +244,7 @@ def run(case, props, steady, warns, methods, tick) -> dict:
         "residual_energy": summ.mean_annual_residual_energy,
         "speed": speed,
     }
-    return out
+    return ProductionStage(**out)
 
 
 def _flow_duration(river, residual, turbined) -> pd.DataFrame:
@@ -331,8 +332,8 @@ def _setting(case, props, steady, total_loss, speed, table, drive, warns, method
     t = case.turbine
     ttype, n = t["type"], t["units"]
     entry = TURBINE_TYPES[ttype]
-    flows = np.asarray(steady["flows"], float)
-    names = steady["flow_names"]
+    flows = np.asarray(steady.flows, float)
+    names = steady.flow_names
     q_plant = np.minimum(flows, case.maximum_flow)
     tw = np.asarray(case.tailwater_at(q_plant + case.residual_flow), float)
     z_run = t["runner_elevation"]
@@ -398,7 +399,7 @@ def _draft_tube_table(case, props, steady, table, drive, methods):
                 "against an abrupt exit that loses the whole outlet velocity head",
                 "Gibson, A.H. (1910). On the flow of water through pipes and passages having "
                 "converging or diverging boundaries. Proc. R. Soc. Lond. A 83, 366–378")
-    flows = np.minimum(np.asarray(steady["flows"], float), case.maximum_flow)
+    flows = np.minimum(np.asarray(steady.flows, float), case.maximum_flow)
     k = units_running(flows, case.design_flow / n, n)
     q_u = flows / k
     exit_head = drafttube.abrupt_exit_loss(q_u, dt["inlet_diameter"])
@@ -407,7 +408,7 @@ def _draft_tube_table(case, props, steady, table, drive, methods):
     eta = np.array([float(turbines.turbine_efficiency(min(q / (case.design_flow / n), 1.0),
                                                       t["type"], table=table)) for q in q_u])
     return pd.DataFrame({
-        "flow case": steady["flow_names"], "plant flow [m^3/s]": flows, "units running": k,
+        "flow case": steady.flow_names, "plant flow [m^3/s]": flows, "units running": k,
         "inlet velocity [m/s]": gradeline.mean_velocity(q_u, dt["inlet_diameter"]),
         "inlet velocity head [m]": exit_head,
         "head recovered over an abrupt exit [m]": gain,

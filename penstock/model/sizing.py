@@ -42,6 +42,7 @@ from ..constants import J_PER_KWH, J_PER_MWH
 from ..materials import get_material as _get_material
 from ..route import build_route
 from .core import Say, Warning_
+from .stages import SizingStage
 
 STEEL = ("welded_steel", "riveted_steel")
 
@@ -84,16 +85,16 @@ class DiameterModel:
         self.case = case
         self.props = props
         self.roughness_years = roughness_years
-        op = prod["operation"]
+        op = prod.operation
         self.op = op
         t = case.turbine
-        o = op["op"]
+        o = op.op
         q = np.asarray(o.turbined_flow, float)
         eta = np.asarray(o.turbine_efficiency, float)
-        self.drive = dict(op["drive"])
+        self.drive = dict(op.drive)
         self.availability = t["availability"]
         # per-step weights of the mean annual basis, the energy stage's
-        self.annual = energy.mean_annual_weights(op["index"])
+        self.annual = energy.mean_annual_weights(op.index)
         # linear-interpolation weights of w_t·Q_t·η_t on a flow grid
         q_top = max(float(q.max()), case.design_flow) * 1.0001
         self.q_grid = np.linspace(0.0, q_top, n_flow)
@@ -125,7 +126,7 @@ class DiameterModel:
         head = np.asarray(weighted_head, dtype=float)
         p = energy.electrical_power(np.ones_like(head), head, self.props.density, 1.0,
                                     **self.drive)
-        return np.asarray(p) * self.availability * self.op["step_seconds"]
+        return np.asarray(p) * self.availability * self.op.step_seconds
 
     # ------------------------------------------------------------------ hydraulics
     def bounds(self):
@@ -200,7 +201,7 @@ class DiameterModel:
 
     def energy_lost_brute_force(self, d):
         """The same, by evaluating the losses at every step of the record (for checks)."""
-        o = self.op["op"]
+        o = self.op.op
         q = np.asarray(o.turbined_flow, float)
         eta = np.asarray(o.turbine_efficiency, float)
         grid = np.geomspace(1e-4, 1.0, 600) * max(q.max(), 1e-9)
@@ -320,13 +321,13 @@ def run(case, props, steady, prod, ham, warns, methods, tick) -> dict:
     if why:
         warns.append(Warning_("diameter study", why + "; the study is skipped",
                               severity="note"))
-        return {"headline": {}}
+        return SizingStage()
     tick("diameter study")
     say = Say(case.unit_system)
-    model = DiameterModel(case, props, prod, case_loss=steady["head_loss"],
-                          roughness_years=steady["energy_roughness_years"])
-    if ham.get("wave_speeds") is not None:   # the case's own wave speed, for Joukowsky's cap
-        model.wave_speed = float(ham["wave_speeds"]["wave speed [m/s]"].mean())
+    model = DiameterModel(case, props, prod, case_loss=steady.head_loss,
+                          roughness_years=steady.energy_roughness_years)
+    if ham.wave_speeds is not None:   # the case's own wave speed, for Joukowsky's cap
+        model.wave_speed = float(ham.wave_speeds["wave speed [m/s]"].mean())
     lo, hi = model.bounds()
     st = case.diameter_study
     sizes = np.array(st["sizes"]) if st["sizes"] else dia.standard_sizes(
@@ -340,7 +341,7 @@ def run(case, props, steady, prod, ham, warns, methods, tick) -> dict:
                               f"range {say.m(lo, 3)} to {say.m(hi, 3)} (the default sizes go "
                               "in 50 mm steps); give diameter_study.sizes to study this pipe; "
                               "the study is skipped", severity="warning"))
-        return {"headline": {}}
+        return SizingStage()
     d_sweep = np.geomspace(lo, hi, st["points"])
     parts = model.annualized(d_sweep)
     t_sweep, _ = model.wall(d_sweep)
@@ -359,7 +360,7 @@ def run(case, props, steady, prod, ham, warns, methods, tick) -> dict:
     opt = dia.optimum_diameter(base, (lo, hi), sizes=sizes)
     if opt.warning:
         warns.append(Warning_("diameter study", opt.warning))
-    years = steady["energy_roughness_years"]
+    years = steady.energy_roughness_years
     methods.add("Diameter study", "annualized cost = capital recovery factor × capital + O&M + "
                 "value of the energy lost over the flow record (roughness " +
                 ("as new" if years is None else f"after {years:g} years, half the service "
@@ -405,8 +406,8 @@ def run(case, props, steady, prod, ham, warns, methods, tick) -> dict:
     if recommended is not None:
         _vacuum_note(case, rows[recommended], recommended, warns, say)
     # empirical sanity checks
-    p_inst = prod["headline"]["installed_capacity"]
-    hn = prod["headline"]["net_head"]
+    p_inst = prod.headline["installed_capacity"]
+    hn = prod.headline["net_head"]
     emp = []
     for name, entry in dia.EMPIRICAL_DIAMETER_METHODS.items():
         inputs = {"flow": case.design_flow} if "flow" in entry["inputs"] else {
@@ -450,14 +451,14 @@ def run(case, props, steady, prod, ham, warns, methods, tick) -> dict:
     # so on the sheet)
     wall_profile = _wall_profile(case, model, recommended if recommended is not None else
                                  opt.selected_size)
-    return {
-        "diameter_sweep": sweep, "diameter_candidates": cand,
-        "diameter_empirical": pd.DataFrame(emp),
-        "diameter_sensitivity": pd.DataFrame(grid_rows),
-        "diameter_one_at_a_time": pd.DataFrame(oat),
-        "wall_profile": wall_profile,
-        "model": model,
-        "headline": {
+    return SizingStage(
+        diameter_sweep=sweep, diameter_candidates=cand,
+        diameter_empirical=pd.DataFrame(emp),
+        diameter_sensitivity=pd.DataFrame(grid_rows),
+        diameter_one_at_a_time=pd.DataFrame(oat),
+        wall_profile=wall_profile,
+        model=model,
+        headline={
             "optimum_diameter": opt.diameter, "selected_diameter": recommended,
             "economic_size": opt.selected_size,
             "optimum_cost": opt.cost, "optimum_relative_derivative": opt.relative_derivative,
@@ -466,7 +467,7 @@ def run(case, props, steady, prod, ham, warns, methods, tick) -> dict:
             "selected_row": sel,
             "crf": base.crf,
         },
-    }
+    )
 
 
 def _recommend(opt, sizes, rows, case, props, steady, prod, model, warns, say):
@@ -570,13 +571,13 @@ def steady_crown_margin(case, props, steady, route, d):
                      f", after {case.service_life:g} years"))
     worst = (np.inf, None, None)
     for rough, tag in sets:
-        g = route.grade_lines(steady["flows"], case.headwater, props.kinematic_viscosity, rough)
+        g = route.grade_lines(steady.flows, case.headwater, props.kinematic_viscosity, rough)
         p = gradeline.crown_pressure_head(g.pressure_head[:, pipe], route.node_diameter[pipe],
                                           drawdown)
         i, j = np.unravel_index(np.argmin(p), p.shape)
         if p[i, j] < worst[0]:
             worst = (float(p[i, j]), float(route.chainage[pipe][j]),
-                     steady["flow_names"][i] + tag)
+                     steady.flow_names[i] + tag)
     return worst[0] - case.pressure_margin, worst[1], worst[2]
 
 
@@ -584,8 +585,8 @@ def candidate_row(case, props, steady, prod, model, d):
     """One row of the candidate table: diameter ``d`` with its own water-hammer run, real
     plates, costs and the checks that decide whether it can be recommended."""
     e = case.economics
-    gross = prod["headline"]["gross_head"]
-    e0 = prod["headline"]["mean_annual_energy"] + model.case_lost
+    gross = prod.headline["gross_head"]
+    e0 = prod.headline["mean_annual_energy"] + model.case_lost
     steel = wall_material(case)
     head, rise, pmin_t, route = _moc_design_head(case, props, model, d)
     t, _ = model.wall(d, design_head=head[None, :])
@@ -598,7 +599,7 @@ def candidate_row(case, props, steady, prod, model, d):
     lost = float(model.energy_lost(d))
     price = e["energy_price"] / J_PER_KWH
     h_d = float(model.loss_on_grid(d, np.array([case.design_flow]))[0])
-    gain = prod["headline"]["draft_tube_recovery"]
+    gain = prod.headline["draft_tube_recovery"]
     hn = float(energy.net_head(gross, h_d, gain))
     energy_d = e0 - lost    # the actual energy, re-based from the case's pipe to this D
     v = gradeline.mean_velocity(case.design_flow, d)

@@ -12,6 +12,7 @@ from .. import gradeline
 from ..route import build_route
 from ..turbines import TURBINE_TYPES
 from .core import Say, Warning_
+from .stages import SteadyStage
 
 #: The column of the pressure checks: the basis of every steady pressure check.
 CROWN_MINIMUM = "minimum pressure head at the crown, minimum headwater [m]"
@@ -46,9 +47,7 @@ def run(case, props, warns, methods, tick, proceed=False) -> dict:
     A design flow that needs an absolute pressure below the vapour pressure is refused
     (:class:`~penstock.case.CaseError`) unless ``proceed`` is true.
 
-    Returns a dict of tables (``grade_lines``, ``pressure_checks``, ``stretches``,
-    ``loss_breakdown``, ``profile``) and objects for later stages (``route``,
-    ``flows``, ``flow_names``, ``gl``, ``head_loss``).
+    Returns a :class:`~penstock.model.stages.SteadyStage`.
     """
     tick("route and grade lines")
     route = build_route(case, warns, methods)
@@ -92,13 +91,12 @@ def run(case, props, warns, methods, tick, proceed=False) -> dict:
                           ignore_index=True)
     _velocity_checks(case, route, flows, flow_names, warns)
     _siphon_check(case, route, warns)
-    return {
-        "route": route, "flows": flows, "flow_names": flow_names, "gl": gl,
-        "grade_lines": grade, "pressure_checks": checks, "stretches": stretches,
-        "loss_breakdown": breakdown, "profile": _profile_table(case, route),
-        "head_loss": loss_function(case, route, props, energy_roughness(case, route)),
-        "energy_roughness_years": energy_roughness_years(case),
-    }
+    return SteadyStage(
+        route=route, flows=flows, flow_names=flow_names, gl=gl, grade_lines=grade,
+        pressure_checks=checks, stretches=stretches, loss_breakdown=breakdown,
+        profile=_profile_table(case, route),
+        head_loss=loss_function(case, route, props, energy_roughness(case, route)),
+        energy_roughness_years=energy_roughness_years(case))
 
 
 def mid_life(case) -> float:

@@ -26,6 +26,7 @@ import pandas as pd
 from .. import economics, energy, gradeline
 from ..constants import J_PER_KWH, J_PER_MWH
 from .core import Warning_
+from .stages import UncertaintyStage
 from .steady import mid_life
 
 BLOCK_ELEMENTS = 2_000_000   # samples × steps per block, to bound memory
@@ -122,14 +123,14 @@ def run(case, props, steady, prod, size, warns, methods, tick, samples=None) -> 
     u = case.uncertainty
     n = int(samples if samples is not None else u["samples"])
     if n <= 0:
-        return {}
+        return UncertaintyStage()
     tick(f"Monte Carlo, {n} samples")
     d = draw(u, n)
-    op = prod["operation"]
+    op = prod.operation
     t = case.turbine
-    index, river, gross = op["index"], op["river"], op["gross"]
+    index, river, gross = op.index, op.river, op.gross
     residual = _residual_series(case, index, river)
-    route = steady["route"]
+    route = steady.route
     life = case.service_life
     # energy uses the roughness at half the service life; the margin at its end
     ratio_e = _LossRatio(case, props, route, mid_life(case), d["roughness factor"],
@@ -137,7 +138,7 @@ def run(case, props, steady, prod, size, warns, methods, tick, samples=None) -> 
     ratio_s = ratio_e.per_sample(d["roughness factor"], d["growth offset"])
     annual_steps = _year_blocks(index, prod)
     complete = annual_steps["complete"]
-    step = op["step_seconds"]
+    step = op.step_seconds
     energies = np.empty((n, len(complete)))
     lost = np.empty(n)
     mean_energy = np.empty(n)
@@ -148,14 +149,14 @@ def run(case, props, steady, prod, size, warns, methods, tick, samples=None) -> 
     for a in range(0, n, block):
         b = min(n, a + block)
         rv = d["flow factor"][a:b, None] * river[None, :]
-        loss = _block_loss(steady["head_loss"], ratio_e.q, ratio_s[a:b])
+        loss = _block_loss(steady.head_loss, ratio_e.q, ratio_s[a:b])
         o = energy.simulate_plant(rv, gross, case.design_flow / t["units"],
                                   density=props.density, n_units=t["units"],
-                                  turbine_type=t["type"], efficiency_table=op["table"],
-                                  head_loss=loss, head_gain=op["dt_recovery"],
+                                  turbine_type=t["type"], efficiency_table=op.table,
+                                  head_loss=loss, head_gain=op.dt_recovery,
                                   residual=residual[None, :],
                                   minimum_relative_flow=min_rel,
-                                  availability=t["availability"], **op["drive"])
+                                  availability=t["availability"], **op.drive)
         p = np.asarray(o.power, float)
         eta = np.asarray(o.turbine_efficiency, float)
         off = d["efficiency offset"][a:b, None]
@@ -176,10 +177,10 @@ def run(case, props, steady, prod, size, warns, methods, tick, samples=None) -> 
     crf = float(economics.capital_recovery_factor(e["discount_rate"], e["life"]))
     cost = np.full(n, np.nan)
     cost_note = ""
-    row = size.get("headline", {}).get("selected_row")
+    row = size.headline.get("selected_row")
     if row is not None:
         base_lost = float(row["energy lost [MWh/year]"]) * J_PER_MWH
-        det_lost = prod["headline"]["friction_energy"]
+        det_lost = prod.headline["friction_energy"]
         scale = lost / det_lost if det_lost > 0 else np.ones(n)
         cap = float(row["capital cost [currency]"]) * d["capital factor"]
         price = e["energy_price"] / J_PER_KWH * d["price factor"]
@@ -202,14 +203,14 @@ def _residual_series(case, index, river):
 def _year_blocks(index, prod):
     years = index.year.to_numpy()
     starts = np.flatnonzero(np.concatenate([[True], years[1:] != years[:-1]]))
-    ann = prod["energy_annual"]
+    ann = prod.energy_annual
     complete = ann["complete year"].astype(bool).to_numpy()
     return {"starts": starts, "complete": complete}
 
 
 def _pressure_margin(case, props, steady, route, life, d):
     """Minimum steady crown pressure margin per sample (end-of-life roughness)."""
-    flows = np.asarray(steady["flows"], float)
+    flows = np.asarray(steady.flows, float)
     ratio = _LossRatio(case, props, route, life, d["roughness factor"], d["growth offset"])
     pipe = ~route.is_reservoir
     d_node = route.node_diameter[pipe]
@@ -234,7 +235,7 @@ def _pressure_margin(case, props, steady, route, life, d):
 
 def _tables(case, n, d, energy_j, cost, margin, prod, cost_note, warns, methods):
     e_mwh = energy_j / J_PER_MWH
-    det = prod["headline"]["mean_annual_energy"] / J_PER_MWH
+    det = prod.headline["mean_annual_energy"] / J_PER_MWH
     rng = np.random.default_rng(case.uncertainty["seed"] + 1)
     boot = np.median(e_mwh[rng.integers(0, n, size=(200, n))], axis=1)
     se_p50 = float(boot.std(ddof=1)) if n > 1 else 0.0
@@ -289,12 +290,11 @@ def _tables(case, n, d, energy_j, cost, margin, prod, cost_note, warns, methods)
                 "Efron & Tibshirani (1993), An Introduction to the Bootstrap, ch. 6")
     if cost_note:
         warns.append(Warning_("uncertainty", cost_note, severity="note"))
-    return {
-        "mc_summary": pd.DataFrame(rows, columns=["quantity", "value", "unit"]),
-        "mc_samples": samples, "mc_exceedance": exceed.reset_index(drop=True),
-        "mc_cost_histogram": hist,
-        "headline": {"p50_energy": p(0.5) * J_PER_MWH, "p90_energy": p(0.10) * J_PER_MWH,
-                     "p99_energy": p(0.01) * J_PER_MWH, "p50_standard_error": se_p50 * J_PER_MWH,
-                     "probability_negative_margin": float(np.mean(margin < 0))},
-    }
+    return UncertaintyStage(
+        mc_summary=pd.DataFrame(rows, columns=["quantity", "value", "unit"]),
+        mc_samples=samples, mc_exceedance=exceed.reset_index(drop=True),
+        mc_cost_histogram=hist,
+        headline={"p50_energy": p(0.5) * J_PER_MWH, "p90_energy": p(0.10) * J_PER_MWH,
+                  "p99_energy": p(0.01) * J_PER_MWH, "p50_standard_error": se_p50 * J_PER_MWH,
+                  "probability_negative_margin": float(np.mean(margin < 0))})
 
