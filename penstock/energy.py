@@ -188,6 +188,18 @@ def net_head(gross_head, penstock_loss, draft_tube_recovery=0.0):
     return gross_head - penstock_loss + draft_tube_recovery
 
 
+def _calendar_years(index, step):
+    """The record's calendar years -> (years, year of each step as a position, steps
+    held, steps expected, complete), the basis of every mean annual value."""
+    unique_years, pos = np.unique(np.asarray(index.year), return_inverse=True)
+    counts = np.bincount(pos, minlength=unique_years.size)
+    tz = index.tz
+    expected = np.rint(np.array([(pd.Timestamp(year=int(y) + 1, month=1, day=1, tz=tz)
+                                  - pd.Timestamp(year=int(y), month=1, day=1, tz=tz)) / step
+                                 for y in unique_years]))
+    return unique_years, pos, counts, expected, counts >= expected
+
+
 def mean_annual_weights(index):
     """Per-step weights turning a per-step quantity into its mean annual value.
 
@@ -208,14 +220,7 @@ def mean_annual_weights(index):
     if len(index) < 2:
         raise ValueError("index: expected a record of at least two steps")
     step = index[1] - index[0]
-    years = np.asarray(index.year)
-    unique_years, pos = np.unique(years, return_inverse=True)
-    counts = np.bincount(pos, minlength=unique_years.size)
-    tz = index.tz
-    expected = np.rint(np.array([(pd.Timestamp(year=int(y) + 1, month=1, day=1, tz=tz)
-                                  - pd.Timestamp(year=int(y), month=1, day=1, tz=tz)) / step
-                                 for y in unique_years]))
-    complete = counts >= expected
+    _, pos, _, _, complete = _calendar_years(index, step)
     if complete.any():
         return np.where(complete[pos], 1.0 / complete.sum(), 0.0)
     duration = len(index) * step.total_seconds()
@@ -411,21 +416,15 @@ def energy_summary(index, power, installed_capacity=None, firm_exceedance=0.95,
         q = _check_non_negative(flow, name[:-7] + "_flow")
         columns[name] = np.asarray(hydraulic_power(q, gross_head, density)) * dt
 
-    years = np.asarray(index.year)
     months = np.asarray(index.month)
-    unique_years, year_pos = np.unique(years, return_inverse=True)
+    unique_years, year_pos, counts, expected, complete = _calendar_years(index, step)
     ny = unique_years.size
-    counts = np.bincount(year_pos, minlength=ny)
-    tz = index.tz
-    expected = np.array([(pd.Timestamp(year=int(y) + 1, month=1, day=1, tz=tz)
-                          - pd.Timestamp(year=int(y), month=1, day=1, tz=tz)) / step
-                         for y in unique_years])
     annual = pd.DataFrame({name: np.bincount(year_pos, weights=values, minlength=ny)
                            for name, values in columns.items()},
                           index=pd.Index(unique_years, name="year"))
     annual.insert(1, "steps", counts)
-    annual.insert(2, "expected_steps", np.rint(expected).astype(np.int64))
-    annual.insert(3, "complete", counts >= np.rint(expected))
+    annual.insert(2, "expected_steps", expected.astype(np.int64))
+    annual.insert(3, "complete", complete)
     monthly_values = np.bincount(year_pos * 12 + months - 1, weights=columns["energy"],
                                  minlength=ny * 12).reshape(ny, 12)
     monthly = pd.DataFrame(monthly_values, index=annual.index,
@@ -433,7 +432,6 @@ def energy_summary(index, power, installed_capacity=None, firm_exceedance=0.95,
 
     total = float(columns["energy"].sum())
     duration = len(index) * dt
-    complete = annual["complete"].to_numpy()
     if complete.any():
         basis = "complete calendar years"
 

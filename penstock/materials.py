@@ -698,6 +698,10 @@ def get_material(name, overrides=None):
     return make_material(kwargs.pop("name"), kwargs.pop("kind"), **kwargs)
 
 
+#: Pipe materials (of the roughness table) that are steel: the diameter study covers
+#: them, and their handling minimum may stand in for a missing wall thickness.
+STEEL_PIPE_MATERIALS = ("welded_steel", "riveted_steel")
+
 #: Registry material standing for each pipe material of the roughness table, for the
 #: wall modulus of the wave speed; None where the registry holds no such material.
 _MODULUS_SOURCE = {

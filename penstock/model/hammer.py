@@ -24,9 +24,6 @@ from .core import Methods, Warning_
 from .stages import HammerStage
 from .steady import CROWN_MINIMUM
 
-#: Materials whose minimum handling thickness may stand in for a missing wall thickness.
-STEEL_MATERIALS = ("welded_steel", "riveted_steel")
-
 
 def _segment_geometry(route, case):
     """Per segment: length along the pipe, and the elements it holds."""
@@ -65,7 +62,8 @@ def _wave_speeds(case, props, warns, methods):
             materials.pipe_wall_modulus(seg.material)
         t = seg.wall_thickness
         note = ""
-        if t is None and seg.material not in STEEL_MATERIALS and s["wave_speed"] is None:
+        steel = seg.material in materials.STEEL_PIPE_MATERIALS
+        if t is None and not steel and s["wave_speed"] is None:
             raise CaseError(CASE_FILE, f"pipe {i}.wall_thickness", f"is missing for a "
                             f"{seg.material.replace('_', ' ')} pipe; the water-hammer wave "
                             "speed needs it (the steel handling minimum does not apply to "
@@ -141,6 +139,14 @@ def _refusal(exc) -> CaseError:
     return CaseError(CASE_FILE, key, f"the water-hammer simulation cannot run: {msg}")
 
 
+def _study_law(law):
+    """The closure-time study's law: the case's shape without its closure time, linear
+    in place of a table or an instant closure."""
+    if law["law"] in ("table", "instant"):
+        return {"law": "linear"}
+    return {k: v for k, v in law.items() if k != "closure_time"}
+
+
 def _study_times(s, period):
     """Closure times of the closure-time study: the case's, or nine around the period."""
     tc = s["closure_time"]
@@ -151,27 +157,40 @@ def _study_times(s, period):
     return times
 
 
+def _pipes(case, props, route, warns, methods):
+    """Segment lengths along the pipe, diameters, wave speeds (and their table) and the
+    level the closing orifice discharges to: what every simulation of the case needs."""
+    lengths = _segment_geometry(route, case)
+    diam = np.array([seg.diameter for seg in case.segments])
+    speeds, wave_table = _wave_speeds(case, props, warns, methods)
+    return lengths, diam, speeds, wave_table, outlet_level(case, float(route.elevation[-1]))
+
+
+def rejections(case, props, route, lengths, diam, speeds, downstream, **options):
+    """Load rejections from each of :func:`rejection_flows`, by the case's closure law ->
+    list of (flow, :class:`~penstock.transients.TransientResult`); ``options`` go to
+    :func:`penstock.transients.simulate` (``record_chainages``, ``dry_run``)."""
+    law = _law_args(case.surge)
+    return [(q, transients.simulate(lengths, diam, speeds,
+                                    _folded_friction(case, route, props, q, lengths),
+                                    case.headwater, downstream, q, **law, **options))
+            for q in rejection_flows(case)]
+
+
 def check(case, props, steady):
     """Refuse, as :func:`run` would, a case whose simulations cannot run, without running
     them (:func:`penstock.transients.simulate` with ``dry_run``)."""
     s = case.surge
     route = steady.route
-    lengths = _segment_geometry(route, case)
-    diam = np.array([seg.diameter for seg in case.segments])
-    speeds, _ = _wave_speeds(case, props, [], Methods())
-    downstream = outlet_level(case, float(route.elevation[-1]))
+    lengths, diam, speeds, _, downstream = _pipes(case, props, route, [], Methods())
     law = _law_args(s)
-    for q in rejection_flows(case):
-        f = _folded_friction(case, route, props, q, lengths)
-        try:
-            transients.simulate(lengths, diam, speeds, f, case.headwater, downstream, q,
-                                dry_run=True, **law)
-        except ValueError as exc:
-            raise _refusal(exc) from None
+    try:
+        rejections(case, props, route, lengths, diam, speeds, downstream, dry_run=True)
+    except ValueError as exc:
+        raise _refusal(exc) from None
     times = _study_times(s, 2 * float(surge.travel_time(lengths, speeds)))
     f = _folded_friction(case, route, props, case.design_flow, lengths)
-    study_law = {"law": "linear"} if law["law"] in ("table", "instant") else \
-        {k: v for k, v in law.items() if k != "closure_time"}
+    study_law = _study_law(law)
     if study_law["law"] == "two_stage":
         study_law["knee_time"] = s["knee_time"] / s["closure_time"] * max(times)
     try:
@@ -200,12 +219,9 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
     tick("water hammer")
     s = case.surge
     route = steady.route
-    lengths = _segment_geometry(route, case)
-    diam = np.array([seg.diameter for seg in case.segments])
+    lengths, diam, speeds, wave_table, downstream = _pipes(case, props, route, warns, methods)
     areas = np.array([seg.area for seg in case.segments])
-    speeds, wave_table = _wave_speeds(case, props, warns, methods)
     z_end = float(route.elevation[-1])
-    downstream = outlet_level(case, z_end)
     q0 = case.design_flow
     static_head = case.headwater - z_end            # pressure head at the turbine at no flow
     allowable = s["allowable_rise"] * static_head
@@ -258,21 +274,16 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
     # ---- MOC load rejections
     tick("method of characteristics")
     law = _law_args(s)
-    rej_flows = rejection_flows(case)
     s_nodes_x = np.concatenate([[0.0], np.cumsum(route.length)])
     x_nodes = route.chainage
     to_x = lambda sl: np.interp(sl, s_nodes_x, x_nodes)  # noqa: E731
     to_s = lambda x: np.interp(x, x_nodes, s_nodes_x)  # noqa: E731
     rec = [float(to_s(x)) for x in s["record_at"]]
-    results = []
-    for q in rej_flows:
-        f = _folded_friction(case, route, props, q, lengths)
-        try:
-            res = transients.simulate(lengths, diam, speeds, f, case.headwater, downstream, q,
-                                      record_chainages=rec, **law)
-        except ValueError as exc:   # e.g. no Courant grid within the wave-speed tolerance
-            raise _refusal(exc) from None
-        results.append((q, res))
+    try:
+        results = rejections(case, props, route, lengths, diam, speeds, downstream,
+                             record_chainages=rec)
+    except ValueError as exc:   # e.g. no Courant grid within the wave-speed tolerance
+        raise _refusal(exc) from None
     q_d, main = results[0]
     adj = float(np.max(np.abs(main.wave_speed_adjustment)))
     methods.add("Water hammer, simulation", "method of characteristics, series segments, "
@@ -350,9 +361,7 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
     # ---- closure-time study (the case's law shape, linear when a table is given)
     tick("closure-time study")
     times = _study_times(s, period)
-    study_law = {k: v for k, v in law.items() if k != "closure_time"}
-    if study_law.get("law") in ("table", "instant"):
-        study_law = {"law": "linear"}
+    study_law = _study_law(law)
     try:
         if study_law.get("law") == "two_stage":
             frac = s["knee_time"] / tc

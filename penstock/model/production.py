@@ -69,10 +69,6 @@ def check_design_head(case, gross, net, loss):
                         "larger pipe")
 
 
-units_running = turbines.units_running
-synchronous_speed = turbines.synchronous_speed
-
-
 def run(case, props, steady, warns, methods, tick) -> dict:
     """Operate the plant over the flow record and summarise its energy."""
     tick("energy over the flow record")
@@ -289,7 +285,7 @@ def _turbine_choice(case, net_head, q_unit, power_unit, rho, warns, methods):
     speed = t["speed"]
     assumed = speed is None
     if assumed:
-        speed = synchronous_speed(ttype, net_head, power_unit, t["grid_frequency"])
+        speed = turbines.synchronous_speed(ttype, net_head, power_unit, t["grid_frequency"])
     ns = float(turbines.specific_speed(speed, power_unit, net_head))
     cands = turbines.suggest_turbine_types(net_head, q_unit, speed, rho)
     rows = []
@@ -363,7 +359,7 @@ def _setting(case, props, steady, total_loss, speed, table, drive, warns, method
     lo, hi = entry["specific_speed_range"]
     q_rated = case.design_flow / n
     for name, q, h, w in zip(names, q_plant, hn, tw):
-        k = int(units_running(q, q_rated, n))
+        k = int(turbines.units_running(q, q_rated, n))
         q_u = q / k
         # overload above the rated flow keeps the rated efficiency (the curves end at 1)
         eta = float(turbines.turbine_efficiency(min(q_u / q_rated, 1.0), ttype, table=table))
@@ -400,7 +396,7 @@ def _draft_tube_table(case, props, steady, table, drive, methods):
                 "Gibson, A.H. (1910). On the flow of water through pipes and passages having "
                 "converging or diverging boundaries. Proc. R. Soc. Lond. A 83, 366–378")
     flows = np.minimum(np.asarray(steady.flows, float), case.maximum_flow)
-    k = units_running(flows, case.design_flow / n, n)
+    k = turbines.units_running(flows, case.design_flow / n, n)
     q_u = flows / k
     exit_head = drafttube.abrupt_exit_loss(q_u, dt["inlet_diameter"])
     gain = drafttube.velocity_head_recovery(q_u, dt["inlet_diameter"], dt["area_ratio"],

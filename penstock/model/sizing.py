@@ -39,12 +39,11 @@ import pandas as pd
 from .. import diameter as dia
 from .. import economics, energy, gradeline, pipewall, surge, transients
 from ..constants import J_PER_KWH, J_PER_MWH
+from ..materials import STEEL_PIPE_MATERIALS
 from ..materials import get_material as _get_material
 from ..route import build_route
-from .core import Say, Warning_
+from .core import Methods, Say, Warning_
 from .stages import SizingStage
-
-STEEL = ("welded_steel", "riveted_steel")
 
 #: Velocities at the design flow that bound the default sweep (common practice).
 SWEEP_VELOCITIES = (6.0, 1.5)
@@ -117,6 +116,7 @@ class DiameterModel:
         # energy at any D follows from the actual energy: E(D) = E + lost(case) - lost(D)
         self.case_lost = (float(self._lost(self.weights @ case_loss(self.q_grid)))
                           if case_loss is not None else None)
+        self.moc_runs = {}   # diameter -> design head etc. (_moc_design_head)
         w_ = case.surge["wave_speed"]
         # for the Joukowsky cap only; run() sets the case's computed value when it has one
         self.wave_speed = w_ if w_ is not None else 1000.0
@@ -300,14 +300,12 @@ class DiameterModel:
 
     def annualized(self, d, **kw):
         """Annualized cost [currency/year] and its parts for diameters ``d``."""
-        parts = self.cost_model(**kw).components(np.atleast_1d(np.asarray(d, float)))
-        parts["lost_value"] = parts["lost_energy_value"]
-        return parts
+        return self.cost_model(**kw).components(np.atleast_1d(np.asarray(d, float)))
 
 
 def applicable(case) -> str | None:
     """Why the diameter study cannot run for this case, or None."""
-    bad = [i + 1 for i, s in enumerate(case.segments) if s.material not in STEEL]
+    bad = [i + 1 for i, s in enumerate(case.segments) if s.material not in STEEL_PIPE_MATERIALS]
     if bad:
         return (f"pipe(s) {', '.join(map(str, bad))} are not steel: the diameter study "
                 "covers welded steel penstocks only")
@@ -350,7 +348,7 @@ def run(case, props, steady, prod, ham, warns, methods, tick) -> dict:
         "capital cost, unrounded wall [currency]": parts["capital"],
         "annualized capital [currency/year]": parts["capital_annual"],
         "operation and maintenance [currency/year]": parts["om"],
-        "value of energy lost [currency/year]": parts["lost_value"],
+        "value of energy lost [currency/year]": parts["lost_energy_value"],
         "annualized cost [currency/year]": parts["total"],
         "energy lost [MWh/year]": parts["energy_lost"] / J_PER_MWH,
         "thinnest plate [mm]": 1e3 * t_sweep.min(axis=1),
@@ -524,23 +522,25 @@ def _recommend(opt, sizes, rows, case, props, steady, prod, model, warns, say):
 def _moc_design_head(case, props, model, d):
     """Design head at the route nodes from load rejections at diameter d, from the same
     flows as the water-hammer stage (design flow and the listed rejection flows): the
-    envelope over them, with the transient minimum at the crown floored at the steady one."""
+    envelope over them, with the transient minimum at the crown floored at the steady one.
+
+    Run once per diameter: the candidate row and the wall profile share it."""
+    if float(d) not in model.moc_runs:
+        model.moc_runs[float(d)] = _moc_runs(case, props, d)
+    return model.moc_runs[float(d)]
+
+
+def _moc_runs(case, props, d):
     from . import hammer
 
     c = uniform_case(case, d)
     route = build_route(c)
-    lengths = hammer._segment_geometry(route, c)
-    diam = np.full(len(c.segments), d)
-    speeds, _ = hammer._wave_speeds(c, props, [], _NullMethods())
-    downstream = hammer.outlet_level(c, float(route.elevation[-1]))
+    lengths, diam, speeds, _, downstream = hammer._pipes(c, props, route, [], Methods())
     s_nodes = np.concatenate([[0.0], np.cumsum(route.length)])
     static = c.headwater - route.elevation
     d_node = np.where(np.isnan(route.node_diameter), d, route.node_diameter)
     head, pmin, rise_max = None, None, 0.0
-    for q in hammer.rejection_flows(c):
-        f = hammer._folded_friction(c, route, props, q, lengths)
-        res = transients.simulate(lengths, diam, speeds, f, c.headwater, downstream, q,
-                                  **hammer._law_args(c.surge))
+    for q, res in hammer.rejections(c, props, route, lengths, diam, speeds, downstream):
         dp = transients.design_pressure_line(np.interp(res.chainage, s_nodes, static),
                                              res.max_head, res.steady_head)
         h = np.interp(s_nodes, res.chainage, dp)
@@ -552,11 +552,6 @@ def _moc_design_head(case, props, model, d):
         pmin = low if pmin is None else np.minimum(pmin, low)
         rise_max = max(rise_max, float(res.max_head_rise.max()))
     return head, rise_max, pmin, route
-
-
-class _NullMethods:
-    def add(self, *args):
-        pass
 
 
 def steady_crown_margin(case, props, steady, route, d):
@@ -589,15 +584,16 @@ def candidate_row(case, props, steady, prod, model, d):
     e0 = prod.headline["mean_annual_energy"] + model.case_lost
     steel = wall_material(case)
     head, rise, pmin_t, route = _moc_design_head(case, props, model, d)
-    t, _ = model.wall(d, design_head=head[None, :])
+    keep = model.lengths > 0
     prof = model.walls(d, design_head=head[None, :])[0]
+    t = prof.reach_plate[keep][None, :]
     costs = model.costs(d, thickness=t, smooth=False)
-    cost = model.cost_model().components(np.array([d]))
+    cost_model = model.cost_model()
     cap = float(costs["total"][0])
-    crf = model.cost_model().crf
+    crf = cost_model.crf
     om = case.costs["om_fraction"] * cap
     lost = float(model.energy_lost(d))
-    price = e["energy_price"] / J_PER_KWH
+    lost_value = float(economics.lost_energy_value(lost, e["energy_price"] / J_PER_KWH))
     h_d = float(model.loss_on_grid(d, np.array([case.design_flow]))[0])
     gain = prod.headline["draft_tube_recovery"]
     hn = float(energy.net_head(gross, h_d, gain))
@@ -606,7 +602,6 @@ def candidate_row(case, props, steady, prod, model, d):
     tw = float(surge.water_starting_time(route.length.sum(), v, hn))
     margin, at, flow_case = steady_crown_margin(case, props, steady, route, d)
     w = case.wall
-    keep = model.lengths > 0
     buck = pipewall.vacuum_check(t[0], d, steel.elastic_modulus, steel.poisson_ratio,
                                  external_pressure=props.atmospheric_pressure,
                                  safety_factor=w["buckling_safety"],
@@ -632,11 +627,13 @@ def candidate_row(case, props, steady, prod, model, d):
         "net head at design flow [m]": hn,
         "mean annual energy [MWh]": energy_d / J_PER_MWH,
         "energy lost [MWh/year]": lost / J_PER_MWH,
-        "value of energy lost [currency/year]": lost * price,
+        "value of energy lost [currency/year]": lost_value,
         "annualized capital [currency/year]": crf * cap,
         "operation and maintenance [currency/year]": om,
-        "annualized cost [currency/year]": crf * cap + om + lost * price,
-        "annualized cost, unrounded wall [currency/year]": float(cost["total"][0]),
+        "annualized cost [currency/year]": float(economics.annualized_cost(
+            cap, crf, case.costs["om_fraction"], lost_value)),
+        "annualized cost, unrounded wall [currency/year]":
+            float(cost_model.components(np.array([d]))["total"][0]),
         "maximum surge rise [m]": rise,
         "minimum steady pressure margin at the crown, minimum headwater [m]": margin,
         "at chainage [m]": at,
