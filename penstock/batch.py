@@ -109,10 +109,10 @@ def run_one(folder: str, out_dir: str, units: str | None, proceed: bool = False)
     h = results.headline
     row = {"site": case.name, "folder": str(folder)}
     for name, key, scale in PORTFOLIO:
-        v = h.get(key)
+        v = getattr(h, key)
         row[name] = None if v is None else float(v) * scale
-    row["warnings"] = int((results.warnings["severity"] == "warning").sum())
-    row["notes"] = int((results.warnings["severity"] == "note").sum())
+    row["warnings"] = int((results.cautions["severity"] == "warning").sum())
+    row["notes"] = int((results.cautions["severity"] == "note").sum())
     return Outcome(str(folder), True, row)
 
 

@@ -174,13 +174,13 @@ def _run_single(args) -> int:
         close()
     from .report.units import convert_value, report_unit
 
-    n_warn = int((results.warnings["severity"] == "warning").sum())
+    n_warn = int((results.cautions["severity"] == "warning").sum())
     h = results.headline
     system = args.units or case.unit_system
-    head = convert_value(h["net_head"], "m", system)
+    head = convert_value(h.net_head, "m", system)
     _say(args.quiet, f"{case.name}: net head {head:.2f} {report_unit('m', system)} at the "
-         f"design flow, {h['installed_capacity'] / 1e3:,.0f} kW installed, "
-         f"{h['mean_annual_energy'] / J_PER_MWH:,.0f} MWh a year; {n_warn} "
+         f"design flow, {h.installed_capacity / 1e3:,.0f} kW installed, "
+         f"{h.mean_annual_energy / J_PER_MWH:,.0f} MWh a year; {n_warn} "
          f"warning{'s' if n_warn != 1 else ''} (see the Cautions sheet)")
     _say(args.quiet, f"wrote the report folder {written['folder']}/: the workbook "
          f"{written['workbook'].name} and {len(written['files']) - 1} tables and figures")
@@ -271,7 +271,7 @@ def cmd_compare(args) -> int:
             table = diameter_comparison(results, system)
             title = f"Diameter comparison - {case.name}"
             notes = [f"Uniform inside diameter along the route; optimum of the study "
-                     f"{results.headline['optimum_diameter']:.3f} m."]
+                     f"{results.headline.optimum_diameter:.3f} m."]
             version, name = results.version, case.name
         else:
             all_results = [run_case(c, progress=tick, proceed=args.run_anyway) for c in cases]

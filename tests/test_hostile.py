@@ -397,7 +397,7 @@ def test_a_short_duration_table_is_named_in_a_caution(tmp_path):
     rows = "exceedance [%],flow [m^3/s]\n10,3.0\n50,1.5\n90,0.5\n"
     _duration_table(rows)(case)
     r = penstock.run_case(penstock.load_case(case), samples=0)
-    msgs = " ".join(r.warnings["message"])
+    msgs = " ".join(r.cautions["message"])
     assert "covers exceedance 10 % to 90 % only" in msgs
 
 
@@ -413,7 +413,7 @@ def test_the_recommended_diameter_is_always_a_full_candidate(tmp_path):
     with open(case / "site.toml", "a", encoding="utf-8") as fh:
         fh.write('\n[diameter_study]\ncandidates = ["1.0 m", "1.2 m"]\n')
     r = penstock.run_case(penstock.load_case(case), samples=10)
-    chosen = r.headline["selected_diameter"]
+    chosen = r.headline.selected_diameter
     assert any(abs(d - chosen) < 1e-12 for d in r.diameter_candidates["diameter [m]"])
 
 
@@ -425,7 +425,7 @@ def test_a_tiny_design_flow_skips_the_diameter_study_with_a_caution(tmp_path):
     edit_file(case / "site.toml", 'residual = "0.15 m^3/s"\n', "")
     r = penstock.run_case(penstock.load_case(case), samples=0)
     assert r.diameter_candidates is None
-    assert any("diameter_study.sizes" in m for m in r.warnings["message"])
+    assert any("diameter_study.sizes" in m for m in r.cautions["message"])
 
 
 def test_a_record_shorter_than_a_year_is_a_warning(tmp_path):
@@ -433,7 +433,7 @@ def test_a_record_shorter_than_a_year_is_a_warning(tmp_path):
     (case / "flows.csv").write_text("date,flow [m^3/s]\n2008-01-01 00:00,2.0\n"
                                     "2008-01-01 01:00,2.0\n", encoding="utf-8")
     r = penstock.run_case(penstock.load_case(case), samples=0)
-    w = r.warnings[r.warnings["message"].str.contains("covers only")]
+    w = r.cautions[r.cautions["message"].str.contains("covers only")]
     assert list(w["severity"]) == ["warning"]
 
 

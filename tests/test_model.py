@@ -70,25 +70,25 @@ def test_net_head_is_gross_minus_losses(demo):
     bottom = case.tailwater
     if case.turbine["type"] in ("pelton", "turgo", "crossflow") and z_run is not None:
         bottom = max(bottom, z_run)
-    assert h["gross_head"] == pytest.approx(case.headwater - bottom, rel=1e-12)
+    assert h.gross_head == pytest.approx(case.headwater - bottom, rel=1e-12)
     # one convention (energy.net_head): a draft tube adds the head it recovers
-    assert h["net_head"] == pytest.approx(
-        h["gross_head"] - h["total_loss"] + h["draft_tube_recovery"], rel=1e-12)
-    assert (h["draft_tube_recovery"] > 0) == (case.draft_tube is not None)
+    assert h.net_head == pytest.approx(
+        h.gross_head - h.total_loss + h.draft_tube_recovery, rel=1e-12)
+    assert (h.draft_tube_recovery > 0) == (case.draft_tube is not None)
     # the steady stage's penstock loss at the design flow, on the energy basis (mid-life
     # roughness when a growth rate is given), is the same loss
     lb = r.loss_breakdown
-    years = h["energy_roughness_years"]
+    years = h.energy_roughness_years
     name = "design flow" if years is None else f"design flow, after {years:g} years"
     pen = lb[(lb["flow case"] == name) & (lb["component"] == "total")]
-    assert h["total_loss"] == pytest.approx(float(pen["head loss [m]"].iloc[0]), rel=1e-5)
+    assert h.total_loss == pytest.approx(float(pen["head loss [m]"].iloc[0]), rel=1e-5)
     # installed capacity P = ρ g Q Hn η (hand formula)
     t = case.turbine
     rho = water.density(case.temperature)
-    eta = (h["eta_rated"] * t["gearbox_efficiency"] * t["generator_efficiency"]
+    eta = (h.eta_rated * t["gearbox_efficiency"] * t["generator_efficiency"]
            * t["transformer_efficiency"])
-    assert h["installed_capacity"] == pytest.approx(
-        rho * GRAVITY * case.design_flow * h["net_head"] * eta, rel=1e-12)
+    assert h.installed_capacity == pytest.approx(
+        rho * GRAVITY * case.design_flow * h.net_head * eta, rel=1e-12)
 
 
 def test_local_losses_are_drawn_as_steps(demo):
@@ -120,10 +120,10 @@ def test_bellmouth_entrance_step_matches_crane():
 def test_high_point_is_flagged_at_maximum_flow():
     case = penstock.load_case(CASES / "alder-gorge-high-head")
     r = penstock.run_case(case)
-    st = r.stretches[r.stretches["flow case"] == "maximum plant flow"]
+    st = r.flagged_stretches[r.flagged_stretches["flow case"] == "maximum plant flow"]
     assert len(st) == 1
     assert st["from chainage [m]"].iloc[0] < 1250 < st["to chainage [m]"].iloc[0]
-    assert any("1250.0 m" in m for m in r.warnings["message"])
+    assert any("1250.0 m" in m for m in r.cautions["message"])
     # the aged pipe (roughness growth given) is worse than the new one
     aged = r.pressure_checks.set_index("flow case")[CROWN]
     assert aged["design flow, after 40 years"] < aged["design flow"]
@@ -137,11 +137,11 @@ def test_siphon_and_vapour_pressure_are_flagged(tmp_path):
                "3100,1083\n")
     folder = copy_case(tmp_path, profile=profile)
     r = penstock.run_case(penstock.load_case(folder))
-    text = " ".join(r.warnings["message"])
+    text = " ".join(r.cautions["message"])
     assert "siphon" in text
     assert "vapour pressure" in text
     assert "--run-anyway" not in text
-    checks = set(r.stretches["check"])
+    checks = set(r.flagged_stretches["check"])
     assert {"sub-atmospheric", "vapour pressure"} <= checks
 
 
@@ -157,16 +157,16 @@ def test_a_design_flow_below_vapour_pressure_is_refused_unless_asked(tmp_path):
                                         r".*--run-anyway"):
         penstock.run_case(case)
     r = penstock.run_case(case, proceed=True)
-    text = " ".join(r.warnings["message"])
+    text = " ".join(r.cautions["message"])
     assert "--run-anyway" in text and "not physical" in text
-    assert "design flow" in set(r.stretches[r.stretches["check"] == "vapour pressure"]
-                                ["flow case"])
+    st = r.flagged_stretches
+    assert "design flow" in set(st[st["check"] == "vapour pressure"]["flow case"])
 
 
 def test_velocity_outside_usual_range_is_a_caution(tmp_path):
     folder = copy_case(tmp_path, edit=[('diameter = "1.2 m"', 'diameter = "2.0 m"')])
     r = penstock.run_case(penstock.load_case(folder))
-    msgs = r.warnings[r.warnings["topic"] == "velocity"]["message"]
+    msgs = r.cautions[r.cautions["topic"] == "velocity"]["message"]
     assert any("pipe 1" in m and "0.76 m/s" in m for m in msgs)
 
 
@@ -176,7 +176,7 @@ def test_no_entrance_given_is_noted(tmp_path):
     start, end = text.index("[[loss]]"), text.index('[[loss]]\nkind = "bend"')
     (folder / "site.toml").write_text(text[:start] + text[end:])
     r = penstock.run_case(penstock.load_case(folder))
-    notes = r.warnings[r.warnings["severity"] == "note"]["message"]
+    notes = r.cautions[r.cautions["severity"] == "note"]["message"]
     assert any("no entrance or trashrack loss" in m for m in notes)
     assert "entrance (none given)" in set(r.loss_breakdown["component"])
 
@@ -188,7 +188,7 @@ def test_diameter_change_without_transition_gets_assumed_cone():
     assert any(c.startswith("contraction at 1600.0 m (assumed") for c in comps)
     # Crane TP-410 (2009) formula for a 15° conical contraction, via fittings
     k = fittings.contraction_gradual(1.2, 1.0, math.radians(15))
-    assert any(f"K = {k:.3f}" in m for m in r.warnings["message"])
+    assert any(f"K = {k:.3f}" in m for m in r.cautions["message"])
 
 
 def test_results_tables_have_units_and_no_python_reprs(demo):
@@ -244,20 +244,20 @@ def test_interpolated_loss_function_matches_direct_evaluation():
 
 def test_energy_tables_add_up(demo):
     case, r = demo
-    monthly = r.energy_monthly.groupby("year")["energy [MWh]"].sum()
-    annual = r.energy_annual.set_index("year")["energy [MWh]"]
+    monthly = r.energy_by_month.groupby("year")["energy [MWh]"].sum()
+    annual = r.energy_by_year.set_index("year")["energy [MWh]"]
     np.testing.assert_allclose(monthly.loc[annual.index].to_numpy(), annual.to_numpy(),
                                rtol=1e-12)
-    complete = r.energy_annual[r.energy_annual["complete year"].astype(bool)]
-    assert r.headline["mean_annual_energy"] / 3.6e9 == pytest.approx(
+    complete = r.energy_by_year[r.energy_by_year["complete year"].astype(bool)]
+    assert r.headline.mean_annual_energy / 3.6e9 == pytest.approx(
         complete["energy [MWh]"].mean(), rel=1e-12)
     # the residual flow is honoured: turbined flow never above the flow left after it
     fd = r.flow_duration
     assert np.all(fd["turbined flow [m^3/s]"] <= fd["flow after residual [m^3/s]"] + 1e-12)
     assert np.all(fd["turbined flow [m^3/s]"] <= case.design_flow + 1e-12)
     # capacity factor = mean annual energy / (installed capacity × 8760 h)
-    assert r.headline["capacity_factor"] == pytest.approx(
-        r.headline["mean_annual_energy"] / (r.headline["installed_capacity"] * 8760 * 3600),
+    assert r.headline.capacity_factor == pytest.approx(
+        r.headline.mean_annual_energy / (r.headline.installed_capacity * 8760 * 3600),
         rel=1e-3)
 
 
@@ -283,8 +283,8 @@ def test_instant_closure_by_name_gives_joukowsky(tmp_path):
                        edit=[('[surge]\nclosure_time = "8 s"',
                               '[surge]\nclosure_time = "8 s"\nclosure_law = "instant"')])
     r = penstock.run_case(penstock.load_case(folder), samples=0)
-    a, v = r.headline["joukowsky_inputs"]
-    assert r.headline["max_surge_rise"] == pytest.approx(a * v / GRAVITY, rel=0.02)
+    a, v = r.headline.joukowsky_wave_speed, r.headline.joukowsky_velocity
+    assert r.headline.max_surge_rise == pytest.approx(a * v / GRAVITY, rel=0.02)
 
 
 @pytest.mark.parametrize("method, word", [("previous", "previous"),
@@ -297,7 +297,7 @@ def test_named_gap_fills_are_echoed_and_cautioned(tmp_path, method, word):
     echo = {row["key"]: row for row in case.echo}
     assert word in echo["flows.record gaps"]["value (SI)"]
     r = penstock.run_case(case, samples=0)
-    assert any("were filled" in m for m in r.warnings["message"])
+    assert any("were filled" in m for m in r.cautions["message"])
 
 
 def test_own_wall_properties_replace_the_grade(tmp_path):

@@ -31,12 +31,12 @@ def test_recommended_diameter_passes_the_pressure_checks_as_the_case_own_pipe(de
     headwater, every study flow, new and aged pipe; wall within the plates)."""
     recommended = 0
     for name, r in demos.items():
-        d = r.headline.get("selected_diameter")
+        d = r.headline.selected_diameter
         if d is None:
             # then the study says why, and no candidate passed
             cand = r.diameter_candidates
             assert not cand["passes the checks"].any()
-            assert (r.warnings["message"].str.contains("no diameter is recommended")).any()
+            assert (r.cautions["message"].str.contains("no diameter is recommended")).any()
             continue
         recommended += 1
         case = penstock.load_case(CASES / name)
@@ -55,10 +55,10 @@ def test_alder_gorge_economic_size_fails_and_a_larger_one_is_recommended(demos):
     r = demos["alder-gorge-high-head"]
     h = r.headline
     cand = r.diameter_candidates.set_index("diameter [m]")
-    assert not cand.loc[h["economic_size"], "passes the checks"]
-    assert h["selected_diameter"] > h["economic_size"]
-    assert cand.loc[h["selected_diameter"], "passes the checks"]
-    smaller = cand[cand.index < h["selected_diameter"]]
+    assert not cand.loc[h.economic_size, "passes the checks"]
+    assert h.selected_diameter > h.economic_size
+    assert cand.loc[h.selected_diameter, "passes the checks"]
+    smaller = cand[cand.index < h.selected_diameter]
     assert not smaller["passes the checks"].any()
 
 
@@ -90,9 +90,9 @@ def test_net_head_is_the_same_for_the_same_pipe(demos):
     assert d in cand.index
     summary = r.summary.set_index("quantity")
     assert summary.loc["net head at design flow", "value"] == pytest.approx(
-        r.headline["net_head"], rel=1e-12)
+        r.headline.net_head, rel=1e-12)
     assert cand.loc[d, "net head at design flow [m]"] == pytest.approx(
-        r.headline["net_head"], rel=1e-5)
+        r.headline.net_head, rel=1e-5)
 
 
 def test_a_draft_tube_never_lowers_the_energy(tmp_path):
@@ -102,11 +102,11 @@ def test_a_draft_tube_never_lowers_the_energy(tmp_path):
               'area_ratio = 3.2\ncone_angle = "8 deg"\n', "")
     ra = run_case(penstock.load_case(with_dt), samples=0)
     rb = run_case(penstock.load_case(without), samples=0)
-    assert rb.headline["draft_tube_recovery"] == 0.0
-    assert ra.headline["draft_tube_recovery"] > 0.0
-    assert ra.headline["mean_annual_energy"] > rb.headline["mean_annual_energy"]
-    assert ra.headline["net_head"] == pytest.approx(
-        rb.headline["net_head"] + ra.headline["draft_tube_recovery"], rel=1e-12)
+    assert rb.headline.draft_tube_recovery == 0.0
+    assert ra.headline.draft_tube_recovery > 0.0
+    assert ra.headline.mean_annual_energy > rb.headline.mean_annual_energy
+    assert ra.headline.net_head == pytest.approx(
+        rb.headline.net_head + ra.headline.draft_tube_recovery, rel=1e-12)
 
 
 def test_an_exit_loss_gives_finite_pressures(tmp_path):
@@ -117,7 +117,7 @@ def test_an_exit_loss_gives_finite_pressures(tmp_path):
     pc = r.pressure_checks["minimum pressure head at the crown, minimum headwater [m]"]
     assert np.isfinite(pc).all()
     assert np.isfinite(r.grade_lines["pressure head at the centreline, normal headwater [m]"]).all()
-    assert not (r.stretches["check"] == "vapour pressure").any()
+    assert not (r.flagged_stretches["check"] == "vapour pressure").any()
 
 
 def test_roughness_growth_reaches_the_energy(tmp_path):
@@ -128,11 +128,11 @@ def test_roughness_growth_reaches_the_energy(tmp_path):
     edit_file(new / "site.toml", 'roughness_growth = "0.025 mm/year"\n', "", count=2)
     ra = run_case(penstock.load_case(aged), samples=0)
     rb = run_case(penstock.load_case(new), samples=0)
-    assert ra.headline["energy_roughness_years"] == pytest.approx(
+    assert ra.headline.energy_roughness_years == pytest.approx(
         ra.case.service_life / 2)
-    assert rb.headline["energy_roughness_years"] is None
-    assert ra.headline["mean_annual_energy"] < rb.headline["mean_annual_energy"]
-    assert ra.headline["total_loss"] > rb.headline["total_loss"]
+    assert rb.headline.energy_roughness_years is None
+    assert ra.headline.mean_annual_energy < rb.headline.mean_annual_energy
+    assert ra.headline.total_loss > rb.headline.total_loss
 
 
 def test_check_refuses_what_run_refuses(tmp_path):
@@ -175,7 +175,7 @@ def test_range_warnings_reach_the_cautions(monkeypatch, tmp_path):
 
     monkeypatch.setattr(production, "run", noisy)
     r = run_case(penstock.load_case(CASES / "millrace-flats-low-head"), samples=0)
-    msgs = r.warnings["message"]
+    msgs = r.cautions["message"]
     assert msgs.str.contains("energy: turbine correlation used outside its range").sum() == 1
 
 
@@ -232,7 +232,7 @@ def test_energy_lost_with_a_draft_tube_is_the_penstock_loss_only(demos):
     is that of the penstock, as the diameter study counts it for the case's own pipe."""
     r = demos["millrace-flats-low-head"]
     assert r.case.draft_tube is not None
-    lost = r.headline["friction_energy"]
+    lost = r.headline.friction_energy
     assert lost > 0
     own = r.diameter_candidates.set_index("diameter [m]").loc[r.case.segments[0].diameter]
     assert lost / 3.6e9 == pytest.approx(own["energy lost [MWh/year]"], rel=1e-3)
@@ -262,16 +262,16 @@ def test_candidate_wall_takes_every_rejection_flow(tmp_path):
     wb = rb.diameter_candidates.set_index("diameter [m]").loc[d, "maximum surge rise [m]"]
     assert wb > wa
     # and the water-hammer stage's own rise for the case's pipe is the candidate's
-    stage = rb.headline["max_surge_rise"]
+    stage = rb.headline.max_surge_rise
     assert wb == pytest.approx(max(stage, wb), rel=1e-9)
 
 
 def test_vacuum_governed_reaches_are_counted(demos):
     """Millrace's large, low-pressure pipe takes its wall from full vacuum, and says so."""
     r = demos["millrace-flats-low-head"]
-    rec = r.diameter_candidates.set_index("diameter [m]").loc[r.headline["selected_diameter"]]
+    rec = r.diameter_candidates.set_index("diameter [m]").loc[r.headline.selected_diameter]
     assert rec["reaches whose wall is set by full vacuum [-]"] > 0
-    assert r.warnings["message"].str.contains("take their plate from full vacuum").any()
+    assert r.cautions["message"].str.contains("take their plate from full vacuum").any()
 
 
 def test_a_passing_listed_candidate_beyond_the_sizes_is_recommended(tmp_path):
@@ -283,7 +283,7 @@ def test_a_passing_listed_candidate_beyond_the_sizes_is_recommended(tmp_path):
     r = run_case(penstock.load_case(folder), samples=0)
     cand = r.diameter_candidates.set_index("diameter [m]")
     assert cand.loc[2.0, "passes the checks"]
-    rec = r.headline["selected_diameter"]
+    rec = r.headline.selected_diameter
     assert rec is not None and rec <= 2.0
     assert cand.loc[rec, "passes the checks"]
 

@@ -27,7 +27,7 @@ def alder():
 
 
 def _check(r, name):
-    return float(r.surge_checks.set_index("quantity").loc[name, "value"])
+    return float(r.water_hammer_checks.set_index("quantity").loc[name, "value"])
 
 
 def test_steady_state_before_closure_matches_the_steady_stage(alder):
@@ -44,7 +44,7 @@ def test_steady_state_before_closure_matches_the_steady_stage(alder):
 
 def test_joukowsky_and_michaud_by_hand(alder):
     case, r = alder
-    a, v = r.headline["joukowsky_inputs"]
+    a, v = r.headline.joukowsky_wave_speed, r.headline.joukowsky_velocity
     seg = case.segments[-1]
     assert v == pytest.approx(case.design_flow / seg.area, rel=1e-12)
     assert _check(r, "Joukowsky rise a·ΔV/g, full instant closure") == pytest.approx(
@@ -81,10 +81,10 @@ def test_slow_closure_rise_is_of_michaud_order(alder):
 
 def test_shortest_closure_meets_the_limit(alder):
     case, r = alder
-    t = r.headline["shortest_closure"]
+    t = r.headline.shortest_closure
     assert t is not None
     allowable = _check(r, "allowable rise")
-    cs = r.closure_study
+    cs = r.closure_time_study
     rise_at_t = np.interp(t, cs["closure time [s]"], cs["maximum head rise [m]"])
     assert rise_at_t == pytest.approx(allowable, rel=1e-9)
     assert allowable == pytest.approx(case.surge["allowable_rise"] * (
@@ -99,25 +99,25 @@ def test_design_pressure_line_is_static_plus_rise(alder):
     static = case.headwater - env["pipe elevation [m]"]
     np.testing.assert_allclose(env["design pressure head [m]"],
                                static + env["maximum transient rise [m]"], rtol=1e-12)
-    assert np.all(r.design_pressure["design pressure head [m]"] >= static.to_numpy() - 1e-9)
+    assert np.all(r.design_pressure_line["design pressure head [m]"] >= static.to_numpy() - 1e-9)
 
 
 def test_down_surge_at_the_high_point_is_flagged(alder):
     # the steady grade line clears the high point at 1,250 m; the down-surge does not
     _, r = alder
-    msgs = [m for m in r.warnings["message"] if "down-surge" in m]
+    msgs = [m for m in r.cautions["message"] if "down-surge" in m]
     assert msgs
     start, end = (float(v) for v in re.search(r"from ([\d.]+) to ([\d.]+) m", msgs[0]).groups())
     assert start < 1250.0 < end
     steady_min = r.pressure_checks.set_index("flow case").loc["design flow",
                                                               CROWN]
-    assert steady_min > 0 > r.headline["min_transient_pressure_head"]
+    assert steady_min > 0 > r.headline.min_transient_pressure_head
 
 
 def test_mechanical_starting_time_by_hand(alder):
     case, r = alder
-    omega = r.headline["speed"] * 2 * math.pi / 60
-    p = r.headline["installed_capacity"] / case.turbine["units"]
+    omega = r.headline.speed * 2 * math.pi / 60
+    p = r.headline.installed_capacity / case.turbine["units"]
     assert _check(r, "mechanical starting time Tm = J·ω²/P") == pytest.approx(
         case.surge["inertia"] * omega**2 / p, rel=1e-12)
 
@@ -125,9 +125,9 @@ def test_mechanical_starting_time_by_hand(alder):
 def test_closure_study_contains_the_case_closure(alder):
     # the study runs the case's own closure time too: its row must equal the main run
     case, r = alder
-    cs = r.closure_study.set_index("closure time [s]")
+    cs = r.closure_time_study.set_index("closure time [s]")
     row = cs.loc[case.surge["closure_time"]]
     assert row["maximum head rise [m]"] == pytest.approx(
-        r.headline["max_surge_rise"], rel=1e-12)
+        r.headline.max_surge_rise, rel=1e-12)
     assert row["minimum head along the route [m]"] == pytest.approx(
         _check(r, "simulated minimum head along the route"), rel=1e-12)

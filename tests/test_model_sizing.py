@@ -50,12 +50,12 @@ def test_case_diameter_reproduces_the_energy_stage(lowhead):
     case, r = lowhead
     cand = r.diameter_candidates.set_index("diameter [m]")
     e = cand.loc[case.segments[0].diameter, "mean annual energy [MWh]"]
-    assert e == pytest.approx(r.headline["mean_annual_energy"] / 3.6e9, rel=1e-4)
+    assert e == pytest.approx(r.headline.mean_annual_energy / 3.6e9, rel=1e-4)
 
 
 def test_optimum_derivative_is_zero(lowhead):
     _, r = lowhead
-    assert abs(r.headline["optimum_relative_derivative"]) < 1e-4
+    assert abs(r.headline.optimum_relative_derivative) < 1e-4
 
 
 def test_annualized_cost_columns_add_up(lowhead):
@@ -64,7 +64,7 @@ def test_annualized_cost_columns_add_up(lowhead):
     e = case.economics
     # numpy-financial: payment per unit present value = capital recovery factor
     crf = -npf.pmt(e["discount_rate"], e["life"], 1.0)
-    assert r.headline["crf"] == pytest.approx(crf, rel=1e-12)
+    assert r.headline.crf == pytest.approx(crf, rel=1e-12)
     np.testing.assert_allclose(c["annualized capital [currency/year]"],
                                crf * c["capital cost [currency]"], rtol=1e-12)
     np.testing.assert_allclose(c["annualized cost [currency/year]"],
@@ -108,7 +108,7 @@ def test_sweep_has_an_interior_minimum(lowhead):
     s = r.diameter_sweep
     i = int(np.argmin(s["annualized cost [currency/year]"]))
     assert 0 < i < len(s) - 1
-    assert r.headline["optimum_diameter"] == pytest.approx(s["diameter [m]"].iloc[i], rel=0.02)
+    assert r.headline.optimum_diameter == pytest.approx(s["diameter [m]"].iloc[i], rel=0.02)
 
 
 def test_energy_lost_beyond_the_grid_is_evaluated_not_clamped(model):

@@ -95,6 +95,6 @@ def test_steady_and_energy_wiring(monkeypatch, alder):
                       == drawdown) for args, kw in crown.calls)
     # the net head of the Summary is energy.net_head of the stage's own numbers
     h = r.headline
-    assert any(float(np.asarray(a[0])) == pytest.approx(h["gross_head"])
-               and float(np.asarray(a[1])) == pytest.approx(h["total_loss"])
+    assert any(float(np.asarray(a[0])) == pytest.approx(h.gross_head)
+               and float(np.asarray(a[1])) == pytest.approx(h.total_loss)
                for a, _ in net.calls if len(a) >= 2 and np.ndim(a[0]) == 0)

@@ -42,6 +42,7 @@ can pass meanwhile; each such place in :func:`valid_cases` names the bug's test.
 from __future__ import annotations
 
 import copy
+import dataclasses
 import json
 import math
 import tempfile
@@ -555,7 +556,7 @@ def check_invariants(case, r):
     tables = r.tables()
     problems = [p for name, df in tables.items() for p in _numeric_problems(name, df)]
     assert not problems, problems[:10]
-    for key, value in r.headline.items():
+    for key, value in dataclasses.asdict(r.headline).items():
         if isinstance(value, float):
             assert math.isfinite(value), key
 
@@ -591,22 +592,22 @@ def check_invariants(case, r):
                   + 1e-12 * q_scale)
 
     # energy: each year is the sum of its months; nothing negative
-    monthly = r.energy_monthly.groupby("year")["energy [MWh]"].sum()
-    annual = r.energy_annual.set_index("year")["energy [MWh]"]
+    monthly = r.energy_by_month.groupby("year")["energy [MWh]"].sum()
+    annual = r.energy_by_year.set_index("year")["energy [MWh]"]
     e_scale = max(1e-9, float(annual.abs().max()))
     np.testing.assert_allclose(monthly.reindex(annual.index).to_numpy(), annual.to_numpy(),
                                rtol=1e-9, atol=1e-12 * e_scale)
-    assert r.headline["mean_annual_energy"] >= 0
-    assert (r.energy_annual["energy [MWh]"] >= 0).all()
-    assert (r.energy_monthly["energy [MWh]"] >= 0).all()
+    assert r.headline.mean_annual_energy >= 0
+    assert (r.energy_by_year["energy [MWh]"] >= 0).all()
+    assert (r.energy_by_month["energy [MWh]"] >= 0).all()
 
     # installed capacity within the hydraulic power of the design flow: P = rho g Q H
     h_gross = case.headwater - case.tailwater
     p_hydraulic = RHO_CHECK * GRAVITY * case.design_flow * h_gross
-    assert r.headline["installed_capacity"] <= 1.01 * p_hydraulic
+    assert r.headline.installed_capacity <= 1.01 * p_hydraulic
 
     # capacity factor: energy over installed capacity x time, at most 100 % by definition
-    assert r.headline["capacity_factor"] <= 1.0 + 1e-9
+    assert r.headline.capacity_factor <= 1.0 + 1e-9
     cf = r.design_flow_study["capacity factor [%]"]
     assert (cf <= 100.0 + 1e-6).all(), cf.max()
 
@@ -619,12 +620,12 @@ def check_invariants(case, r):
         # smallest pipe that keeps half the gross head at the design flow
         floor = study["minimum"] or math.sqrt(4 * case.design_flow / (math.pi * 6.0))
         assert lo >= floor * (1 - 1e-9)
-        d_opt = r.headline["optimum_diameter"]
+        d_opt = r.headline.optimum_diameter
         assert lo * (1 - 1e-9) <= d_opt <= hi * (1 + 1e-9), (lo, d_opt, hi)
         # the recommended diameter passes every check the study makes; with none
         # recommended, no candidate passed
         cand = r.diameter_candidates.set_index("diameter [m]")
-        rec = r.headline["selected_diameter"]
+        rec = r.headline.selected_diameter
         if rec is None:
             assert not cand["passes the checks"].any()
         else:
@@ -664,7 +665,7 @@ def joukowsky_wall_bound(case, r, diameters):
                                    np.diff(case.profile["elevation"]))))
     head = (case.headwater - float(case.profile["elevation"].min()) + _joukowsky_bound(v)
             + (0.05 * length / d + 10.0) * v**2 / (2 * GRAVITY))
-    p = r.headline["density"] * GRAVITY * head
+    p = r.headline.density * GRAVITY * head
     need = p * d / (2 * sigma * w["joint_efficiency"]) + w["corrosion_allowance"]
     need = np.maximum(need, pipewall.minimum_handling_thickness(d, w["handling_rule"]))
     # and an unstiffened wall under full vacuum (at most sea-level air pressure outside):
@@ -692,7 +693,7 @@ def _run(spec: CaseSpec):
         except CaseError as exc:
             assert "vapour pressure" in str(exc) and "--run-anyway" in str(exc), str(exc)
         results = penstock.run_case(case, proceed=True)
-        assert any("--run-anyway" in m for m in results.warnings["message"])
+        assert any("--run-anyway" in m for m in results.cautions["message"])
         return case, results
 
 
@@ -928,9 +929,9 @@ def test_wall_beyond_the_plates_is_a_caution_not_a_crash(tmp_path):
     assert r is not None
     check_invariants(case, r)
     # every size needs more than the thickest plate: none is recommended, and why is said
-    assert r.headline["selected_diameter"] is None
-    assert r.warnings["message"].str.contains("more than the thickest plate").any()
-    assert r.warnings["message"].str.contains("no diameter is recommended").any()
+    assert r.headline.selected_diameter is None
+    assert r.cautions["message"].str.contains("more than the thickest plate").any()
+    assert r.cautions["message"].str.contains("no diameter is recommended").any()
 
 
 def test_sweep_wall_within_the_joukowsky_bound_for_rapid_closure(tmp_path):

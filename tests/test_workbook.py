@@ -279,7 +279,7 @@ def test_formula_cells_are_the_writers_own(demos, name):
     """The live formulas checked below are all there, and use classic functions only."""
     d = demos[name]
     formulas = _formula_cells(d.wb)
-    n_years = len(d.results.energy_annual)
+    n_years = len(d.results.energy_by_year)
     per_sheet = {}
     for sheet, _ in formulas:
         per_sheet[sheet] = per_sheet.get(sheet, 0) + 1
@@ -311,7 +311,7 @@ def test_summary_live_formulas(demos, recalculated, name, label, key, scale):
     assert cell.data_type == "f"
     got = recalculated[name]["Summary"][cell.coordinate].value
     # the live block is in SI whatever the report's units: m, and W / 1000 = kW
-    assert got == pytest.approx(d.results.headline[key] * scale, rel=REL)
+    assert got == pytest.approx(getattr(d.results.headline, key) * scale, rel=REL)
 
 
 @pytest.mark.parametrize("name", DEMO_CASES)
@@ -332,7 +332,7 @@ def test_loss_breakdown_live_sum(demos, recalculated, name):
 def test_energy_year_totals_and_mean(demos, recalculated, name):
     d = demos[name]
     years, mean, col = _energy_rows(d.wb["Energy by year and month"])
-    annual = d.results.energy_annual.set_index("year")
+    annual = d.results.energy_by_year.set_index("year")
     assert sorted(years) == sorted(int(y) for y in annual.index)
     ws = recalculated[name]["Energy by year and month"]
     for year, row in years.items():
@@ -341,7 +341,7 @@ def test_energy_year_totals_and_mean(demos, recalculated, name):
             float(annual.loc[year, "energy [MWh]"]), rel=REL), year
     # J / 3.6e9 = MWh
     assert ws.cell(row=mean, column=col).value == pytest.approx(
-        d.results.headline["mean_annual_energy"] / 3.6e9, rel=REL)
+        d.results.headline.mean_annual_energy / 3.6e9, rel=REL)
 
 
 @pytest.mark.parametrize("name", DEMO_CASES)
@@ -350,7 +350,7 @@ def test_joukowsky_live_formula(demos, recalculated, name):
     cell = _joukowsky_live(d.wb["Water hammer"])
     assert cell.data_type == "f"
     got = recalculated[name]["Water hammer"][cell.coordinate].value
-    assert got == pytest.approx(d.results.headline["joukowsky"], rel=REL)   # m
+    assert got == pytest.approx(d.results.headline.joukowsky, rel=REL)   # m
 
 
 @pytest.mark.parametrize("name", DEMO_CASES)
@@ -362,7 +362,7 @@ def test_diameter_study_live_formulas(demos, recalculated, name):
     calc = recalculated[name]["Diameter study"]
     crf = ws.cell(row=_label_row(ws, "CRF =", prefix=True), column=2)
     assert crf.data_type == "f"
-    assert calc[crf.coordinate].value == pytest.approx(d.results.headline["crf"], rel=REL)
+    assert calc[crf.coordinate].value == pytest.approx(d.results.headline.crf, rel=REL)
     head = _label_row(ws, "Candidate diameters", prefix=True) + 1
     col = _header_column(ws, head, "annualized cost [")
     expected = d.results.diameter_candidates["annualized cost [currency/year]"].to_numpy()
@@ -680,7 +680,7 @@ def test_chart_series_point_at_numbers(demos, name):
                     title = ser.find("c:tx/c:v", NS)
                     if title is not None and title.text == "pressure below margin":
                         # the flag series is empty by design when nothing is flagged
-                        assert bool(nums) == bool(len(demos[name].results.stretches)), sheet
+                        assert bool(nums) == bool(len(demos[name].results.flagged_stretches)), sheet
                         continue
                     assert nums, f"{sheet} ({ch['part']}): series {ref.text} has no numbers"
                     n += 1

@@ -20,7 +20,7 @@ from .. import __version__, water
 from ..constants import J_PER_MWH
 from . import hammer, production, sizing, steady, uncertainty
 from .core import STANDING_CAUTION, TABLE_ORDER, Methods, Results, Warning_
-from .stages import stage_tables
+from .stages import Headline, stage_tables
 from .steady import CROWN_MINIMUM
 
 __all__ = ["STANDING_CAUTION", "TABLE_ORDER", "Results", "Warning_", "run_case",
@@ -94,11 +94,9 @@ def run_case(case, progress=None, samples=None, proceed=False) -> Results:
         stages.append(_caught(name, stage, warns))
     st, prod, ham, size, mc = stages
 
-    headline = {**prod.headline, **ham.headline, **size.headline,
-                **mc.headline,
-                "density": props.density,
-                "min_pressure_head": float(
-                    st.pressure_checks[CROWN_MINIMUM].min())}
+    headline = Headline.of(prod.headline, ham.headline, size.headline, mc.headline,
+                           density=props.density,
+                           min_pressure_head=float(st.pressure_checks[CROWN_MINIMUM].min()))
     tick("cautions")
     warn_df = pd.DataFrame(
         [{"severity": w.severity, "topic": w.topic, "message": w.message,
@@ -108,7 +106,7 @@ def run_case(case, progress=None, samples=None, proceed=False) -> Results:
     return Results(
         case=case, run_date=_dt.date.today().isoformat(), version=__version__,
         summary=_summary(case, props, headline, st.route), inputs=pd.DataFrame(case.echo),
-        warnings=warn_df, methods=methods.table(), headline=headline, **tables,
+        cautions=warn_df, methods=methods.table(), headline=headline, **tables,
     )
 
 
@@ -133,10 +131,10 @@ def _caught(stage_name, stage, warns):
 def _summary(case, props, h, route) -> pd.DataFrame:
     """The headline table: the case's own pipe in ``value``, and beside it, where the
     diameter study ran, the recommended uniform pipe on the same basis."""
-    years = h.get("energy_roughness_years")
+    years = h.energy_roughness_years
     basis = "as new" if years is None else f"after {years:g} years (half the service life)"
-    rec = h.get("selected_row")
-    studied = h.get("optimum_diameter") is not None
+    rec = h.selected_row
+    studied = h.optimum_diameter is not None
 
     def r(key):
         return rec[key] if rec is not None else None
@@ -153,37 +151,37 @@ def _summary(case, props, h, route) -> pd.DataFrame:
          r("diameter [m]")),
         ("wall, thinnest plate", _own_wall(case, min), "mm", r("thinnest plate [mm]")),
         ("wall, thickest plate", _own_wall(case, max), "mm", r("thickest plate [mm]")),
-        ("gross head at design flow", h["gross_head"], "m", h["gross_head"] if rec else None),
-        ("design flow", h["design_flow"], "m^3/s", h["design_flow"] if rec else None),
+        ("gross head at design flow", h.gross_head, "m", h.gross_head if rec else None),
+        ("design flow", h.design_flow, "m^3/s", h.design_flow if rec else None),
         ("pipe roughness of the energy basis", basis, "", basis if rec else None),
-        ("penstock losses at design flow", h["total_loss"], "m",
+        ("penstock losses at design flow", h.total_loss, "m",
          r("head loss at design flow [m]")),
-        ("head recovered by the draft tube at design flow", h["draft_tube_recovery"], "m",
-         h["draft_tube_recovery"] if rec else None),
-        ("net head at design flow", h["net_head"], "m", r("net head at design flow [m]")),
-        ("installed capacity", h["installed_capacity"] / 1e3, "kW", None),
-        ("mean annual energy", h["mean_annual_energy"] / J_PER_MWH, "MWh",
+        ("head recovered by the draft tube at design flow", h.draft_tube_recovery, "m",
+         h.draft_tube_recovery if rec else None),
+        ("net head at design flow", h.net_head, "m", r("net head at design flow [m]")),
+        ("installed capacity", h.installed_capacity / 1e3, "kW", None),
+        ("mean annual energy", h.mean_annual_energy / J_PER_MWH, "MWh",
          r("mean annual energy [MWh]")),
-        ("capacity factor", 100 * h["capacity_factor"], "%", None),
+        ("capacity factor", 100 * h.capacity_factor, "%", None),
         (f"firm power (exceeded {100 * case.firm_exceedance:g} % of the time)",
-         h["firm_power"] / 1e3, "kW", None),
-        ("energy lost to penstock losses, mean annual", h["friction_energy"] / J_PER_MWH, "MWh",
+         h.firm_power / 1e3, "kW", None),
+        ("energy lost to penstock losses, mean annual", h.friction_energy / J_PER_MWH, "MWh",
          r("energy lost [MWh/year]")),
         ("minimum steady pressure head at the crown (minimum headwater, new and aged pipe)",
-         h["min_pressure_head"], "m",
+         h.min_pressure_head, "m",
          None if rec is None else
          rec["minimum steady pressure margin at the crown, minimum headwater [m]"]
          + case.pressure_margin),
-        ("maximum transient rise on load rejection", h["max_surge_rise"], "m",
+        ("maximum transient rise on load rejection", h.max_surge_rise, "m",
          r("maximum surge rise [m]")),
         ("minimum transient pressure head at the crown (minimum headwater)",
-         h["min_transient_pressure_head"], "m",
+         h.min_transient_pressure_head, "m",
          r("minimum transient pressure head at the crown, minimum headwater [m]")),
         ("annualized cost per year, diameter study basis, in the case's currency", None, "",
          r("annualized cost [currency/year]")),
-        ("shortest closure keeping the rise within the allowable", h["shortest_closure"], "s",
+        ("shortest closure keeping the rise within the allowable", h.shortest_closure, "s",
          None),
-        ("water starting time", h["water_starting_time"], "s", r("water starting time [s]")),
+        ("water starting time", h.water_starting_time, "s", r("water starting time [s]")),
         ("penstock length", float(route.length.sum()), "m", None),
         ("water temperature", case.temperature, "degC", None),
         ("water density", props.density, "kg/m^3", None),

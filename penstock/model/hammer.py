@@ -21,7 +21,7 @@ from ..errors import CaseError
 from ..schema import CASE_FILE
 from ..turbines import TURBINE_TYPES
 from .core import Methods, Warning_
-from .stages import HammerStage
+from .stages import HammerHeadline, HammerStage
 from .steady import CROWN_MINIMUM
 
 
@@ -238,7 +238,7 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
     dh_mich = float(surge.michaud(l_total, v_mean, tc))
     h0 = case.headwater - downstream
     rise_allievi = float(surge.allievi_max_head(l_total, v_mean, h0, tc)) - h0
-    hn = prod.headline["net_head"]
+    hn = prod.headline.net_head
     tw = float(surge.water_starting_time(lengths, vel, hn))
     rows = [
         ("pipe length along the route", l_total, "m"),
@@ -260,8 +260,8 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
                 "Prentice Hall (from memory)")
     tm = None
     if s["inertia"] is not None:
-        speed = prod.headline["speed"]
-        p_unit = prod.headline["installed_capacity"] / case.turbine["units"]
+        speed = prod.headline.speed
+        p_unit = prod.headline.installed_capacity / case.turbine["units"]
         tm = float(surge.mechanical_starting_time(s["inertia"], turbines.angular_speed(speed),
                                                   p_unit))
         rows.append(("mechanical starting time Tm = J·ω²/P", tm, "s"))
@@ -396,15 +396,15 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
                               f"{shortest:.1f} s that keeps the rise within the allowable"))
     quick = pd.DataFrame(rows, columns=["quantity", "value", "unit"])
     return HammerStage(
-        surge_checks=quick, wave_speeds=wave_table, transient_envelope=envelope,
-        valve_history=history, closure_study=study_table,
-        design_pressure=pd.DataFrame({"chainage [m]": to_x(main.chainage),
+        water_hammer_checks=quick, wave_speeds=wave_table, transient_envelope=envelope,
+        turbine_head_history=history, closure_time_study=study_table,
+        design_pressure_line=pd.DataFrame({"chainage [m]": to_x(main.chainage),
                                       "design pressure head [m]": design_head}),
-        headline={"max_surge_rise": rise_valve, "joukowsky": dh_jouk,
-                  "allowable_rise": allowable,
-                  "joukowsky_inputs": (float(speeds[-1]), float(vel[-1])),
-                  "shortest_closure": shortest, "water_starting_time": tw,
-                  "min_transient_pressure_head": float(envelope[CROWN_MINIMUM].min())})
+        headline=HammerHeadline(
+            max_surge_rise=rise_valve, joukowsky=dh_jouk, allowable_rise=allowable,
+            joukowsky_wave_speed=float(speeds[-1]), joukowsky_velocity=float(vel[-1]),
+            shortest_closure=shortest, water_starting_time=tw,
+            min_transient_pressure_head=float(envelope[CROWN_MINIMUM].min())))
 
 
 def _two_stage_study(lengths, diam, speeds, case, props, route, downstream, q0, times, frac,

@@ -23,7 +23,7 @@ from ..errors import CaseError
 from ..schema import CASE_FILE
 from ..turbines import TURBINE_TYPES
 from .core import Say, Warning_
-from .stages import Operation, ProductionStage
+from .stages import Operation, ProductionHeadline, ProductionStage
 
 
 def _residual(case, index, river):
@@ -184,8 +184,8 @@ def run(case, props, steady, warns, methods, tick) -> dict:
         "power_duration": pd.DataFrame({
             "exceedance [%]": 100 * summ.power_duration.exceedance,
             "power when available [kW]": summ.power_duration.flow / 1e3 / t["availability"]}),
-        "energy_annual": _annual(summ),
-        "energy_monthly": _monthly(summ),
+        "energy_by_year": _annual(summ),
+        "energy_by_month": _monthly(summ),
     }
     tick("design-flow study")
     p_study = np.arange(0.10, 0.601, 0.05)
@@ -228,7 +228,7 @@ def run(case, props, steady, warns, methods, tick) -> dict:
         index=index, river=river, gross=gross, op=op, table=table, drive=drive,
         dt_recovery=dt_recovery, total_loss=total_loss,
         step_seconds=float(hydrology.time_step(index).total_seconds()))
-    out["headline"] = {
+    out["headline"] = ProductionHeadline(**{
         "gross_head": h_design, "net_head": hn_design, "total_loss": loss_design,
         "draft_tube_recovery": gain_design,
         "energy_roughness_years": steady.energy_roughness_years,
@@ -239,7 +239,7 @@ def run(case, props, steady, warns, methods, tick) -> dict:
         "spill_energy": summ.mean_annual_spill_energy,
         "residual_energy": summ.mean_annual_residual_energy,
         "speed": speed,
-    }
+    })
     return ProductionStage(**out)
 
 

@@ -43,7 +43,7 @@ from ..materials import STEEL_PIPE_MATERIALS
 from ..materials import get_material as _get_material
 from ..route import build_route
 from .core import Methods, Say, Warning_
-from .stages import SizingStage
+from .stages import SizingHeadline, SizingStage
 
 #: Velocities at the design flow that bound the default sweep (common practice).
 SWEEP_VELOCITIES = (6.0, 1.5)
@@ -404,8 +404,8 @@ def run(case, props, steady, prod, ham, warns, methods, tick) -> dict:
     if recommended is not None:
         _vacuum_note(case, rows[recommended], recommended, warns, say)
     # empirical sanity checks
-    p_inst = prod.headline["installed_capacity"]
-    hn = prod.headline["net_head"]
+    p_inst = prod.headline.installed_capacity
+    hn = prod.headline.net_head
     emp = []
     for name, entry in dia.EMPIRICAL_DIAMETER_METHODS.items():
         inputs = {"flow": case.design_flow} if "flow" in entry["inputs"] else {
@@ -451,20 +451,20 @@ def run(case, props, steady, prod, ham, warns, methods, tick) -> dict:
                                  opt.selected_size)
     return SizingStage(
         diameter_sweep=sweep, diameter_candidates=cand,
-        diameter_empirical=pd.DataFrame(emp),
+        diameter_empirical_checks=pd.DataFrame(emp),
         diameter_sensitivity=pd.DataFrame(grid_rows),
         diameter_one_at_a_time=pd.DataFrame(oat),
         wall_profile=wall_profile,
         model=model,
-        headline={
-            "optimum_diameter": opt.diameter, "selected_diameter": recommended,
-            "economic_size": opt.selected_size,
-            "optimum_cost": opt.cost, "optimum_relative_derivative": opt.relative_derivative,
-            "selected_wall_min": sel["thinnest plate [mm]"] / 1e3 if sel else None,
-            "selected_wall_max": sel["thickest plate [mm]"] / 1e3 if sel else None,
-            "selected_row": sel,
-            "crf": base.crf,
-        },
+        headline=SizingHeadline(
+            optimum_diameter=opt.diameter, selected_diameter=recommended,
+            economic_size=opt.selected_size,
+            optimum_cost=opt.cost, optimum_relative_derivative=opt.relative_derivative,
+            selected_wall_min=sel["thinnest plate [mm]"] / 1e3 if sel else None,
+            selected_wall_max=sel["thickest plate [mm]"] / 1e3 if sel else None,
+            selected_row=sel,
+            crf=base.crf,
+        ),
     )
 
 
@@ -580,8 +580,8 @@ def candidate_row(case, props, steady, prod, model, d):
     """One row of the candidate table: diameter ``d`` with its own water-hammer run, real
     plates, costs and the checks that decide whether it can be recommended."""
     e = case.economics
-    gross = prod.headline["gross_head"]
-    e0 = prod.headline["mean_annual_energy"] + model.case_lost
+    gross = prod.headline.gross_head
+    e0 = prod.headline.mean_annual_energy + model.case_lost
     steel = wall_material(case)
     head, rise, pmin_t, route = _moc_design_head(case, props, model, d)
     keep = model.lengths > 0
@@ -595,7 +595,7 @@ def candidate_row(case, props, steady, prod, model, d):
     lost = float(model.energy_lost(d))
     lost_value = float(economics.lost_energy_value(lost, e["energy_price"] / J_PER_KWH))
     h_d = float(model.loss_on_grid(d, np.array([case.design_flow]))[0])
-    gain = prod.headline["draft_tube_recovery"]
+    gain = prod.headline.draft_tube_recovery
     hn = float(energy.net_head(gross, h_d, gain))
     energy_d = e0 - lost    # the actual energy, re-based from the case's pipe to this D
     v = gradeline.mean_velocity(case.design_flow, d)

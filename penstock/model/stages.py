@@ -15,8 +15,94 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-__all__ = ["HammerStage", "Operation", "ProductionStage", "SizingStage", "SteadyStage",
-           "UncertaintyStage", "stage_tables"]
+__all__ = ["HammerHeadline", "HammerStage", "Headline", "Operation", "ProductionHeadline",
+           "ProductionStage", "SizingHeadline", "SizingStage", "SteadyStage",
+           "UncertaintyHeadline", "UncertaintyStage", "stage_tables"]
+
+
+@dataclass(frozen=True, kw_only=True)
+class ProductionHeadline:
+    """Headline numbers of the case's own pipe at the design flow and over the record.
+
+    Heads in m, flows in m^3/s, powers in W, energies in J a year, speed in rpm.
+    """
+
+    gross_head: float
+    net_head: float
+    total_loss: float                 # penstock loss at the design flow [m]
+    draft_tube_recovery: float        # [m], 0 without a draft tube
+    energy_roughness_years: float | None   # pipe age of the energy basis [years]
+    design_flow: float
+    installed_capacity: float
+    eta_rated: float                  # turbine efficiency at the design flow [-]
+    mean_annual_energy: float
+    capacity_factor: float            # [-]
+    firm_power: float
+    friction_energy: float            # energy lost to penstock losses [J/year]
+    spill_energy: float
+    residual_energy: float
+    speed: float | None               # synchronous speed [rpm]
+
+
+@dataclass(frozen=True, kw_only=True)
+class HammerHeadline:
+    """Headline numbers of the water-hammer stage (heads in m, times in s, speeds in m/s)."""
+
+    max_surge_rise: float
+    joukowsky: float
+    allowable_rise: float
+    joukowsky_wave_speed: float       # wave speed of the Joukowsky rise [m/s]
+    joukowsky_velocity: float         # velocity of the Joukowsky rise [m/s]
+    shortest_closure: float
+    water_starting_time: float
+    min_transient_pressure_head: float
+
+
+@dataclass(frozen=True, kw_only=True)
+class SizingHeadline:
+    """Headline numbers of the diameter study; all None when it did not run."""
+
+    optimum_diameter: float | None = None       # continuous optimum [m]
+    selected_diameter: float | None = None      # recommended size [m], None if none passes
+    economic_size: float | None = None          # listed size nearest the optimum [m]
+    optimum_cost: float | None = None           # [currency/year]
+    optimum_relative_derivative: float | None = None
+    selected_wall_min: float | None = None      # [m]
+    selected_wall_max: float | None = None      # [m]
+    selected_row: dict | None = None            # the recommended candidate's row
+    crf: float | None = None                    # capital recovery factor [1/year]
+
+
+@dataclass(frozen=True, kw_only=True)
+class UncertaintyHeadline:
+    """Monte Carlo quantiles of the mean annual energy [J/year]; None without samples."""
+
+    p50_energy: float | None = None
+    p90_energy: float | None = None
+    p99_energy: float | None = None
+    p50_standard_error: float | None = None
+    probability_negative_margin: float | None = None
+
+
+_PARTS = (ProductionHeadline, HammerHeadline, SizingHeadline, UncertaintyHeadline)
+
+
+@dataclass(frozen=True, kw_only=True)
+class Headline(ProductionHeadline, HammerHeadline, SizingHeadline, UncertaintyHeadline):
+    """Every stage's headline numbers in one flat record, plus the water density
+    [kg/m^3] and the minimum steady pressure head at the crown [m]."""
+
+    density: float = float("nan")
+    min_pressure_head: float = float("nan")
+
+    @classmethod
+    def of(cls, *parts, **extra) -> Headline:
+        """Merge the stages' headlines (their field names never overlap)."""
+        values = {}
+        for part in parts:
+            for f in dataclasses.fields(part):
+                values[f.name] = getattr(part, f.name)
+        return cls(**values, **extra)
 
 
 @dataclass
@@ -29,7 +115,7 @@ class SteadyStage:
     gl: object                        # penstock.gradeline.GradeLines at the study flows
     grade_lines: pd.DataFrame
     pressure_checks: pd.DataFrame
-    stretches: pd.DataFrame
+    flagged_stretches: pd.DataFrame
     loss_breakdown: pd.DataFrame
     profile: pd.DataFrame
     head_loss: Callable               # penstock loss [m] of the total flow, energy basis
@@ -57,27 +143,27 @@ class ProductionStage:
 
     flow_duration: pd.DataFrame
     power_duration: pd.DataFrame
-    energy_annual: pd.DataFrame
-    energy_monthly: pd.DataFrame
+    energy_by_year: pd.DataFrame
+    energy_by_month: pd.DataFrame
     design_flow_study: pd.DataFrame
     turbine_choice: pd.DataFrame
     turbine_setting: pd.DataFrame
     draft_tube: pd.DataFrame | None
     operation: Operation
-    headline: dict
+    headline: ProductionHeadline
 
 
 @dataclass
 class HammerStage:
     """Water hammer (:mod:`penstock.model.hammer`)."""
 
-    surge_checks: pd.DataFrame
+    water_hammer_checks: pd.DataFrame
     wave_speeds: pd.DataFrame
     transient_envelope: pd.DataFrame
-    valve_history: pd.DataFrame
-    closure_study: pd.DataFrame
-    design_pressure: pd.DataFrame
-    headline: dict
+    turbine_head_history: pd.DataFrame
+    closure_time_study: pd.DataFrame
+    design_pressure_line: pd.DataFrame
+    headline: HammerHeadline
 
 
 @dataclass
@@ -86,23 +172,23 @@ class SizingStage:
 
     diameter_sweep: pd.DataFrame | None = None
     diameter_candidates: pd.DataFrame | None = None
-    diameter_empirical: pd.DataFrame | None = None
+    diameter_empirical_checks: pd.DataFrame | None = None
     diameter_sensitivity: pd.DataFrame | None = None
     diameter_one_at_a_time: pd.DataFrame | None = None
     wall_profile: pd.DataFrame | None = None
     model: object | None = None       # penstock.model.sizing.DiameterModel
-    headline: dict = field(default_factory=dict)
+    headline: SizingHeadline = field(default_factory=SizingHeadline)
 
 
 @dataclass
 class UncertaintyStage:
     """Monte Carlo (:mod:`penstock.model.uncertainty`); tables None without samples."""
 
-    mc_summary: pd.DataFrame | None = None
-    mc_samples: pd.DataFrame | None = None
-    mc_exceedance: pd.DataFrame | None = None
-    mc_cost_histogram: pd.DataFrame | None = None
-    headline: dict = field(default_factory=dict)
+    uncertainty_summary: pd.DataFrame | None = None
+    uncertainty_samples: pd.DataFrame | None = None
+    uncertainty_energy_exceedance: pd.DataFrame | None = None
+    uncertainty_cost_histogram: pd.DataFrame | None = None
+    headline: UncertaintyHeadline = field(default_factory=UncertaintyHeadline)
 
 
 def stage_tables(*stages) -> dict:

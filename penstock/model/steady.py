@@ -93,7 +93,7 @@ def run(case, props, warns, methods, tick, proceed=False) -> dict:
     _siphon_check(case, route, warns)
     return SteadyStage(
         route=route, flows=flows, flow_names=flow_names, gl=gl, grade_lines=grade,
-        pressure_checks=checks, stretches=stretches, loss_breakdown=breakdown,
+        pressure_checks=checks, flagged_stretches=stretches, loss_breakdown=breakdown,
         profile=_profile_table(case, route),
         head_loss=loss_function(case, route, props, energy_roughness(case, route)),
         energy_roughness_years=energy_roughness_years(case))

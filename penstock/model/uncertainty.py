@@ -26,7 +26,7 @@ import pandas as pd
 from .. import economics, energy, gradeline
 from ..constants import J_PER_KWH, J_PER_MWH
 from .core import Warning_
-from .stages import UncertaintyStage
+from .stages import UncertaintyHeadline, UncertaintyStage
 from .steady import mid_life
 
 BLOCK_ELEMENTS = 2_000_000   # samples × steps per block, to bound memory
@@ -177,10 +177,10 @@ def run(case, props, steady, prod, size, warns, methods, tick, samples=None) -> 
     crf = float(economics.capital_recovery_factor(e["discount_rate"], e["life"]))
     cost = np.full(n, np.nan)
     cost_note = ""
-    row = size.headline.get("selected_row")
+    row = size.headline.selected_row
     if row is not None:
         base_lost = float(row["energy lost [MWh/year]"]) * J_PER_MWH
-        det_lost = prod.headline["friction_energy"]
+        det_lost = prod.headline.friction_energy
         scale = lost / det_lost if det_lost > 0 else np.ones(n)
         cap = float(row["capital cost [currency]"]) * d["capital factor"]
         price = e["energy_price"] / J_PER_KWH * d["price factor"]
@@ -203,7 +203,7 @@ def _residual_series(case, index, river):
 def _year_blocks(index, prod):
     years = index.year.to_numpy()
     starts = np.flatnonzero(np.concatenate([[True], years[1:] != years[:-1]]))
-    ann = prod.energy_annual
+    ann = prod.energy_by_year
     complete = ann["complete year"].astype(bool).to_numpy()
     return {"starts": starts, "complete": complete}
 
@@ -235,7 +235,7 @@ def _pressure_margin(case, props, steady, route, life, d):
 
 def _tables(case, n, d, energy_j, cost, margin, prod, cost_note, warns, methods):
     e_mwh = energy_j / J_PER_MWH
-    det = prod.headline["mean_annual_energy"] / J_PER_MWH
+    det = prod.headline.mean_annual_energy / J_PER_MWH
     rng = np.random.default_rng(case.uncertainty["seed"] + 1)
     boot = np.median(e_mwh[rng.integers(0, n, size=(200, n))], axis=1)
     se_p50 = float(boot.std(ddof=1)) if n > 1 else 0.0
@@ -291,10 +291,11 @@ def _tables(case, n, d, energy_j, cost, margin, prod, cost_note, warns, methods)
     if cost_note:
         warns.append(Warning_("uncertainty", cost_note, severity="note"))
     return UncertaintyStage(
-        mc_summary=pd.DataFrame(rows, columns=["quantity", "value", "unit"]),
-        mc_samples=samples, mc_exceedance=exceed.reset_index(drop=True),
-        mc_cost_histogram=hist,
-        headline={"p50_energy": p(0.5) * J_PER_MWH, "p90_energy": p(0.10) * J_PER_MWH,
-                  "p99_energy": p(0.01) * J_PER_MWH, "p50_standard_error": se_p50 * J_PER_MWH,
-                  "probability_negative_margin": float(np.mean(margin < 0))})
+        uncertainty_summary=pd.DataFrame(rows, columns=["quantity", "value", "unit"]),
+        uncertainty_samples=samples, uncertainty_energy_exceedance=exceed.reset_index(drop=True),
+        uncertainty_cost_histogram=hist,
+        headline=UncertaintyHeadline(
+            p50_energy=p(0.5) * J_PER_MWH, p90_energy=p(0.10) * J_PER_MWH,
+            p99_energy=p(0.01) * J_PER_MWH, p50_standard_error=se_p50 * J_PER_MWH,
+            probability_negative_margin=float(np.mean(margin < 0))))
 

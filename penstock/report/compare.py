@@ -57,7 +57,7 @@ def case_comparison(results_list, system: str | None = None) -> pd.DataFrame:
         unit = s.set_index("quantity").loc["inside diameter, largest", "unit"]
         values[RECOMMENDED] = (f"{_num(d)} {unit}" if isinstance(d, (int, float)) and d == d
                                else "none passes the checks"
-                               if r.headline.get("optimum_diameter") is not None
+                               if r.headline.optimum_diameter is not None
                                else "not studied")
         for q in values:
             if q not in order:

@@ -18,8 +18,8 @@ def diameter_sheet(ws, ctx, title):
     h = r.headline
     cur = r.case.economics["currency"]
     row = title(ws, ctx, "Diameter study")
-    if h.get("selected_diameter") is not None:
-        pick = (f"recommended size {ctx.v(h['selected_diameter'], 'm'):.3f} {ctx.u('m')}, the "
+    if h.selected_diameter is not None:
+        pick = (f"recommended size {ctx.v(h.selected_diameter, 'm'):.3f} {ctx.u('m')}, the "
                 "cheaper size beside it that passes the steady pressure check at the crown "
                 "(minimum headwater, every study flow, pipe new and aged) and the wall rules, "
                 "or the next larger size that does")
@@ -27,7 +27,7 @@ def diameter_sheet(ws, ctx, title):
         pick = ("no size passes the steady pressure check at the crown and the wall rules, "
                 "so none is recommended (see the column 'governing check')")
     sh.put(ws, row, 1, f"Uniform inside diameter along the whole route. Economic optimum "
-           f"{ctx.v(h['optimum_diameter'], 'm'):.3f} {ctx.u('m')}; {pick}. Costs in " + cur +
+           f"{ctx.v(h.optimum_diameter, 'm'):.3f} {ctx.u('m')}; {pick}. Costs in " + cur +
            "; the cost inputs are the case's.", font=sh.SUBTITLE)
     row += 2
     # capital recovery factor as a live formula
@@ -44,7 +44,7 @@ def diameter_sheet(ws, ctx, title):
     crf_cell = f"$B${row + 3}"
     sh.formula(ws, row + 3, 2, f"=IF({i_c}=0,1/{n_c},{i_c}*(1+{i_c})^{n_c}/((1+{i_c})^{n_c}-1))",
                fmt="0.000000", font=sh.SUBTITLE)
-    ctx.formula_cells["crf"] = (ws.title, f"B{row + 3}", h["crf"])
+    ctx.formula_cells["crf"] = (ws.title, f"B{row + 3}", h.crf)
     row += 5
     # candidates, with the annualized cost recomputed live from the visible columns
     cand = _currency(convert_table(r.diameter_candidates, ctx.system), cur)
@@ -79,8 +79,8 @@ def diameter_sheet(ws, ctx, title):
         sh.HEADER_FILL
     sh.put(ws, row + 1, ocol + 1, f"annualized cost [{cur}/year]", font=sh.HEADER).fill = \
         sh.HEADER_FILL
-    sh.put(ws, row + 2, ocol, ctx.v(h["optimum_diameter"], "m"), fmt="0.000")
-    sh.put(ws, row + 2, ocol + 1, h["optimum_cost"], fmt="#,##0")
+    sh.put(ws, row + 2, ocol, ctx.v(h.optimum_diameter, "m"), fmt="0.000")
+    sh.put(ws, row + 2, ocol + 1, h.optimum_cost, fmt="#,##0")
     ch = sh.scatter_chart("Annualized cost against diameter", f"diameter [{ctx.u('m')}]",
                           f"cost [{cur}/year]", x_format="0.00", y_format="#,##0", width=20,
                           height=11)
@@ -98,12 +98,12 @@ def diameter_sheet(ws, ctx, title):
     # wall and design pressure along the route at the recommended size
     wp = convert_table(r.wall_profile, ctx.system)
     wcol = ocol + 3
-    which = ("the recommended size" if h.get("selected_diameter") is not None else
+    which = ("the recommended size" if h.selected_diameter is not None else
              "the economic size (none is recommended: it fails the checks)")
     sh.put(ws, row, wcol, f"Wall at {which}", font=sh.NOTE)
     wfirst, wlast = sh.write_table(ws, wp, row=row + 1, col=wcol)
     ch2 = sh.scatter_chart("Plate thickness along the route (" + (
-        "recommended size" if h.get("selected_diameter") is not None else "economic size")
+        "recommended size" if h.selected_diameter is not None else "economic size")
         + ")",
                            f"chainage [{ctx.u('m')}]", f"thickness [{ctx.u('mm')}]",
                            x_format="0", y_format="0", width=18, height=11)
@@ -113,8 +113,8 @@ def diameter_sheet(ws, ctx, title):
     row = max(slast, wlast) + 3
     # empirical checks and sensitivity
     sh.put(ws, row, 1, "Sanity checks: empirical diameters", font=sh.SUBTITLE)
-    _, last = sh.write_table(ws, convert_table(r.diameter_empirical, ctx.system), row=row + 1,
-                             widths={"source": 50, "validity": 50})
+    _, last = sh.write_table(ws, convert_table(r.diameter_empirical_checks, ctx.system),
+                             row=row + 1, widths={"source": 50, "validity": 50})
     row = last + 2
     sh.put(ws, row, 1, "Sensitivity: optimum over energy price × discount rate",
            font=sh.SUBTITLE)

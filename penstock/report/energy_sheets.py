@@ -58,9 +58,9 @@ def energy_sheet(ws, ctx, title):
     sh.put(ws, row, 1, "Electrical energy sent out [MWh], after availability. Annual totals "
            "are live sums of the months.", font=sh.NOTE)
     row += 2
-    m = r.energy_monthly.pivot(index="year", columns="month", values="energy [MWh]")
+    m = r.energy_by_month.pivot(index="year", columns="month", values="energy [MWh]")
     m = m.reindex(columns=range(1, 13), fill_value=0.0)
-    annual = r.energy_annual.set_index("year")
+    annual = r.energy_by_year.set_index("year")
     headers = ["year"] + [f"{MONTHS[i]} [MWh]" for i in range(12)] + ["year total [MWh]",
                                                                        "complete year"]
     for j, h in enumerate(headers):
@@ -89,7 +89,7 @@ def energy_sheet(ws, ctx, title):
                        font=sh.SUBTITLE)
     if complete:
         ctx.formula_cells["mean annual energy"] = (ws.title, f"N{mean_row}",
-                                                   r.headline["mean_annual_energy"] / J_PER_MWH)
+                                                   r.headline.mean_annual_energy / J_PER_MWH)
     ws.freeze_panes = ws.cell(row=first, column=2)
     # mean monthly energy chart
     chart = BarChart()
@@ -114,7 +114,7 @@ def energy_sheet(ws, ctx, title):
     sh.put(ws, row, 1, "Energy lost by year [MWh]: to penstock friction (what a loss-free "
            "penstock would add), and the gross hydraulic energy of the spilled and residual "
            "flows (upper bounds)", font=sh.NOTE)
-    tab = r.energy_annual.drop(columns=["steps"])
+    tab = r.energy_by_year.drop(columns=["steps"])
     sh.write_table(ws, convert_table(tab, ctx.system), row=row + 1)
     for j in range(1, 16):
         ws.column_dimensions[get_column_letter(j)].width = 11
@@ -153,8 +153,8 @@ def turbine_sheet(ws, ctx, title):
     row = title(ws, ctx, "Turbine choice and setting")
     h = r.headline
     sh.put(ws, row, 1, f"Chosen: {r.case.turbine['units']} × {r.case.turbine['type']}, "
-           f"{h['speed']:.1f} rpm; net head at design flow "
-           f"{ctx.v(h['net_head'], 'm'):.2f} {ctx.u('m')}.", font=sh.SUBTITLE)
+           f"{h.speed:.1f} rpm; net head at design flow "
+           f"{ctx.v(h.net_head, 'm'):.2f} {ctx.u('m')}.", font=sh.SUBTITLE)
     row += 2
     sh.put(ws, row, 1, "Types whose published application range holds the site", font=sh.NOTE)
     _, last = sh.write_table(ws, convert_table(r.turbine_choice, ctx.system), row=row + 1)
@@ -172,6 +172,6 @@ def turbine_sheet(ws, ctx, title):
 
 
 def has_energy(r) -> bool:
-    return r.energy_monthly is not None and len(r.energy_monthly) > 0
+    return r.energy_by_month is not None and len(r.energy_by_month) > 0
 
 

@@ -33,7 +33,7 @@ def route_figure(results, system: str):
         if name == "design flow":
             ax.plot(cv(part["chainage [m]"]), cv(part["energy grade line [m]"]), color=color,
                     ls="--", lw=1.2, label=f"EGL, {name}")
-    st = results.stretches
+    st = results.flagged_stretches
     for k, (_, s) in enumerate(st.iterrows()):
         ax.axvspan(float(cv(s["from chainage [m]"])), float(cv(s["to chainage [m]"])),
                    color="#d62728", alpha=0.15, lw=0,
@@ -91,7 +91,7 @@ def duration_figure(results, system: str):
 
 def monthly_energy_figure(results, system: str):
     """Mean monthly energy over the complete years of the record."""
-    m = results.energy_monthly.merge(results.energy_annual[["year", "complete year"]], on="year")
+    m = results.energy_by_month.merge(results.energy_by_year[["year", "complete year"]], on="year")
     m = m[m["complete year"].astype(bool)] if m["complete year"].astype(bool).any() else m
     mean = m.groupby("month")["energy [MWh]"].mean().reindex(range(1, 13), fill_value=0.0)
     fig, ax = plt.subplots(figsize=(9, 4.5), dpi=110)
@@ -140,7 +140,7 @@ def hammer_figure(results, system: str):
     a1.set_ylabel(f"head [{lu}]")
     a1.set_title("Envelopes, rejection from the design flow")
     a1.legend(fontsize=8)
-    h = results.valve_history
+    h = results.turbine_head_history
     a2.plot(h["time [s]"], cv(h["head at the turbine [m]"]), color="C3", label="at the turbine")
     for col in h.columns[4:]:
         a2.plot(h["time [s]"], cv(h[col]), lw=1, label=col.split(" [")[0].replace("head ", ""))
@@ -148,10 +148,10 @@ def hammer_figure(results, system: str):
     a2.set_ylabel(f"head [{lu}]")
     a2.set_title("Head history")
     a2.legend(fontsize=8)
-    c = results.closure_study
+    c = results.closure_time_study
     a3.plot(c["closure time [s]"], cv(c["maximum head rise [m]"]), "o-", color="C3",
             label="maximum head rise")
-    allow = results.headline["allowable_rise"]   # the stage's own value, not a row looked up
+    allow = results.headline.allowable_rise   # the stage's own value, not a row looked up
     a3.axhline(float(cv(allow)), color="C3", ls=":", label="allowable rise")
     a3.set_xlabel("closure time [s]")
     a3.set_ylabel(f"head rise [{lu}]")
@@ -168,24 +168,24 @@ def hammer_figure(results, system: str):
 def uncertainty_figure(results, system: str):
     """Exceedance of the sampled mean annual energy, and the annualized-cost histogram."""
     fig, (a1, a2) = plt.subplots(1, 2, figsize=(12, 4.6), dpi=110)
-    ex = results.mc_exceedance
+    ex = results.uncertainty_energy_exceedance
     a1.plot(ex["probability of exceedance [%]"], ex["mean annual energy [MWh]"], color="C0")
     h = results.headline
     for key, lab in (("p50_energy", "P50"), ("p90_energy", "P90"), ("p99_energy", "P99")):
-        a1.axhline(h[key] / J_PER_MWH, ls=":", color="0.4")
-        a1.annotate(lab, (2, h[key] / J_PER_MWH), fontsize=8, va="bottom")
+        a1.axhline(getattr(h, key) / J_PER_MWH, ls=":", color="0.4")
+        a1.annotate(lab, (2, getattr(h, key) / J_PER_MWH), fontsize=8, va="bottom")
     a1.set_xlabel("probability of exceedance [%]")
     a1.set_ylabel("mean annual energy [MWh]")
     a1.set_title("Mean annual energy")
     a1.grid(True, alpha=0.3)
-    cost = results.mc_samples["annualized cost [currency/year]"]
+    cost = results.uncertainty_samples["annualized cost [currency/year]"]
     cur = results.case.economics["currency"]
     if cost.notna().any():
         a2.hist(cost.dropna(), bins=30, color="C1")
     a2.set_xlabel(f"annualized cost [{cur}/year]")
     a2.set_ylabel("samples")
     a2.set_title("Annualized cost at the recommended diameter")
-    fig.suptitle(f"{results.case.name}: {len(results.mc_samples)} samples", fontsize=10)
+    fig.suptitle(f"{results.case.name}: {len(results.uncertainty_samples)} samples", fontsize=10)
     fig.tight_layout()
     return fig
 
@@ -196,8 +196,9 @@ FIGURES = {"route_profile": route_figure, "loss_breakdown": loss_figure,
 
 
 #: Figures that need a table of a stage that may not have run.
-NEEDS = {"duration_curves": "flow_duration", "monthly_energy": "energy_monthly",
-         "design_flow_study": "design_flow_study", "water_hammer": "transient_envelope", "uncertainty": "mc_summary"}
+NEEDS = {"duration_curves": "flow_duration", "monthly_energy": "energy_by_month",
+         "design_flow_study": "design_flow_study", "water_hammer": "transient_envelope",
+         "uncertainty": "uncertainty_summary"}
 
 
 def write_figures(results, folder, system: str) -> list[str]:

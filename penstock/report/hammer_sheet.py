@@ -18,7 +18,7 @@ def hammer_sheet(ws, ctx, title):
            "piezometric (elevation + pressure head).", font=sh.NOTE)
     row += 2
     # Joukowsky's rise as a live formula over visible inputs (SI)
-    a, v = r.headline["joukowsky_inputs"]
+    a, v = r.headline.joukowsky_wave_speed, r.headline.joukowsky_velocity
     sh.put(ws, row, 1, "Joukowsky's rise for an instant full closure (live formula, SI units)",
            font=sh.SUBTITLE)
     cells = [("wave speed at the turbine end a", a, "m/s"), ("velocity change ΔV", v, "m/s"),
@@ -32,10 +32,10 @@ def hammer_sheet(ws, ctx, title):
     sh.put(ws, f_row, 1, "Joukowsky rise ΔH = a·ΔV/g")
     sh.formula(ws, f_row, 2, f"=B{row + 1}*B{row + 2}/B{row + 3}", fmt="0.00", font=sh.SUBTITLE)
     sh.put(ws, f_row, 3, "m")
-    ctx.formula_cells["joukowsky"] = (ws.title, f"B{f_row}", r.headline["joukowsky"])
+    ctx.formula_cells["joukowsky"] = (ws.title, f"B{f_row}", r.headline.joukowsky)
     row = f_row + 2
     sh.put(ws, row, 1, "Quick checks and simulated results", font=sh.SUBTITLE)
-    first, last = sh.write_table(ws, convert_table(r.surge_checks, ctx.system), row=row + 1,
+    first, last = sh.write_table(ws, convert_table(r.water_hammer_checks, ctx.system), row=row + 1,
                                  widths={"quantity": 58, "value": 16, "unit": 8})
     for i in range(first, last + 1):
         ws.cell(row=i, column=2).number_format = "#,##0.00"
@@ -45,11 +45,11 @@ def hammer_sheet(ws, ctx, title):
     row = last + 2
     # closure-time study, with its chart beside the table
     sh.put(ws, row, 1, "Closure-time study (rejection from the design flow)", font=sh.SUBTITLE)
-    shortest = r.headline["shortest_closure"]
+    shortest = r.headline.shortest_closure
     sh.put(ws, row + 1, 1, "Shortest closure keeping the rise within the allowable: " +
            (f"{shortest:.1f} s" if shortest is not None else "none of the times studied"),
            font=sh.NOTE)
-    cfirst, clast = sh.write_table(ws, convert_table(r.closure_study, ctx.system), row=row + 2)
+    cfirst, clast = sh.write_table(ws, convert_table(r.closure_time_study, ctx.system), row=row + 2)
     ch3 = sh.scatter_chart("Maximum and minimum head against closure time",
                            "closure time [s]", f"head [{ctx.u('m')}]", x_format="0.0",
                            y_format="#,##0", width=18, height=9)
@@ -57,7 +57,7 @@ def hammer_sheet(ws, ctx, title):
                 markers=True)
     sh.add_line(ch3, ws, 1, 5, cfirst, clast, "minimum head along the route", "2CA02C",
                 markers=True)
-    cs = r.closure_study
+    cs = r.closure_time_study
     lo3 = float(ctx.v(min(cs["minimum head along the route [m]"].min(),
                           cs["maximum head at the turbine [m]"].min()), "m"))
     hi3 = float(ctx.v(cs["maximum head at the turbine [m]"].max(), "m"))
@@ -96,7 +96,7 @@ def hammer_sheet(ws, ctx, title):
         sh.add_line(ch, ws, 2, j, efirst, elast, name, color, dash=dash)
     ws.add_chart(ch, f"A{chart_row}")
     # history: to the right of the envelope table
-    vh = r.valve_history
+    vh = r.turbine_head_history
     hist = convert_table(vh.iloc[::max(1, len(vh) // 400)], ctx.system)
     hcol = len(cols) + 2
     hfirst, hlast = sh.write_table(ws, hist, row=row + 1, col=hcol)

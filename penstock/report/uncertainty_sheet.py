@@ -15,7 +15,7 @@ def uncertainty_sheet(ws, ctx, title):
     sh.put(ws, row, 1, "P90 is the mean annual energy exceeded with 90 % probability. Spreads "
            "and seed as in the Inputs sheet (section uncertainty).", font=sh.NOTE)
     row += 1
-    summ = r.mc_summary.copy()
+    summ = r.uncertainty_summary.copy()
     summ["unit"] = summ["unit"].str.replace("currency", cur)
     first, last = sh.write_table(ws, convert_table(summ, ctx.system), row=row,
                                  widths={"quantity": 60, "value": 16, "unit": 12})
@@ -24,7 +24,7 @@ def uncertainty_sheet(ws, ctx, title):
     row = last + 2
     chart_row = row
     row += 24
-    ex = r.mc_exceedance
+    ex = r.uncertainty_energy_exceedance
     sh.put(ws, row, 1, "Mean annual energy by probability of exceedance", font=sh.NOTE)
     efirst, elast = sh.write_table(ws, ex, row=row + 1)
     ch = sh.scatter_chart("Mean annual energy: exceedance", "probability of exceedance [%]",
@@ -38,7 +38,7 @@ def uncertainty_sheet(ws, ctx, title):
     ch.y_axis.scaling.max = float((e.max() // step + 1) * step)
     sh.add_line(ch, ws, 1, 2, efirst, elast, "sampled mean annual energy", "1F77B4")
     ws.add_chart(ch, f"A{chart_row}")
-    hist = r.mc_cost_histogram.rename(columns=lambda c: c.replace("currency", cur))
+    hist = r.uncertainty_cost_histogram.rename(columns=lambda c: c.replace("currency", cur))
     if len(hist):
         hcol = 4
         hfirst, hlast = sh.write_table(ws, hist, row=row + 1, col=hcol)

@@ -70,11 +70,11 @@ def write_workbook(results, path, system: str | None = None) -> None:
         es.design_flow_sheet(wb.create_sheet(SHEET_NAMES["design_flow"]), ctx, _title)
     if results.diameter_candidates is not None:
         diameter_sheet(wb.create_sheet(SHEET_NAMES["diameter"]), ctx, _title)
-    if results.surge_checks is not None:
+    if results.water_hammer_checks is not None:
         hammer_sheet(wb.create_sheet(SHEET_NAMES["hammer"]), ctx, _title)
     if es.has_energy(results):
         es.turbine_sheet(wb.create_sheet(SHEET_NAMES["turbine"]), ctx, _title)
-    if results.mc_summary is not None:
+    if results.uncertainty_summary is not None:
         uncertainty_sheet(wb.create_sheet(SHEET_NAMES["uncertainty"]), ctx, _title)
     _cautions_sheet(wb.create_sheet(SHEET_NAMES["cautions"]), ctx)
     _methods_sheet(wb.create_sheet(SHEET_NAMES["methods"]), ctx)
@@ -131,9 +131,9 @@ def _summary_sheet(ws, ctx):
             ws.cell(row=i, column=j).number_format = "#,##0.00"
     row = last + 2
     row = _net_head_block(ws, ctx, row)
-    n_warn = int((r.warnings["severity"] == "warning").sum()) if len(r.warnings) else 0
+    n_warn = int((r.cautions["severity"] == "warning").sum()) if len(r.cautions) else 0
     sh.put(ws, row, 1, f"Cautions raised: {n_warn} warnings and "
-           f"{len(r.warnings) - n_warn} notes; see the '{SHEET_NAMES['cautions']}' sheet.",
+           f"{len(r.cautions) - n_warn} notes; see the '{SHEET_NAMES['cautions']}' sheet.",
            font=sh.SUBTITLE)
     ws.column_dimensions["E"].width = 4
     # headline chart: the route at the design flow, drawn from the route sheet's columns
@@ -151,16 +151,16 @@ def _net_head_block(ws, ctx, row: int) -> int:
     row += 1
     items = [
         ("headwater level", ctx.case.headwater, "m", None),
-        ("tailwater level (or runner, impulse units)", ctx.case.headwater - h["gross_head"],
+        ("tailwater level (or runner, impulse units)", ctx.case.headwater - h.gross_head,
          "m", None),
-        ("penstock losses at design flow", h["total_loss"], "m", None),
-        ("head recovered by the draft tube (0 without one)", h["draft_tube_recovery"], "m",
+        ("penstock losses at design flow", h.total_loss, "m", None),
+        ("head recovered by the draft tube (0 without one)", h.draft_tube_recovery, "m",
          None),
         ("net head", None, "m", "=B{0}-B{1}-B{2}+B{3}"),
-        ("design flow", h["design_flow"], "m³/s", None),
-        ("water density", ctx.r.headline["density"], "kg/m³", None),
+        ("design flow", h.design_flow, "m³/s", None),
+        ("water density", ctx.r.headline.density, "kg/m³", None),
         ("gravity", GRAVITY, "m/s²", None),
-        ("turbine efficiency at design flow", h["eta_rated"], "-", None),
+        ("turbine efficiency at design flow", h.eta_rated, "-", None),
         ("gearbox × generator efficiency", t["gearbox_efficiency"] * t["generator_efficiency"],
          "-", None),
         ("transformer efficiency", t["transformer_efficiency"], "-", None),
@@ -176,9 +176,9 @@ def _net_head_block(ws, ctx, row: int) -> int:
         else:
             sh.formula(ws, rows[i], 2, f.format(*rows), fmt="#,##0.00", font=sh.SUBTITLE)
         sh.put(ws, rows[i], 3, unit)
-    ctx.formula_cells = {"net head": (ws.title, f"B{rows[4]}", h["net_head"]),
+    ctx.formula_cells = {"net head": (ws.title, f"B{rows[4]}", h.net_head),
                          "installed capacity": (ws.title, f"B{rows[11]}",
-                                                h["installed_capacity"] / 1e3)}
+                                                h.installed_capacity / 1e3)}
     return rows[-1] + 2
 
 
@@ -243,7 +243,7 @@ def _route_sheet(ws, ctx):
 def _flag_column(r, chainage, elevation):
     """Pipe elevation where any flow's pressure head is below the margin, else blank."""
     out = np.full(len(chainage), np.nan)
-    st = r.stretches
+    st = r.flagged_stretches
     for _, s in st.iterrows():
         inside = (chainage >= s["from chainage [m]"] - 1e-9) & (chainage <= s["to chainage [m]"]
                                                                  + 1e-9)
@@ -345,8 +345,8 @@ def _pressure_sheet(ws, ctx):
     row = last + 2
     sh.put(ws, row, 1, "Flagged stretches", font=sh.SUBTITLE)
     row += 1
-    if len(r.stretches):
-        sh.write_table(ws, convert_table(r.stretches, ctx.system), row=row)
+    if len(r.flagged_stretches):
+        sh.write_table(ws, convert_table(r.flagged_stretches, ctx.system), row=row)
     else:
         sh.put(ws, row, 1, "None: the pressure head stays above the margin at every flow.")
     ctx.page(ws)
@@ -397,7 +397,7 @@ def _cautions_sheet(ws, ctx):
     ws.merge_cells(start_row=row, start_column=1, end_row=row, end_column=5)
     ws.row_dimensions[row].height = 48
     row += 2
-    w = r.warnings
+    w = r.cautions
     if len(w):
         first, _ = sh.write_table(ws, convert_table(w, ctx.system), row=row,
                                   widths={"message": 90, "topic": 14, "severity": 10},
