@@ -79,13 +79,41 @@ def run(repeat=3):
     solver = _best_of(lambda: simulate(**case), repeat)
     floor = _best_of(_floor(nodes, steps), repeat)
     updates = nodes * steps
-    return [
+    return _demo_rows(repeat) + [
         ("solver time, 100 reaches x 20000 steps [s]", solver, "target [s]", TARGET_SECONDS,
          solver / TARGET_SECONDS),
         ("node updates per second [1/s]", updates / solver, "array-expression floor [1/s]",
          updates / floor, floor / solver),
         ("solver time [s]", solver, "array-expression floor time [s]", floor, solver / floor),
     ]
+
+
+def _demo_rows(repeat):
+    """Each demo's converged design-flow rejection (the refinement included) against one
+    run on the coarsest grid of 20 reaches."""
+    from pathlib import Path
+
+    from penstock import load_case, water
+    from penstock.model import hammer
+    from penstock.model.core import Methods
+    from penstock.route import build_route
+
+    rows = []
+    cases = Path(__file__).resolve().parent.parent / "cases"
+    for name in ("alder-gorge-high-head", "cedar-fork-us-units", "millrace-flats-low-head"):
+        case = load_case(cases / name)
+        props = water.water_properties(case.temperature, case.altitude)
+        route = build_route(case)
+        pipes = hammer._pipes(case, props, route, [], Methods())
+        kw = dict(**pipes.args(props, case.design_flow), reservoir_head=case.headwater,
+                  tailwater_head=pipes.downstream, flow=case.design_flow,
+                  **hammer._law_args(case.surge))
+        converged = _best_of(lambda: hammer.converged_grid(case, props, pipes, pipes.axis),
+                             repeat)
+        one = _best_of(lambda: simulate(**kw, total_reaches=20), repeat)
+        rows.append((f"{name}: converged water-hammer grid [s]", converged,
+                     "one 20-reach run [s]", one, converged / one))
+    return rows
 
 
 if __name__ == "__main__":

@@ -67,6 +67,7 @@ class Case:
     altitude: float
     headwater: float
     headwater_min: float
+    headwater_max: float | None
     tailwater: float | None
     tailwater_rating: pd.DataFrame | None
     headwater_rating: pd.DataFrame | None
@@ -601,6 +602,10 @@ def load_case(path) -> Case:
     if hw_min > hw:
         raise CaseError(CASE_FILE, "levels.headwater_min", f"{hw_min:g} m is above the "
                         f"headwater level {hw:g} m; expected at most the normal level")
+    hw_max = levels["headwater_max"]
+    if hw_max is not None and hw_max < hw:
+        raise CaseError(CASE_FILE, "levels.headwater_max", f"{hw_max:g} m is below the "
+                        f"headwater level {hw:g} m; expected at least the normal level")
     rating = _rating(rd, levels["tailwater_rating"], "tailwater") \
         if levels["tailwater_rating"] is not None else None
     if rating is not None and levels["tailwater"] is not None:
@@ -683,6 +688,7 @@ def load_case(path) -> Case:
                    else TURBINE_TYPES[turbine["type"]]["minimum_relative_flow"])
         turbine["efficiency_table"] = _efficiency_table(rd, turbine["efficiency_table"], minimum)
     surge = _surge(rd, dict(values["surge"]), ch)
+    surge["section_given"] = isinstance(doc.get("surge"), dict)
     draft = values.get("draft_tube")
     if draft is not None and turbine["type"] in ("pelton", "turgo", "crossflow"):
         raise CaseError(CASE_FILE, "[draft_tube]", f"is given for an impulse turbine "
@@ -692,7 +698,8 @@ def load_case(path) -> Case:
     return Case(
         folder=folder, name=site["name"], note=site["note"], unit_system=site["units"],
         temperature=water["temperature"], altitude=water["altitude"],
-        headwater=hw, headwater_min=hw_min, tailwater=levels["tailwater"],
+        headwater=hw, headwater_min=hw_min, headwater_max=hw_max,
+        tailwater=levels["tailwater"],
         tailwater_rating=rating, headwater_rating=hw_rating, headwater_series=hw_series,
         profile=profile, pressure_margin=route["pressure_margin"],
         intake_approach=route["intake_approach"], service_life=route["service_life"],

@@ -136,6 +136,9 @@ SECTIONS: tuple[Section, ...] = (
         Field("headwater_min", "length", "Minimum operating headwater level; the pressure and "
               "submergence checks hold at it. Defaults to the normal level.", optional=True,
               minimum=ELEVATION[0], maximum=ELEVATION[1]),
+        Field("headwater_max", "length", "Highest headwater (flood) level; the design "
+              "pressure line holds at it. Defaults to the normal level, with a caution.",
+              optional=True, minimum=ELEVATION[0], maximum=ELEVATION[1]),
         Field("tailwater", "length", "Constant tailwater level; give either this or a "
               "tailwater_rating (whose level at the design flow is then the reference).",
               optional=True, minimum=ELEVATION[0], maximum=ELEVATION[1]),
@@ -387,6 +390,10 @@ SECTIONS: tuple[Section, ...] = (
         Field("study_closure_times", "time_list", "Closure times of the closure-time study; "
               "default: nine times, geometrically spaced from half a pipe period 2L/a to the "
               "larger of 8 periods and twice the closure time.", default=[], max_items=30),
+        Field("reaches", "integer", "Reaches of the method-of-characteristics grid over the "
+              "whole penstock (at least one per pipe between local losses); fixes the grid. "
+              "Default: doubled from 20 until the largest rise and the deepest drop change "
+              "by less than 0.5 %.", optional=True, minimum=1, maximum=20000),
         Field("inertia", "moment_of_inertia", "Rotating inertia (turbine + generator) of one "
               "unit, for the mechanical starting time.", optional=True, minimum=0.0,
               exclusive_minimum=True),

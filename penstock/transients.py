@@ -195,52 +195,105 @@ def valve_opening(time, law="linear", closure_time=None, final_opening=0.0, knee
 
 
 # --------------------------------------------------------------------------- grid
-def fold_local_losses(friction_factors, diameters, lengths, local_k, local_area, local_segment):
-    """Darcy friction factor of each pipe segment with its local losses folded in.
+@dataclass(frozen=True)
+class SeriesPipes:
+    """A route as MOC pipes in series, with its local losses standing at the boundaries.
+
+    Attributes
+    ----------
+    length : numpy.ndarray, shape (n,)
+        Length of each pipe along its axis. [m]
+    start : numpy.ndarray, shape (n,)
+        Position of each pipe's upstream end along the route's axis. [m]
+    segment : numpy.ndarray of int, shape (n,)
+        Index of the route segment (pipe section of the case) each pipe lies in. [-]
+    inlet_loss : float
+        Loss coefficient at the reservoir, :math:`\\sum K/(2gA_K^2)`. [s^2/m^5]
+    junction_loss : numpy.ndarray, shape (n - 1,)
+        Loss coefficient at each junction. [s^2/m^5]
+    outlet_loss : float
+        Loss coefficient just upstream of the orifice. [s^2/m^5]
+    moved : tuple of (float, float)
+        (position given, position used) of each local loss moved to a pipe end. [m]
+    """
+
+    length: np.ndarray
+    start: np.ndarray
+    segment: np.ndarray
+    inlet_loss: float
+    junction_loss: np.ndarray
+    outlet_loss: float
+    moved: tuple
+
+
+def series_pipes(length, element_segment, k, reference_area, lump_length=0.0):
+    """Split a route's chain of elements into MOC pipes at its local losses.
 
     Parameters
     ----------
-    friction_factors : array_like, shape (n_seg,)
-        Darcy friction factor of each segment at the flow of interest. [-]
-    diameters, lengths : array_like, shape (n_seg,)
-        Inside diameter and length along the pipe of each segment. [m]
-    local_k : array_like, shape (n_loss,)
-        Local loss coefficients. [-]
-    local_area : array_like, shape (n_loss,)
-        Area whose velocity head each coefficient refers to. [m^2]
-    local_segment : array_like of int, shape (n_loss,)
-        Segment each local loss is charged to. [-]
+    length : array_like, shape (n_element,)
+        Axial length of each element, 0 for a local loss. [m]
+    element_segment : array_like of int, shape (n_element,)
+        Segment of each pipe reach (-1 for a local loss). [-]
+    k : array_like, shape (n_element,)
+        Local-loss coefficient of each element (0 for a pipe reach). [-]
+    reference_area : array_like, shape (n_element,)
+        Area whose velocity head ``k`` refers to. [m^2]
+    lump_length : float, default 0
+        A local loss closer than this to the reservoir, to the orifice, to a change of
+        segment or to another loss is moved there, so that no pipe is shorter than this
+        (a very short pipe sets a very short time step for the whole run). [m]
 
     Returns
     -------
-    numpy.ndarray
-        Equivalent friction factor per segment. [-]
+    SeriesPipes
 
     Notes
     -----
-    The same head loss at the same flow: :math:`K (Q/A_K)^2/2g = \\Delta f (L/D)
-    (Q/A)^2/2g` gives
-
-    .. math:: f_{eq} = f + \\sum K \\left(\\frac{A}{A_K}\\right)^2 \\frac{D}{L}
-
-    so that the steady state before a transient matches the steady grade lines'
-    losses. The loss is then spread along its segment instead of standing at its
-    point, which shifts the head locally (Wylie & Streeter 1993, §3.5, treat a local
-    loss as its own boundary instead; from memory).
+    A local loss :math:`h = K V_K^2/(2g)` stands as :math:`c\\,Q|Q|` with
+    :math:`c = K/(2gA_K^2)` at a boundary between two pipes, so that it acts where it is
+    (Wylie & Streeter 1993 §3.5 treat a local loss as its own boundary [1]_). Moving a
+    loss by at most ``lump_length`` changes the steady grade line only over that
+    stretch, by the friction slope times the move; the loss itself is unchanged.
     """
-    f = np.asarray(friction_factors, dtype=float).copy()
-    d = np.asarray(diameters, dtype=float)
-    length = np.asarray(lengths, dtype=float)
-    k = np.asarray(local_k, dtype=float)
-    a_k = np.asarray(local_area, dtype=float)
-    seg = np.asarray(local_segment, dtype=int)
-    if np.any(length <= 0) or np.any(d <= 0):
-        raise ValueError("segment lengths and diameters must be positive [m].")
-    if np.any(k < 0) or np.any(a_k <= 0):
-        raise ValueError("local loss coefficients must be >= 0 on positive areas.")
-    area = np.pi * d**2 / 4.0
-    np.add.at(f, seg, k * (area[seg] / a_k) ** 2 * d[seg] / length[seg])
-    return f
+    el = np.asarray(length, dtype=float)
+    es = np.asarray(element_segment, dtype=int)
+    kk = np.asarray(k, dtype=float)
+    ak = np.asarray(reference_area, dtype=float)
+    pos = np.concatenate(([0.0], np.cumsum(el)))[:-1]      # upstream end of each element
+    total = float(el.sum())
+    if total <= 0.0:
+        raise ValueError("the route has no pipe length")
+    reach = el > 0
+    # segment boundaries along the axis: where the segment of consecutive reaches changes
+    rs, rp = es[reach], pos[reach]
+    bounds = [float(rp[i]) for i in range(1, rs.size) if rs[i] != rs[i - 1]]
+    lump = float(lump_length)
+    losses = [(float(pos[j]), float(kk[j]) / (2.0 * GRAVITY * float(ak[j]) ** 2))
+              for j in np.flatnonzero(~reach & (kk > 0))]
+    points = {0.0: 0.0, total: 0.0, **{b: 0.0 for b in bounds}}
+    moved = []
+    for x, c in sorted(losses):
+        # the nearest existing point within reach takes it (ends first)
+        if x <= lump:
+            to = 0.0
+        elif x >= total - lump:
+            to = total
+        else:
+            near = min(points, key=lambda p: abs(p - x))
+            to = near if abs(near - x) < lump else x
+        if to != x:
+            moved.append((x, to))
+        points[to] = points.get(to, 0.0) + c
+    cuts = np.array(sorted(points))
+    lengths = np.diff(cuts)
+    starts = cuts[:-1]
+    mid = starts + 0.5 * lengths
+    # each pipe lies in the segment of the reach holding its midpoint
+    idx = np.clip(np.searchsorted(rp, mid, side="right") - 1, 0, rs.size - 1)
+    return SeriesPipes(length=lengths, start=starts, segment=rs[idx],
+                       inlet_loss=points[0.0], junction_loss=np.array([points[c] for c in cuts[1:-1]]),
+                       outlet_loss=points[total], moved=tuple(moved))
 
 
 @dataclass(frozen=True)
@@ -269,7 +322,8 @@ class CharacteristicGrid:
 
 
 def characteristic_grid(lengths, wave_speeds, min_reaches=10, time_step=None,
-                        wave_speed_tolerance=0.05, wave_speed_range=WATER_WAVE_SPEED_RANGE):
+                        wave_speed_tolerance=0.05, wave_speed_range=WATER_WAVE_SPEED_RANGE,
+                        total_reaches=None):
     """Choose the MOC time step and reaches; adjust wave speeds to Courant number 1.
 
     Parameters
@@ -287,6 +341,10 @@ def characteristic_grid(lengths, wave_speeds, min_reaches=10, time_step=None,
         Largest allowed relative change of any wave speed. [-]
     wave_speed_range : tuple of float
         Physical range the given wave speeds must lie in. [m/s]
+    total_reaches : int, optional
+        Instead of ``min_reaches``: the coarsest grid with at least this many reaches over
+        all segments whose wave-speed adjustments stay within the tolerance (the segment
+        of shortest travel time then holds as few reaches as that allows). [-]
 
     Returns
     -------
@@ -312,7 +370,20 @@ def characteristic_grid(lengths, wave_speeds, min_reaches=10, time_step=None,
     if not 0.0 <= tol < 1.0:
         raise ValueError(f"wave_speed_tolerance must be in [0, 1); got {wave_speed_tolerance!r}")
     travel = length / speed
-    if time_step is None:
+    if time_step is None and total_reaches is not None:
+        if int(total_reaches) != total_reaches or total_reaches < 1:
+            raise ValueError(f"total_reaches must be a whole number >= 1; got "
+                             f"{total_reaches!r}")
+        target = int(total_reaches)
+        m = 1
+        while True:   # ends by m = max(target, 1/(2 tol)): then every segment fits
+            dt = float(travel.min()) / m
+            n = np.maximum(np.rint(travel / dt), 1)
+            fits = np.all(np.abs(length / (n * dt) / speed - 1.0) <= tol * (1.0 + 1e-12))
+            if (fits and n.sum() >= target) or m > target + 1.0 / max(2.0 * tol, 1e-9):
+                break
+            m += 1
+    elif time_step is None:
         if int(min_reaches) != min_reaches or min_reaches < 1:
             raise ValueError(f"min_reaches must be a whole number >= 1; got {min_reaches!r}")
         dt = float(travel.min()) / int(min_reaches)
@@ -419,7 +490,9 @@ def simulate(lengths, diameters, wave_speeds, friction_factors, reservoir_head,
              knee_time=None, knee_opening=None, opening_table=None, duration=None,
              min_reaches=10, time_step=None, wave_speed_tolerance=0.05, record_chainages=(),
              wave_speed_range=WATER_WAVE_SPEED_RANGE, max_steps=MAX_STEPS,
-             max_node_steps=MAX_NODE_STEPS, dry_run=False):
+             max_node_steps=MAX_NODE_STEPS, dry_run=False, inlet_loss=0.0,
+             junction_losses=None, outlet_loss=0.0, velocity_heads=False,
+             total_reaches=None):
     """Simulate a valve (or turbine-equivalent orifice) closure by the MOC.
 
     Parameters
@@ -470,6 +543,24 @@ def simulate(lengths, diameters, wave_speeds, friction_factors, reservoir_head,
     dry_run : bool, default False
         Only check the inputs and the bounds on the work, raising ``ValueError`` as a run
         would, and return None (for validating a case without running it). [-]
+    inlet_loss : float, default 0
+        Local-loss coefficient of the intake, :math:`c = \\sum K/(2 g A_K^2)`, charged on
+        outflow from the reservoir. [s^2/m^5]
+    junction_losses : array_like, shape (segments - 1,), optional
+        Local-loss coefficient standing at each junction between segments (a bend, a
+        valve, a transition), :math:`c\\,Q|Q|` between the two sides. [s^2/m^5]
+    outlet_loss : float, default 0
+        Local-loss coefficient standing just upstream of the closing orifice; it acts in
+        series with the orifice. [s^2/m^5]
+    velocity_heads : bool, default False
+        Keep the velocity heads in the boundaries: the reservoir node lies one velocity
+        head (plus the inlet loss) below the reservoir level, and a junction between
+        two areas keeps the energy, :math:`H_1 + Q^2/(2gA_1^2) = H_2 + Q^2/(2gA_2^2)
+        + c\\,Q|Q|`, so that the initial state is the steady hydraulic grade line. False
+        gives the classic constant-head reservoir and common-head junctions. [-]
+    total_reaches : int, optional
+        Reaches over the whole pipe instead of ``min_reaches``, see
+        :func:`characteristic_grid`. [-]
 
     Returns
     -------
@@ -491,13 +582,22 @@ def simulate(lengths, diameters, wave_speeds, friction_factors, reservoir_head,
 
     .. math:: C^-:\\ Q_P = C_n + C_a H_P,\\quad C_n = Q_B - C_a H_B - R Q_B|Q_B|
 
-    Interior node :math:`H_P = (C_P - C_n)/(2C_a)`; series junction
-    :math:`H_P = (C_{P1} - C_{n2})/(C_{a1} + C_{a2})` with one flow; reservoir
-    :math:`H_P = H_R`; valve :math:`Q_P = Q_0\\tau\\sqrt{(H_P - H_{tw})/(H_{v0} - H_{tw})}`
-    (reverse flow uses the mirrored law). The steady state has the head falling by the
-    Darcy loss :math:`f L Q^2/(2 g D A^2)` along each segment; velocity heads and entrance
-    losses are left out (piezometric head at the reservoir node equals the reservoir
-    level).
+    Interior node :math:`H_P = (C_P - C_n)/(2C_a)`. Series junction with one flow and a
+    head difference :math:`H_1 - H_2 = e\\,Q^2 + c\\,Q|Q|` (:math:`e` the velocity-head
+    difference when ``velocity_heads``, else 0): with :math:`B = 1/C_{a1} + 1/C_{a2}` and
+    :math:`S = C_{P1}/C_{a1} + C_{n2}/C_{a2}`, :math:`Q = 2S/(B + \\sqrt{B^2 + 4(e \\pm c)S})`,
+    which is the common-head junction :math:`Q = S/B` when both vanish. Reservoir on
+    outflow :math:`H_P = H_R - b\\,Q^2` (:math:`b` the inlet loss plus, with
+    ``velocity_heads``, :math:`1/(2gA^2)`), and :math:`H_P = H_R` on inflow (the entering
+    jet's velocity head is lost), Wylie & Streeter 1993 §3.4 [1]_; valve
+    :math:`Q_P = C_v\\sqrt{H_P - H_{tw}}` with :math:`1/C_v^2 = (H_{v0} - c_o Q_0^2 -
+    H_{tw})/(Q_0\\tau)^2 + c_o` for an outlet loss :math:`c_o` in series (reverse flow uses
+    the mirrored law). The steady state has the head falling by the Darcy loss
+    :math:`f L Q^2/(2 g D A^2)` along each segment and by these boundary losses; it is an
+    exact fixed point of the scheme.
+
+    Node arrays of the result list every node of every segment, so a junction appears
+    twice (its upstream side, then its downstream side), at the same chainage.
     """
     length = _segments(lengths, "lengths")
     count = length.size
@@ -505,14 +605,22 @@ def simulate(lengths, diameters, wave_speeds, friction_factors, reservoir_head,
     friction = _segments(friction_factors, "friction_factors", count, positive=False)
     h_res = float(reservoir_head)
     h_tw = float(tailwater_head)
+    c_in, c_out = float(inlet_loss), float(outlet_loss)
+    c_j = np.zeros(count - 1) if junction_losses is None else _segments(
+        junction_losses, "junction_losses", None, positive=False)
+    if c_j.size != count - 1:
+        raise ValueError(f"junction_losses must have one value per junction ({count - 1}); "
+                         f"got {c_j.size}")
+    _require(np.isfinite([c_in, c_out]) & (np.array([c_in, c_out]) >= 0.0),
+             "inlet_loss and outlet_loss", "finite and >= 0 (s^2/m^5)", (inlet_loss, outlet_loss))
     q0 = float(flow)
     if not (math.isfinite(q0) and q0 > 0.0):
         raise ValueError(f"flow must be > 0 m^3/s; got {flow!r}")
     if not (math.isfinite(h_res) and math.isfinite(h_tw)):
         raise ValueError("reservoir_head and tailwater_head must be finite (m above datum)")
     grid = characteristic_grid(length, wave_speeds, min_reaches, time_step,
-                               wave_speed_tolerance, wave_speed_range)
-    if time_step is None:
+                               wave_speed_tolerance, wave_speed_range, total_reaches)
+    if time_step is None and total_reaches is None:
         # a very short segment (a spool, a reducer) would set a tiny time step for the
         # whole pipe: take fewer reaches in it, down to one, while the work is too large
         _, motion = _closure(np.zeros(1), law, closure_time, final_opening, knee_time,
@@ -531,31 +639,41 @@ def simulate(lengths, diameters, wave_speeds, friction_factors, reservoir_head,
     dt, reaches, speed = grid.time_step, grid.reaches, grid.wave_speeds
     area = 0.25 * math.pi * diameter**2
 
-    # Steady state: Darcy loss per reach, heads falling from the reservoir.
+    # Steady state: the inlet's loss and velocity head, a Darcy loss per reach and each
+    # junction's head difference, heads falling from the reservoir.
+    vel_coef = 1.0 / (2.0 * GRAVITY * area**2) if velocity_heads else np.zeros(count)
+    b_in = c_in + float(vel_coef[0])                       # H_0 = H_R - b_in Q^2
+    e_j = vel_coef[1:] - vel_coef[:-1]                     # velocity-head difference per Q^2
     loss_reach = friction * grid.reach_lengths * q0**2 / (2.0 * GRAVITY * diameter * area**2)
     loss_segment = loss_reach * reaches
-    h_valve0 = h_res - loss_segment.sum()
-    net0 = h_valve0 - h_tw
+    drop_junction = (e_j + c_j) * q0**2
+    h_valve0 = h_res - b_in * q0**2 - loss_segment.sum() - drop_junction.sum()
+    net0 = h_valve0 - c_out * q0**2 - h_tw
     if net0 <= 0.0:
         raise ValueError(
-            f"flow = {q0:g} m^3/s is too large: friction loss {loss_segment.sum():.3g} m leaves "
-            f"no head across the valve (reservoir {h_res:g} m, tailwater {h_tw:g} m)")
+            f"flow = {q0:g} m^3/s is too large: its losses "
+            f"{h_res - h_valve0 + c_out * q0**2:.3g} m leave no head across the valve "
+            f"(reservoir {h_res:g} m, tailwater {h_tw:g} m)")
 
     seg = np.repeat(np.arange(count), reaches + 1)          # segment of each node
     first = np.concatenate(([0], np.cumsum(reaches + 1)[:-1]))
     local = np.arange(seg.size) - first[seg]                 # index within segment
-    lost_before = np.concatenate(([0.0], np.cumsum(loss_segment)[:-1]))
-    head = h_res - lost_before[seg] - local * loss_reach[seg]
+    lost_before = np.concatenate(([0.0], np.cumsum(loss_segment[:-1] + drop_junction)))
+    head = h_res - b_in * q0**2 - lost_before[seg] - local * loss_reach[seg]
     discharge = np.full(seg.size, q0)
     ca = GRAVITY * area[seg] / speed[seg]
     r = friction[seg] * dt / (2.0 * diameter[seg] * area[seg])
     half_inv_ca = 0.5 / ca
     left = first[1:] - 1                                     # last node of segments 0..n-2
     right = first[1:]                                        # first node of segments 1..n-1
+    inv_ca_left, inv_ca_right = 1.0 / ca[left], 1.0 / ca[right]
+    b_j = inv_ca_left + inv_ca_right
+    b_j2 = b_j * b_j
+    # quadratic coefficient of the junction flow, forward and reverse
+    a_fwd, a_rev = e_j + c_j, e_j - c_j
+    plain = not (np.any(a_fwd) or np.any(a_rev))
     inv_ca_sum = 1.0 / (ca[left] + ca[right])
     ca_left = ca[left]
-    unique = np.ones(seg.size, dtype=bool)
-    unique[right] = False
     seg_chain = np.concatenate(([0.0], np.cumsum(length)))
     chain_all = seg_chain[seg] + local * grid.reach_lengths[seg]
 
@@ -587,13 +705,14 @@ def simulate(lengths, diameters, wave_speeds, friction_factors, reservoir_head,
     tau, _ = _closure(time, law, closure_time, final_opening, knee_time, knee_opening,
                       opening_table)
     cv = q0 * tau / math.sqrt(net0)
+    if c_out > 0.0:   # the outlet loss in series with the orifice
+        cv = cv / np.sqrt(1.0 + c_out * cv * cv)
 
     rec_req = np.atleast_1d(_as_float_array(record_chainages, "record_chainages")).ravel()
     _require(np.isfinite(rec_req) & (rec_req >= 0.0) & (rec_req <= seg_chain[-1] + 1e-9),
              "record_chainages", f"within 0 to {seg_chain[-1]:g} m", record_chainages)
-    node_idx = np.nonzero(unique)[0]
-    chain = chain_all[unique]
-    rec_nodes = node_idx[np.abs(chain[None, :] - rec_req[:, None]).argmin(axis=1)] \
+    chain = chain_all
+    rec_nodes = np.abs(chain[None, :] - rec_req[:, None]).argmin(axis=1) \
         if rec_req.size else np.zeros(0, dtype=int)
 
     valve_head = np.empty(steps + 1)
@@ -626,15 +745,27 @@ def simulate(lengths, diameters, wave_speeds, friction_factors, reservoir_head,
         np.add(cp, cn, out=discharge)
         discharge *= 0.5
         if junctions:
-            hj = (cp[left] - cn[right]) * inv_ca_sum
-            qj = cp[left] - ca_left * hj
-            head[left] = hj
-            head[right] = hj
+            if plain:
+                hj = (cp[left] - cn[right]) * inv_ca_sum
+                qj = cp[left] - ca_left * hj
+                head[left] = hj
+                head[right] = hj
+            else:
+                sj = cp[left] * inv_ca_left + cn[right] * inv_ca_right
+                aj = np.where(sj >= 0.0, a_fwd, a_rev)
+                qj = 2.0 * sj / (b_j + np.sqrt(np.maximum(b_j2 + 4.0 * aj * sj, 0.0)))
+                head[left] = (cp[left] - qj) * inv_ca_left
+                head[right] = (qj - cn[right]) * inv_ca_right
             discharge[left] = qj
             discharge[right] = qj
-        # Reservoir.
-        head[0] = h_res
-        q_in = float(cn[0]) + ca_first * h_res
+        # Reservoir: H = H_R - b Q^2 on outflow, H_R on inflow.
+        s_in = float(cn[0]) + ca_first * h_res
+        if s_in > 0.0 and b_in > 0.0:
+            q_in = 2.0 * s_in / (1.0 + math.sqrt(1.0 + 4.0 * ca_first * b_in * s_in))
+            head[0] = h_res - b_in * q_in * q_in
+        else:
+            q_in = s_in
+            head[0] = h_res
         discharge[0] = q_in
         # Valve: Q = cv sqrt(H - Htw), mirrored for reverse flow.
         c_plus = float(cp[-1])
@@ -659,9 +790,151 @@ def simulate(lengths, diameters, wave_speeds, friction_factors, reservoir_head,
     return TransientResult(
         chainage=chain, time=time, valve_head=valve_head, valve_flow=valve_flow,
         valve_opening=tau, inlet_flow=inlet_flow, record_chainage=chain_all[rec_nodes],
-        record_head=record_head, steady_head=steady_head[unique], max_head=h_max[unique],
-        min_head=h_min[unique], steady_flow=q0, segment_chainage=seg_chain, time_step=dt,
+        record_head=record_head, steady_head=steady_head, max_head=h_max,
+        min_head=h_min, steady_flow=q0, segment_chainage=seg_chain, time_step=dt,
         reaches=reaches, wave_speeds=speed, wave_speed_adjustment=grid.wave_speed_adjustment)
+
+
+@dataclass(frozen=True)
+class GridConvergence:
+    """How :func:`simulate_converged` chose its grid.
+
+    Attributes
+    ----------
+    reaches : tuple of int
+        Reaches in all of each run's grid, coarsest first. [-]
+    largest_rise, deepest_drop : tuple of float
+        Largest rise above and deepest drop below the steady head, at the nodes and the
+        probe positions, of each run. [m]
+    change : float
+        Relative change of the two between the last two runs (the larger of them);
+        nan after a single run. [-]
+    converged : bool
+        Whether the last change is within the tolerance. [-]
+    """
+
+    reaches: tuple
+    largest_rise: tuple
+    deepest_drop: tuple
+    change: float
+    converged: bool
+
+
+#: Largest wave-speed adjustment for the Courant condition in a planning run (1 %): the
+#: adjustment changes the Joukowsky rise in proportion, so it is kept small, not 5 %.
+PLANNING_WAVE_SPEED_TOLERANCE = 0.01
+#: Relative change between two refinements below which the grid counts as converged.
+CONVERGENCE_TOLERANCE = 0.005
+#: Absolute change [m] that always counts as converged (a rise or drop near zero).
+CONVERGENCE_FLOOR = 0.01
+
+
+def envelope_at(result, positions, which="min"):
+    """An envelope of :func:`simulate` read at positions along the pipe.
+
+    Parameters
+    ----------
+    result : TransientResult
+        A run of :func:`simulate`. [-]
+    positions : array_like
+        Positions along the pipe axis, from the reservoir (the result's ``chainage``). [m]
+    which : {"min", "max", "steady"}
+        The minimum or maximum envelope, or the initial steady head. [-]
+
+    Returns
+    -------
+    numpy.ndarray
+        The envelope, linear between the nodes of each segment; at a junction the lower
+        (``"min"``) or higher (``"max"``, ``"steady"``) of its two sides. [m]
+    """
+    x = np.atleast_1d(np.asarray(positions, dtype=float))
+    values = {"min": result.min_head, "max": result.max_head,
+              "steady": result.steady_head}[which]
+    pick = np.minimum if which == "min" else np.maximum
+    out = np.full(x.shape, np.inf if which == "min" else -np.inf)
+    first = 0
+    ends = result.segment_chainage
+    for i, n in enumerate(np.asarray(result.reaches, dtype=int)):
+        xs = result.chainage[first:first + n + 1]
+        inside = (x >= ends[i] - 1e-9) & (x <= ends[i + 1] + 1e-9)
+        if inside.any():
+            out[inside] = pick(out[inside],
+                               np.interp(x[inside], xs, values[first:first + n + 1]))
+        first += n + 1
+    return out
+
+
+def simulate_converged(*args, total_reaches=20, probe_positions=(), max_refinements=6,
+                       tolerance=CONVERGENCE_TOLERANCE, floor=CONVERGENCE_FLOOR, **kwargs):
+    """:func:`simulate` on a grid refined until its envelopes stop changing.
+
+    The grid doubles its reaches from ``total_reaches`` until the largest rise above and
+    the deepest drop below the steady head (over the nodes and ``probe_positions``)
+    each change by less than ``tolerance`` of their value, or by less than ``floor``,
+    between two refinements.
+
+    Parameters
+    ----------
+    *args
+        Positional arguments of :func:`simulate`. [-]
+    total_reaches : int
+        Reaches of the coarsest grid over the whole pipe (:func:`characteristic_grid`). [-]
+    probe_positions : array_like
+        Positions along the pipe where the envelopes are also read (profile vertices, a
+        ridge between two nodes), by :func:`envelope_at`. [m]
+    max_refinements : int
+        Most doublings of the grid. [-]
+    tolerance : float
+        Relative change that counts as converged. [-]
+    floor : float
+        Absolute change that counts as converged. [m]
+    **kwargs
+        Keyword arguments of :func:`simulate` (not ``time_step``). [-]
+
+    Returns
+    -------
+    TransientResult, GridConvergence
+        The finest run, and the record of the refinement.
+
+    Notes
+    -----
+    The scheme's error falls with the reach length (first-order friction, linear
+    interpolation-free Courant-1 grid, Chaudhry 2014 ch. 3 [2]_): doubling until the
+    extremes stop changing is the usual check of grid independence. A refinement that
+    the work bound (``max_node_steps``) does not allow ends the search, unconverged.
+    """
+    probe = np.atleast_1d(np.asarray(probe_positions, dtype=float))
+
+    def extremes(res):
+        rise = float(np.max(res.max_head - res.steady_head))
+        drop = float(np.max(res.steady_head - res.min_head))
+        if probe.size:
+            rise = max(rise, float(np.max(envelope_at(res, probe, "max")
+                                          - envelope_at(res, probe, "steady"))))
+            drop = max(drop, float(np.max(envelope_at(res, probe, "steady")
+                                          - envelope_at(res, probe, "min"))))
+        return max(rise, 0.0), max(drop, 0.0)
+
+    n = int(total_reaches)
+    res = simulate(*args, total_reaches=n, **kwargs)
+    runs, rises, drops = [int(res.reaches.sum())], *([v] for v in extremes(res))
+    change, converged = math.nan, False
+    for _ in range(int(max_refinements)):
+        n = 2 * int(res.reaches.sum())
+        finer = simulate(*args, total_reaches=n, **kwargs)
+        if int(finer.reaches.sum()) <= int(res.reaches.sum()):
+            break   # the work bound allows no finer grid
+        res = finer
+        rise, drop = extremes(res)
+        d_rise, d_drop = abs(rise - rises[-1]), abs(drop - drops[-1])
+        change = max(d_rise / max(rise, 1e-12), d_drop / max(drop, 1e-12))
+        runs.append(int(res.reaches.sum()))
+        rises.append(rise)
+        drops.append(drop)
+        if (d_rise <= max(tolerance * rise, floor)) and (d_drop <= max(tolerance * drop, floor)):
+            converged = True
+            break
+    return res, GridConvergence(tuple(runs), tuple(rises), tuple(drops), change, converged)
 
 
 # --------------------------------------------------------------------------- post-processing

@@ -90,6 +90,37 @@ def validate_wave_speed(wave_speed, valid_range=WATER_WAVE_SPEED_RANGE, name="wa
 
 
 # --------------------------------------------------------------------------- Korteweg
+def rigid_pipe_wave_speed(bulk_modulus, density):
+    """Wave speed of water in a rigid pipe, the upper bound of any pipe's.
+
+    Parameters
+    ----------
+    bulk_modulus : numeric
+        Bulk modulus of the water. [Pa]
+    density : numeric
+        Density of the water. [kg/m^3]
+
+    Returns
+    -------
+    numeric
+        :math:`a = \\sqrt{K/\\rho}`, the speed of sound in the water. [m/s]
+
+    Notes
+    -----
+    Korteweg's formula with an infinitely stiff wall (Wylie & Streeter 1993, §2.5 [1]_):
+    a real wall only lowers it, so it bounds the Joukowsky rise from above.
+
+    References
+    ----------
+    .. [1] Wylie, E. B. and Streeter, V. L., *Fluid Transients in Systems*, Prentice Hall,
+       1993, eq. 2.5 family (from memory).
+    """
+    k = _positive(bulk_modulus, "bulk_modulus")
+    rho = _positive(density, "density")
+    out = np.sqrt(k / rho)
+    return out if np.ndim(out) else float(out)
+
+
 def korteweg(bulk_modulus, density, diameter, wall_thickness, pipe_modulus,
              restraint_factor=1.0, valid_range=WATER_WAVE_SPEED_RANGE):
     """Pressure-wave speed in an elastic liquid-filled pipe (Korteweg formula).

@@ -31,15 +31,14 @@ def _check(r, name):
 
 
 def test_steady_state_before_closure_matches_the_steady_stage(alder):
-    # local losses are folded into the segments' friction factors, so the MOC steady head
-    # at the turbine equals the steady stage's energy line there (the MOC carries no
-    # velocity head)
+    # the reservoir node carries the entrance losses and the velocity head: the MOC's
+    # first head is the steady stage's hydraulic grade line just inside the intake
     case, r = alder
     env = r.transient_envelope[r.transient_envelope["rejection from"] == "design flow"]
     gl = r.grade_lines[r.grade_lines["flow case"] == "design flow"]
-    assert env["initial steady head [m]"].iloc[-1] == pytest.approx(
-        gl["energy grade line [m]"].iloc[-1], rel=1e-9)
-    assert env["initial steady head [m]"].iloc[0] == pytest.approx(case.headwater)
+    inside = gl[gl["chainage [m]"] == 0.0]["hydraulic grade line [m]"].min()
+    assert env["initial steady head [m]"].iloc[0] == pytest.approx(inside, rel=1e-12)
+    assert env["initial steady head [m]"].iloc[0] < case.headwater
 
 
 def test_joukowsky_and_michaud_by_hand(alder):
@@ -96,10 +95,14 @@ def test_shortest_closure_meets_the_limit(alder):
 def test_design_pressure_line_is_static_plus_rise(alder):
     case, r = alder
     env = r.transient_envelope[r.transient_envelope["rejection from"] == "design flow"]
-    static = case.headwater - env["pipe elevation [m]"]
-    np.testing.assert_allclose(env["design pressure head [m]"],
+    # no flood level given: the normal headwater, at the invert (D/2 below the centreline)
+    assert case.headwater_max is None
+    d = np.interp(env["chainage [m]"], [0, 1600, 1600 + 1e-9, 3100], [1.2, 1.2, 1.0, 1.0])
+    static = case.headwater - (env["pipe elevation [m]"] - d / 2)
+    np.testing.assert_allclose(env["design pressure head at the invert [m]"],
                                static + env["maximum transient rise [m]"], rtol=1e-12)
-    assert np.all(r.design_pressure_line["design pressure head [m]"] >= static.to_numpy() - 1e-9)
+    line = r.design_pressure_line["design pressure head at the invert [m]"]
+    assert np.all(line >= static.to_numpy() - 1e-9)
 
 
 def test_down_surge_at_the_high_point_is_flagged(alder):
@@ -123,11 +126,11 @@ def test_mechanical_starting_time_by_hand(alder):
 
 
 def test_closure_study_contains_the_case_closure(alder):
-    # the study runs the case's own closure time too: its row must equal the main run
+    # the study runs the case's own closure time too, on the screening grid: its row is
+    # the main run's within the grid's convergence (0.5 % a refinement; 1 % here)
     case, r = alder
     cs = r.closure_time_study.set_index("closure time [s]")
     row = cs.loc[case.surge["closure_time"]]
-    assert row["maximum head rise [m]"] == pytest.approx(
-        r.headline.max_surge_rise, rel=1e-12)
+    assert row["maximum head rise [m]"] == pytest.approx(r.headline.max_surge_rise, rel=0.01)
     assert row["minimum head along the route [m]"] == pytest.approx(
-        _check(r, "simulated minimum head along the route"), rel=1e-12)
+        _check(r, "simulated minimum head along the route"), rel=0.01)

@@ -47,7 +47,8 @@ def test_diameter_study_wiring(monkeypatch, alder):
         (diameter, "sensitivity_grid"), (diameter, "one_at_a_time"),
         (diameter, "economic_velocity_diameter"), (surge, "allievi_rise_capped"),
         (energy, "mean_annual_weights"), (energy, "net_head"),
-        (gradeline, "crown_pressure_head"), (transients, "fold_local_losses"),
+        (gradeline, "crown_pressure_head"), (transients, "series_pipes"),
+        (transients, "simulate_converged"), (transients, "envelope_at"),
         (turbines, "head_datum"))}
     r = run_case(case, samples=0)
     for name, spy in spies.items():

@@ -560,6 +560,13 @@ def check_invariants(case, r):
         if isinstance(value, float):
             assert math.isfinite(value), key
 
+    # water hammer: the minimum envelope never above the state it starts from, at every
+    # node and vertex, and the Summary's transient minimum never above its steady minimum
+    env = r.transient_envelope
+    if env is not None:
+        tol = 1e-9 * max(1.0, float(np.abs(env["initial steady head [m]"]).max()))
+        assert (env["minimum head [m]"] <= env["initial steady head [m]"] + tol).all()
+        assert r.headline.min_transient_pressure_head <= r.headline.min_pressure_head + tol
     # grade lines: HGL = EGL - velocity head; pressure head = HGL - z; EGL never rises
     gl = r.grade_lines
     egl, hgl = gl["energy grade line [m]"], gl["hydraulic grade line [m]"]

@@ -48,6 +48,7 @@ TABLE_ORDER = (
     "turbine_head_history",
     "closure_time_study",
     "design_pressure_line",
+    "wave_speed_sensitivity",
     "diameter_candidates",
     "diameter_sweep",
     "diameter_empirical_checks",
@@ -96,6 +97,7 @@ class Results:
     turbine_head_history: pd.DataFrame | None = None
     closure_time_study: pd.DataFrame | None = None
     design_pressure_line: pd.DataFrame | None = None
+    wave_speed_sensitivity: pd.DataFrame | None = None
     diameter_candidates: pd.DataFrame | None = None
     diameter_sweep: pd.DataFrame | None = None
     diameter_empirical_checks: pd.DataFrame | None = None

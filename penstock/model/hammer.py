@@ -10,8 +10,10 @@ positions are lengths along the pipe; they are mapped back to route chainage
 
 from __future__ import annotations
 
+import dataclasses
 import math
 import re
+from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
@@ -25,33 +27,46 @@ from .stages import HammerHeadline, HammerStage
 from .steady import CROWN_MINIMUM
 
 
-def _segment_geometry(route, case):
-    """Per segment: length along the pipe, and the elements it holds."""
-    n = len(case.segments)
-    lengths = np.zeros(n)
-    for i in range(n):
-        lengths[i] = route.length[route.element_segment == i].sum()
-    return lengths
+@dataclass
+class MocPipes:
+    """The route as the MOC's pipes in series (:func:`penstock.transients.series_pipes`),
+    with what each simulation of the case needs."""
 
+    series: object                # penstock.transients.SeriesPipes
+    diameter: np.ndarray          # per MOC pipe [m]
+    roughness: np.ndarray         # per MOC pipe [m]
+    speeds: np.ndarray            # wave speed per MOC pipe [m/s]
+    segment_speeds: np.ndarray    # wave speed per case segment [m/s]
+    wave_table: pd.DataFrame
+    downstream: float             # level the orifice discharges to [m]
+    axis: np.ndarray              # route nodes' positions along the pipe axis [m]
+    chainage: np.ndarray          # route nodes' chainage [m]
 
-def _folded_friction(case, route, props, flow, lengths):
-    """Darcy friction factor per segment at ``flow``, with the local losses folded in
-    (:func:`penstock.transients.fold_local_losses`)."""
-    segs = case.segments
-    diam = np.array([s.diameter for s in segs])
-    v = gradeline.mean_velocity(flow, diam)
-    re = friction.reynolds(v, diam, props.kinematic_viscosity)
-    f_seg = np.asarray(friction.friction_factor(re, np.array([s.roughness for s in segs])
-                                                / diam), dtype=float)
-    # local losses: the element before a step tells its segment (the step's upstream pipe)
-    seg_of_element = route.element_segment.copy()
-    for j in range(len(seg_of_element)):
-        if seg_of_element[j] < 0:
-            later = seg_of_element[j:][seg_of_element[j:] >= 0]
-            seg_of_element[j] = later[0] if len(later) else len(segs) - 1
-    local = np.flatnonzero(route.k > 0)
-    return transients.fold_local_losses(f_seg, diam, lengths, route.k[local],
-                                        route.reference_area[local], seg_of_element[local])
+    def to_x(self, s):
+        """Chainage of positions along the pipe axis. [m]"""
+        return np.interp(s, self.axis, self.chainage)
+
+    def to_s(self, x):
+        """Position along the pipe axis of chainages. [m]"""
+        return np.interp(x, self.chainage, self.axis)
+
+    def friction(self, props, flow):
+        """Darcy friction factor of each MOC pipe at ``flow``, the steady stage's."""
+        v = gradeline.mean_velocity(flow, self.diameter)
+        re = friction.reynolds(v, self.diameter, props.kinematic_viscosity)
+        return np.asarray(friction.friction_factor(re, self.roughness / self.diameter),
+                          dtype=float)
+
+    def args(self, props, flow, roughness=None):
+        """Keyword arguments of :func:`penstock.transients.simulate` at ``flow``: pipes,
+        friction and the local losses standing where they are."""
+        pipes = self if roughness is None else dataclasses.replace(self, roughness=roughness)
+        return dict(lengths=self.series.length, diameters=self.diameter,
+                    wave_speeds=self.speeds, friction_factors=pipes.friction(props, flow),
+                    inlet_loss=self.series.inlet_loss,
+                    junction_losses=self.series.junction_loss,
+                    outlet_loss=self.series.outlet_loss, velocity_heads=True,
+                    wave_speed_tolerance=transients.PLANNING_WAVE_SPEED_TOLERANCE)
 
 
 def _wave_speeds(case, props, warns, methods):
@@ -68,15 +83,24 @@ def _wave_speeds(case, props, warns, methods):
                             f"{seg.material.replace('_', ' ')} pipe; the water-hammer wave "
                             "speed needs it (the steel handling minimum does not apply to "
                             "this material); expected the wall thickness, or surge.wave_speed")
-        if t is None:
+        rigid = t is None and s["wave_speed"] is None
+        if rigid:
+            # no wall: the wave speed of a rigid pipe, an upper bound, which keeps the
+            # Joukowsky rise and the down-surge on the safe side
+            a = float(wavespeed.rigid_pipe_wave_speed(props.bulk_modulus, props.density))
             t = float(pipewall.minimum_handling_thickness(seg.diameter))
-            note = "wall: minimum handling thickness (no wall_thickness given)"
-            warns.append(Warning_("water hammer", f"pipe {i} has no wall_thickness: the "
-                                  f"minimum handling thickness {1e3 * t:.1f} mm is used for its "
-                                  "wave speed", chainage=seg.start, severity="note"))
-        a = float(wavespeed.pipe_wave_speed(props.bulk_modulus, props.density, seg.diameter, t,
-                                            e, s["poisson_ratio"], case=s["restraint"]))
-        if s["air_content"] > 0:
+            note = "no wall_thickness: rigid-pipe wave speed (upper bound)"
+            warns.append(Warning_("water hammer", f"pipe {i} has no wall_thickness: its wave "
+                                  f"speed is taken as that of a rigid pipe, {a:.0f} m/s, an "
+                                  "upper bound; give the wall for a truer value",
+                                  chainage=seg.start))
+        else:
+            if t is None:
+                t = float(pipewall.minimum_handling_thickness(seg.diameter))
+            a = float(wavespeed.pipe_wave_speed(props.bulk_modulus, props.density,
+                                                seg.diameter, t, e, s["poisson_ratio"],
+                                                case=s["restraint"]))
+        if s["air_content"] > 0 and not rigid:
             z_mid = float(np.interp(0.5 * (seg.start + seg.end), case.profile["chainage"],
                                     case.profile["elevation"]))
             p_abs = props.atmospheric_pressure + float(props.pressure(max(
@@ -110,24 +134,13 @@ def outlet_level(case, z_end):
 
 
 def rejection_flows(case) -> list:
-    """Flows a load rejection is simulated from: the design flow, then the listed ones."""
-    q0 = case.design_flow
-    return [q0] + [q for q in case.surge["rejection_flows"] if not math.isclose(q, q0)]
-
-
-def steady_crown_at(case, props, route, flow, x):
-    """Steady crown pressure head at the minimum headwater at chainages ``x`` [m], from the
-    steady grade line at ``flow``: the floor under a transient minimum, which starts from
-    this state (where two nodes share a chainage, at a local loss, the lower one)."""
-    pipe = ~route.is_reservoir
-    g = route.grade_lines(np.array([flow]), case.headwater, props.kinematic_viscosity)
-    p = gradeline.crown_pressure_head(g.pressure_head[0, pipe], route.node_diameter[pipe],
-                                      case.headwater - case.headwater_min)
-    xs = route.chainage[pipe]
-    ux, inv = np.unique(xs, return_inverse=True)
-    low = np.full(ux.size, np.inf)
-    np.minimum.at(low, inv, p)
-    return np.interp(x, ux, low)
+    """Flows a load rejection is simulated from: the design flow, the maximum plant flow,
+    then the listed ones."""
+    out = [case.design_flow]
+    for q in [case.maximum_flow, *case.surge["rejection_flows"]]:
+        if not any(math.isclose(q, p) for p in out):
+            out.append(q)
+    return out
 
 
 def _refusal(exc) -> CaseError:
@@ -157,24 +170,74 @@ def _study_times(s, period):
     return times
 
 
-def _pipes(case, props, route, warns, methods):
-    """Segment lengths along the pipe, diameters, wave speeds (and their table) and the
-    level the closing orifice discharges to: what every simulation of the case needs."""
-    lengths = _segment_geometry(route, case)
-    diam = np.array([seg.diameter for seg in case.segments])
+#: A local loss closer than this share of the route's length to a pipe end, a change of
+#: pipe or another loss stands there in the MOC (a shorter pipe would set the time step).
+LUMP_SHARE = 0.02
+
+
+def _pipes(case, props, route, warns, methods) -> MocPipes:
+    """The MOC's pipes, wave speeds (and their table) and the level the closing orifice
+    discharges to: what every simulation of the case needs."""
+    total = float(route.length.sum())
+    series = transients.series_pipes(route.length, route.element_segment, route.k,
+                                     route.reference_area, lump_length=LUMP_SHARE * total)
+    segs = case.segments
     speeds, wave_table = _wave_speeds(case, props, warns, methods)
-    return lengths, diam, speeds, wave_table, outlet_level(case, float(route.elevation[-1]))
+    axis = np.concatenate([[0.0], np.cumsum(route.length)])
+    pipes = MocPipes(
+        series=series, diameter=np.array([segs[i].diameter for i in series.segment]),
+        roughness=np.array([segs[i].roughness for i in series.segment]),
+        speeds=speeds[series.segment], segment_speeds=speeds, wave_table=wave_table,
+        downstream=outlet_level(case, float(route.elevation[-1])), axis=axis,
+        chainage=route.chainage)
+    for s_from, s_to in series.moved:
+        warns.append(Warning_("water hammer", f"a local loss at {pipes.to_x(s_from):.1f} m "
+                              f"stands at {pipes.to_x(s_to):.1f} m in the water-hammer model "
+                              "(within 2 % of the route's length of a pipe end or another "
+                              "loss)", chainage=float(pipes.to_x(s_from)), severity="note"))
+    return pipes
 
 
-def rejections(case, props, route, lengths, diam, speeds, downstream, **options):
+def grid_reaches(case, pipes=None):
+    """The grid the case fixes (surge.reaches, reaches over the whole pipe), or None to
+    refine until converged; at least one reach per MOC pipe."""
+    fixed = case.surge.get("reaches")
+    if fixed is not None and pipes is not None and fixed < pipes.series.length.size:
+        raise CaseError(CASE_FILE, "surge.reaches", f"{fixed} is fewer than the "
+                        f"{pipes.series.length.size} pipes of the water-hammer model (one per "
+                        "stretch between local losses and changes of pipe); expected at least "
+                        "one reach per pipe")
+    return fixed
+
+
+def rejections(case, props, pipes, reaches=None, aged=None, **options):
     """Load rejections from each of :func:`rejection_flows`, by the case's closure law ->
-    list of (flow, :class:`~penstock.transients.TransientResult`); ``options`` go to
-    :func:`penstock.transients.simulate` (``record_chainages``, ``dry_run``)."""
+    list of (flow, :class:`~penstock.transients.TransientResult`, label); the grid has
+    ``reaches`` over the whole pipe (20 when None); ``aged`` adds one
+    rejection from the maximum plant flow with that roughness per MOC pipe [m];
+    ``options`` go to :func:`penstock.transients.simulate`."""
     law = _law_args(case.surge)
-    return [(q, transients.simulate(lengths, diam, speeds,
-                                    _folded_friction(case, route, props, q, lengths),
-                                    case.headwater, downstream, q, **law, **options))
-            for q in rejection_flows(case)]
+    n = reaches if reaches is not None else 20
+    sets = [(q, None, "") for q in rejection_flows(case)]
+    if aged is not None:
+        sets.append((case.maximum_flow, aged, f", after {case.service_life:g} years"))
+    return [(q, transients.simulate(**pipes.args(props, q, rough), reservoir_head=case.headwater,
+                                    tailwater_head=pipes.downstream, flow=q, **law,
+                                    total_reaches=n, **options), label)
+            for q, rough, label in sets]
+
+
+def converged_grid(case, props, pipes, probe_positions):
+    """The grid of the case: the design-flow rejection refined until converged
+    (:func:`penstock.transients.simulate_converged`), or the one the case fixes."""
+    law = _law_args(case.surge)
+    fixed = grid_reaches(case, pipes)
+    kw = dict(**pipes.args(props, case.design_flow), reservoir_head=case.headwater,
+              tailwater_head=pipes.downstream, flow=case.design_flow, **law)
+    if fixed is not None:
+        return fixed, None
+    res, conv = transients.simulate_converged(**kw, probe_positions=probe_positions)
+    return conv.reaches[-1], conv
 
 
 def check(case, props, steady):
@@ -182,20 +245,20 @@ def check(case, props, steady):
     them (:func:`penstock.transients.simulate` with ``dry_run``)."""
     s = case.surge
     route = steady.route
-    lengths, diam, speeds, _, downstream = _pipes(case, props, route, [], Methods())
+    pipes = _pipes(case, props, route, [], Methods())
     law = _law_args(s)
     try:
-        rejections(case, props, route, lengths, diam, speeds, downstream, dry_run=True)
+        rejections(case, props, pipes, grid_reaches(case, pipes), dry_run=True)
     except ValueError as exc:
         raise _refusal(exc) from None
-    times = _study_times(s, 2 * float(surge.travel_time(lengths, speeds)))
-    f = _folded_friction(case, route, props, case.design_flow, lengths)
+    times = _study_times(s, 2 * float(surge.travel_time(pipes.series.length, pipes.speeds)))
     study_law = _study_law(law)
     if study_law["law"] == "two_stage":
         study_law["knee_time"] = s["knee_time"] / s["closure_time"] * max(times)
     try:
-        transients.simulate(lengths, diam, speeds, f, case.headwater, downstream,
-                            case.design_flow, closure_time=max(times), dry_run=True,
+        transients.simulate(**pipes.args(props, case.design_flow),
+                            reservoir_head=case.headwater, tailwater_head=pipes.downstream,
+                            flow=case.design_flow, closure_time=max(times), dry_run=True,
                             **study_law)
     except ValueError as exc:
         raise CaseError(CASE_FILE, "surge.study_closure_times", f"the closure-time study "
@@ -219,15 +282,25 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
     tick("water hammer")
     s = case.surge
     route = steady.route
-    lengths, diam, speeds, wave_table, downstream = _pipes(case, props, route, warns, methods)
-    areas = np.array([seg.area for seg in case.segments])
+    pipes = _pipes(case, props, route, warns, methods)
+    lengths, speeds, wave_table = pipes.series.length, pipes.speeds, pipes.wave_table
+    if not s["section_given"]:
+        warns.append(Warning_("water hammer", f"the case has no [surge] section: a "
+                              f"{s['closure_law'].replace('_', '-')} closure in "
+                              f"{s['closure_time']:g} s and the pipe material's modulus are "
+                              "assumed; give the machine's real closure"))
     z_end = float(route.elevation[-1])
     q0 = case.design_flow
     static_head = case.headwater - z_end            # pressure head at the turbine at no flow
+    hw_top = case.headwater_max if case.headwater_max is not None else case.headwater
+    if case.headwater_max is None:
+        warns.append(Warning_("water hammer", "no levels.headwater_max (flood level) is given: "
+                              "the design pressure line starts from the normal headwater "
+                              f"{case.headwater:g} m; give the flood level"))
     allowable = s["allowable_rise"] * static_head
 
     # ---- quick checks
-    vel = q0 / areas
+    vel = gradeline.mean_velocity(q0, pipes.diameter)
     l_total = float(lengths.sum())
     t_travel = float(surge.travel_time(lengths, speeds))
     period = 2 * t_travel
@@ -236,7 +309,7 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
     v_mean = float((lengths * vel).sum() / l_total)
     dh_jouk = float(surge.joukowsky(speeds[-1], vel[-1]))
     dh_mich = float(surge.michaud(l_total, v_mean, tc))
-    h0 = case.headwater - downstream
+    h0 = case.headwater - pipes.downstream
     rise_allievi = float(surge.allievi_max_head(l_total, v_mean, h0, tc)) - h0
     hn = prod.headline.net_head
     tw = float(surge.water_starting_time(lengths, vel, hn))
@@ -274,72 +347,115 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
     # ---- MOC load rejections
     tick("method of characteristics")
     law = _law_args(s)
-    s_nodes_x = np.concatenate([[0.0], np.cumsum(route.length)])
-    x_nodes = route.chainage
-    to_x = lambda sl: np.interp(sl, s_nodes_x, x_nodes)  # noqa: E731
-    to_s = lambda x: np.interp(x, x_nodes, s_nodes_x)  # noqa: E731
-    rec = [float(to_s(x)) for x in s["record_at"]]
+    route_s = pipes.axis                          # every route node: vertices, losses, ends
+    rec = [float(pipes.to_s(x)) for x in s["record_at"]]
+    aged = None
+    if any(seg.roughness_growth for seg in case.segments):
+        rough = route.aged_roughness(case.segments, case.service_life)
+        aged = np.array([rough[route.element_segment == i][0] for i in pipes.series.segment])
     try:
-        results = rejections(case, props, route, lengths, diam, speeds, downstream,
-                             record_chainages=rec)
+        reaches, conv = converged_grid(case, props, pipes, route_s)
+        results = rejections(case, props, pipes, reaches, aged, record_chainages=rec)
     except ValueError as exc:   # e.g. no Courant grid within the wave-speed tolerance
         raise _refusal(exc) from None
-    q_d, main = results[0]
+    q_d, main, _ = results[0]
     adj = float(np.max(np.abs(main.wave_speed_adjustment)))
-    methods.add("Water hammer, simulation", "method of characteristics, series segments, "
-                "upstream reservoir, downstream orifice closing by the given law, Darcy "
-                "friction (local losses folded in), Courant number 1 by adjusting wave speeds "
-                f"(largest adjustment {100 * adj:.2f} %)",
+    methods.add("Water hammer, simulation", "method of characteristics, series pipes; "
+                "reservoir with its entrance loss and velocity head; each local loss a "
+                "boundary where it stands; energy kept at changes of area; downstream orifice "
+                "closing by the given law with the outlet losses in series; Darcy friction; "
+                f"Courant number 1 by adjusting wave speeds (largest adjustment "
+                f"{100 * adj:.2f} %); grid refined until the largest rise and the deepest "
+                f"drop change by less than {100 * transients.CONVERGENCE_TOLERANCE:g} % (or "
+                f"{100 * transients.CONVERGENCE_FLOOR:g} cm); envelopes read at every node and "
+                "profile vertex",
                 "Wylie, E.B. & Streeter, V.L. (1993), Fluid Transients in Systems, ch. 3; "
                 "Chaudhry, M.H. (2014), Applied Hydraulic Transients, 3rd ed., Springer, ch. 3")
+    if conv is not None and not conv.converged:
+        last = ("no finer grid fits the work bound" if math.isnan(conv.change) else
+                f"last change {100 * conv.change:.2f} %")
+        warns.append(Warning_("water hammer", f"the water-hammer grid did not converge within "
+                              f"{100 * transients.CONVERGENCE_TOLERANCE:g} % ({last} at "
+                              f"{conv.reaches[-1]} reaches); the "
+                              "envelopes may be under-resolved: set surge.reaches or shorten "
+                              "the run"))
     atm_head, vap_head = props.atmospheric_head, props.vapour_head
+    floor = vap_head - atm_head                   # gauge head at vapour pressure
+    drawdown = case.headwater - case.headwater_min
+    starts = np.array([seg.start for seg in case.segments[1:]])
+    d_seg = np.array([seg.diameter for seg in case.segments])
     env_rows = []
     design_head = None
-    for q, res in results:
-        x = to_x(res.chainage)
+    separated = []
+    for q, res, label in results:
+        pos = _positions(res.chainage, route_s)
+        x = pipes.to_x(pos)
         z = np.interp(x, case.profile["chainage"], case.profile["elevation"])
-        name = "design flow" if q is q_d else f"{q:.4g} m^3/s"
-        # the crown at the minimum headwater: conservative as in the steady checks
-        starts = np.array([seg.start for seg in case.segments[1:]])
-        d_seg = np.array([seg.diameter for seg in case.segments])
+        name = ("design flow" if q is q_d and not label else f"{q:.4g} m^3/s{label}")
         # a node at a diameter step takes the larger pipe, whose crown is higher
         tol = 1e-6 * max(1.0, float(np.max(np.abs(x))))
         d_node = np.maximum(d_seg[np.searchsorted(starts, x - tol, side="left")],
                             d_seg[np.searchsorted(starts, x + tol, side="right")])
-        pmin = gradeline.crown_pressure_head(res.min_head - z, d_node,
-                                             case.headwater - case.headwater_min)
-        # a transient minimum is never above the steady state it starts from: the MOC's
-        # reservoir boundary and its folded local losses lift its heads by up to a velocity
-        # head (issue 13 replaces them); until then the steady crown is the floor
-        pmin = np.minimum(pmin, steady_crown_at(case, props, route, q, x))
-        rise = np.maximum(res.max_head - res.steady_head, 0.0)
-        dp = transients.design_pressure_line(case.headwater - z, res.max_head, res.steady_head)
-        design_head = dp if design_head is None else np.maximum(design_head, dp)
+        h_min = transients.envelope_at(res, pos, "min")
+        h_max = transients.envelope_at(res, pos, "max")
+        h_0 = transients.envelope_at(res, pos, "steady")
+        # the crown at the minimum headwater: conservative as in the steady checks
+        computed = gradeline.crown_pressure_head(h_min - z, d_node, drawdown)
+        cavity = computed <= floor
+        pmin = np.maximum(computed, floor)        # no head below vapour pressure is shown
+        if cavity.any():
+            separated.append(q)
+        rise = np.maximum(h_max - h_0, 0.0)
+        # design line: the flood level's static head at the invert plus the rise
+        dp = transients.design_pressure_line(hw_top - (z - 0.5 * d_node), h_max, h_0)
+        if not label:   # the design line is of the new pipe (the larger rise)
+            design_head = dp if design_head is None else np.maximum(design_head, dp)
+            design_x = x
         env_rows.append(pd.DataFrame({
             "rejection from": name, "initial flow [m^3/s]": q, "chainage [m]": x,
             "pipe elevation [m]": z, "static line [m]": case.headwater,
-            "initial steady head [m]": res.steady_head,
-            "maximum head [m]": res.max_head, "minimum head [m]": res.min_head,
+            "initial steady head [m]": h_0,
+            "maximum head [m]": h_max, "minimum head [m]": h_min,
             "maximum transient rise [m]": rise,
-            "minimum pressure head at the crown, minimum headwater [m]": pmin,
-            "design pressure head [m]": dp,
+            CROWN_MINIMUM: pmin,
+            "column separation (vapour pressure reached) [-]": cavity,
+            "design pressure head at the invert [m]": dp,
         }))
         for check, limit, text in (("sub-atmospheric", 0.0, "the down-surge takes the pressure "
                                     "below atmospheric"),
-                                   ("vapour pressure", vap_head - atm_head,
-                                    "the down-surge reaches vapour pressure: column separation "
-                                    "is possible (the model does not simulate it beyond that)")):
+                                   ("vapour pressure", floor + 1e-9,
+                                    "the down-surge reaches vapour pressure: the water column "
+                                    "separates (the model does not simulate the cavity; the "
+                                    "heads shown there are floored at vapour pressure)")):
             for x0, x1, low, at in gradeline.flagged_stretches(x, pmin, limit):
                 warns.append(Warning_("water hammer", f"{text} from {x0:.1f} to {x1:.1f} m "
                                       f"(lowest pressure head {low:.2f} m at {at:.1f} m) on "
-                                      f"rejection from {q:.4g} m^3/s", chainage=at, flow=q))
+                                      f"rejection from {name}", chainage=at, flow=q))
+    if separated:
+        warns.append(Warning_("water hammer", "column separation is predicted on rejection "
+                              f"from {', '.join(f'{q:.4g}' for q in separated)} m^3/s: the "
+                              "maximum envelope and the design pressure line are those of a "
+                              "model without cavities, and the pressure when a cavity "
+                              "collapses can exceed them; protect the high points (air "
+                              "valves, a slower closure, a surge tank) and re-check"))
     envelope = pd.concat(env_rows, ignore_index=True)
+    sensitivity = _wave_speed_sensitivity(case, props, pipes, reaches, law, route_s, main,
+                                          drawdown, d_seg, starts)
     rise_valve = float(main.max_head_rise.max())   # largest rise above steady, any node
     rows += [("simulated maximum transient rise (largest at any node)", rise_valve, "m"),
              ("simulated maximum head at the turbine", float(main.max_head[-1]), "m"),
              ("simulated minimum head along the route", float(main.min_head.min()), "m"),
              ("largest wave-speed adjustment for Courant = 1", 100 * adj, "%"),
-             ("MOC time step", main.time_step, "s")]
+             ("MOC time step", main.time_step, "s"),
+             ("MOC reaches used (all pipes)", int(main.reaches.sum()), "-"),
+             ("grid" if conv is None else "grid refinements (reaches of each run)",
+              "set by surge.reaches" if conv is None else
+              ", ".join(str(n) for n in conv.reaches), ""),
+             ("change of the extremes at the last refinement",
+              "none (grid set)" if conv is None else "none (no finer grid fits)"
+              if math.isnan(conv.change) else 100 * conv.change,
+              "" if conv is None or math.isnan(conv.change) else "%"),
+             ("maximum headwater of the design pressure line", hw_top, "m")]
     if rise_valve > allowable:
         warns.append(Warning_("water hammer", f"the simulated rise {rise_valve:.1f} m "
                               f"exceeds the allowable {allowable:.1f} m "
@@ -362,15 +478,19 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
     tick("closure-time study")
     times = _study_times(s, period)
     study_law = _study_law(law)
+    # on the screening grid: the largest rise, which the study ranks by, converges first
+    screening = reaches if conv is None else conv.reaches[0]
     try:
         if study_law.get("law") == "two_stage":
             frac = s["knee_time"] / tc
-            study = _two_stage_study(lengths, diam, speeds, case, props, route, downstream, q0,
-                                     times, frac, s["knee_opening"])
+            study = _two_stage_study(case, props, pipes, screening, q0, times, frac,
+                                     s["knee_opening"])
         else:
-            f = _folded_friction(case, route, props, q0, lengths)
-            study = transients.closure_time_study(lengths, diam, speeds, f, case.headwater,
-                                                  downstream, q0, times, **study_law)
+            kw = pipes.args(props, q0)
+            study = transients.closure_time_study(
+                kw.pop("lengths"), kw.pop("diameters"), kw.pop("wave_speeds"),
+                kw.pop("friction_factors"), case.headwater, pipes.downstream, q0, times,
+                total_reaches=screening, **kw, **study_law)
     except ValueError as exc:   # e.g. a closure time needing too many time steps
         raise CaseError(CASE_FILE, "surge.study_closure_times", f"the closure-time study "
                         f"cannot run: {exc}") from None
@@ -398,8 +518,11 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
     return HammerStage(
         water_hammer_checks=quick, wave_speeds=wave_table, transient_envelope=envelope,
         turbine_head_history=history, closure_time_study=study_table,
-        design_pressure_line=pd.DataFrame({"chainage [m]": to_x(main.chainage),
-                                      "design pressure head [m]": design_head}),
+        wave_speed_sensitivity=sensitivity, grid_reaches=reaches,
+        screening_reaches=screening,
+        design_pressure_line=pd.DataFrame({"chainage [m]": design_x,
+                                           "design pressure head at the invert [m]":
+                                           design_head}),
         headline=HammerHeadline(
             max_surge_rise=rise_valve, joukowsky=dh_jouk, allowable_rise=allowable,
             joukowsky_wave_speed=float(speeds[-1]), joukowsky_velocity=float(vel[-1]),
@@ -407,16 +530,53 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
             min_transient_pressure_head=float(envelope[CROWN_MINIMUM].min())))
 
 
-def _two_stage_study(lengths, diam, speeds, case, props, route, downstream, q0, times, frac,
-                     knee_opening):
+def _positions(nodes, vertices):
+    """Where the envelopes are read: every MOC node and route vertex along the pipe axis,
+    positions closer than a micrometre taken once. [m]"""
+    pos = np.unique(np.concatenate([nodes, vertices]))
+    return pos[np.concatenate([[True], np.diff(pos) > 1e-6])]
+
+
+def _wave_speed_sensitivity(case, props, pipes, reaches, law, route_s, main, drawdown, d_seg,
+                            starts):
+    """The design-flow rejection with every wave speed 15 % lower and higher (at most that
+    of a rigid pipe): the largest rise and the lowest crown pressure head."""
+    rigid = float(wavespeed.rigid_pipe_wave_speed(props.bulk_modulus, props.density))
+    rows = []
+    for factor in (0.85, 1.0, 1.15):
+        if factor == 1.0:
+            res = main
+        else:
+            kw = pipes.args(props, case.design_flow)
+            kw["wave_speeds"] = np.minimum(kw["wave_speeds"] * factor, rigid)
+            res = transients.simulate(**kw, reservoir_head=case.headwater,
+                                      tailwater_head=pipes.downstream, flow=case.design_flow,
+                                      **law, total_reaches=reaches)
+        pos = _positions(res.chainage, route_s)
+        x = pipes.to_x(pos)
+        z = np.interp(x, case.profile["chainage"], case.profile["elevation"])
+        d_node = np.maximum(d_seg[np.searchsorted(starts, x, side="left")],
+                            d_seg[np.searchsorted(starts, x, side="right")])
+        p = gradeline.crown_pressure_head(transients.envelope_at(res, pos, "min") - z,
+                                          d_node, drawdown)
+        rows.append({"wave speeds [% of computed]": 100 * factor,
+                     "wave speed at the turbine [m/s]": float(res.wave_speeds[-1]),
+                     "maximum transient rise [m]": float(res.max_head_rise.max()),
+                     "minimum pressure head at the crown, minimum headwater [m]":
+                         float(p.min()),
+                     "at chainage [m]": float(x[np.argmin(p)])})
+    return pd.DataFrame(rows)
+
+
+def _two_stage_study(case, props, pipes, reaches, q0, times, frac, knee_opening):
     """Closure study keeping the two-stage shape: knee at the same fraction of the time."""
-    f = _folded_friction(case, route, props, q0, lengths)
     out = {k: [] for k in ("valve_max_head", "max_head_rise", "max_head", "min_head",
                            "max_head_drop")}
     for t in times:
-        r = transients.simulate(lengths, diam, speeds, f, case.headwater, downstream, q0,
-                                law="two_stage", closure_time=t, knee_time=frac * t,
-                                knee_opening=knee_opening)
+        r = transients.simulate(**pipes.args(props, q0), reservoir_head=case.headwater,
+                                tailwater_head=pipes.downstream, flow=q0, law="two_stage",
+                                closure_time=t, knee_time=frac * t, knee_opening=knee_opening,
+                                total_reaches=reaches)
         out["valve_max_head"].append(float(r.valve_head.max()))
         out["max_head_rise"].append(float(r.max_head_rise.max()))
         out["max_head"].append(float(r.max_head.max()))

@@ -117,6 +117,7 @@ class DiameterModel:
         self.case_lost = (float(self._lost(self.weights @ case_loss(self.q_grid)))
                           if case_loss is not None else None)
         self.moc_runs = {}   # diameter -> design head etc. (_moc_design_head)
+        self.moc_reaches = None   # the water-hammer stage's grid; run() sets it
         w_ = case.surge["wave_speed"]
         # for the Joukowsky cap only; run() sets the case's computed value when it has one
         self.wave_speed = w_ if w_ is not None else 1000.0
@@ -324,6 +325,12 @@ def run(case, props, steady, prod, ham, warns, methods, tick) -> dict:
     say = Say(case.unit_system)
     model = DiameterModel(case, props, prod, case_loss=steady.head_loss,
                           roughness_years=steady.energy_roughness_years)
+    # the candidates are ranked on the coarsest grid of the case's refinement (the rise,
+    # which sets the wall, converges first); the case's own pipe has the converged grid
+    model.moc_reaches = ham.screening_reaches
+    methods.add("Diameter study, water hammer", f"each candidate's load rejections on the "
+                f"screening grid of {ham.screening_reaches} reaches (the case's own pipe: "
+                f"{ham.grid_reaches}, converged)", "see Water hammer, simulation")
     if ham.wave_speeds is not None:   # the case's own wave speed, for Joukowsky's cap
         model.wave_speed = float(ham.wave_speeds["wave speed [m/s]"].mean())
     lo, hi = model.bounds()
@@ -526,28 +533,28 @@ def _moc_design_head(case, props, model, d):
 
     Run once per diameter: the candidate row and the wall profile share it."""
     if float(d) not in model.moc_runs:
-        model.moc_runs[float(d)] = _moc_runs(case, props, d)
+        model.moc_runs[float(d)] = _moc_runs(case, props, d, model.moc_reaches)
     return model.moc_runs[float(d)]
 
 
-def _moc_runs(case, props, d):
+def _moc_runs(case, props, d, reaches):
     from . import hammer
 
     c = uniform_case(case, d)
     route = build_route(c)
-    lengths, diam, speeds, _, downstream = hammer._pipes(c, props, route, [], Methods())
-    s_nodes = np.concatenate([[0.0], np.cumsum(route.length)])
-    static = c.headwater - route.elevation
+    pipes = hammer._pipes(c, props, route, [], Methods())
+    s_nodes = pipes.axis
+    hw_top = c.headwater_max if c.headwater_max is not None else c.headwater
     d_node = np.where(np.isnan(route.node_diameter), d, route.node_diameter)
+    static = hw_top - (route.elevation - 0.5 * d_node)     # at the invert, flood level
     head, pmin, rise_max = None, None, 0.0
-    for q, res in hammer.rejections(c, props, route, lengths, diam, speeds, downstream):
-        dp = transients.design_pressure_line(np.interp(res.chainage, s_nodes, static),
-                                             res.max_head, res.steady_head)
-        h = np.interp(s_nodes, res.chainage, dp)
-        low = gradeline.crown_pressure_head(np.interp(s_nodes, res.chainage, res.min_head)
+    for _, res, _ in hammer.rejections(c, props, pipes, reaches):
+        h_max = transients.envelope_at(res, s_nodes, "max")
+        h_0 = transients.envelope_at(res, s_nodes, "steady")
+        h = transients.design_pressure_line(static, h_max, h_0)
+        low = gradeline.crown_pressure_head(transients.envelope_at(res, s_nodes, "min")
                                             - route.elevation, d_node,
                                             c.headwater - c.headwater_min)
-        low = np.minimum(low, hammer.steady_crown_at(c, props, route, q, route.chainage))
         head = h if head is None else np.maximum(head, h)
         pmin = low if pmin is None else np.minimum(pmin, low)
         rise_max = max(rise_max, float(res.max_head_rise.max()))
@@ -665,7 +672,7 @@ def _wall_profile(case, model, d):
     x0, x1 = x[:-1][keep], x[1:][keep]
     return pd.DataFrame({
         "from chainage [m]": x0, "to chainage [m]": x1,
-        "design pressure head [m]": np.maximum(head[:-1], head[1:])[keep],
+        "design pressure head at the invert [m]": np.maximum(head[:-1], head[1:])[keep],
         "required thickness [mm]": 1e3 * req[0],
         "plate thickness [mm]": 1e3 * t[0],
     })

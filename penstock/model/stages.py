@@ -163,6 +163,9 @@ class HammerStage:
     turbine_head_history: pd.DataFrame
     closure_time_study: pd.DataFrame
     design_pressure_line: pd.DataFrame
+    wave_speed_sensitivity: pd.DataFrame
+    grid_reaches: int                 # MOC reaches over the whole pipe, converged grid
+    screening_reaches: int            # the coarsest grid tried (the diameter study's)
     headline: HammerHeadline
 
 

@@ -43,6 +43,12 @@ def hammer_sheet(ws, ctx, title):
     sh.put(ws, row, 1, "Wave speed by pipe segment", font=sh.SUBTITLE)
     _, last = sh.write_table(ws, convert_table(r.wave_speeds, ctx.system), row=row + 1)
     row = last + 2
+    if r.wave_speed_sensitivity is not None:
+        sh.put(ws, row, 1, "Sensitivity to the wave speed (rejection from the design flow, "
+               "every wave speed scaled)", font=sh.SUBTITLE)
+        _, last = sh.write_table(ws, convert_table(r.wave_speed_sensitivity, ctx.system),
+                                 row=row + 1)
+        row = last + 2
     # closure-time study, with its chart beside the table
     sh.put(ws, row, 1, "Closure-time study (rejection from the design flow)", font=sh.SUBTITLE)
     shortest = r.headline.shortest_closure
