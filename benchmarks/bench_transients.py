@@ -105,12 +105,12 @@ def _demo_rows(repeat):
         props = water.water_properties(case.temperature, case.altitude)
         route = build_route(case)
         pipes = hammer._pipes(case, props, route, [], Methods())
-        kw = dict(**pipes.args(props, case.design_flow), reservoir_head=case.headwater,
+        kw = dict(**pipes.args(props, case.design_flow, 20), reservoir_head=case.headwater,
                   tailwater_head=pipes.downstream, flow=case.design_flow,
                   **hammer._law_args(case.surge))
         converged = _best_of(lambda: hammer.converged_grid(case, props, pipes, pipes.axis),
                              repeat)
-        one = _best_of(lambda: simulate(**kw, total_reaches=20), repeat)
+        one = _best_of(lambda: simulate(**kw), repeat)
         rows.append((f"{name}: converged water-hammer grid [s]", converged,
                      "one 20-reach run [s]", one, converged / one))
     return rows

@@ -292,8 +292,121 @@ def series_pipes(length, element_segment, k, reference_area, lump_length=0.0):
     # each pipe lies in the segment of the reach holding its midpoint
     idx = np.clip(np.searchsorted(rp, mid, side="right") - 1, 0, rs.size - 1)
     return SeriesPipes(length=lengths, start=starts, segment=rs[idx],
-                       inlet_loss=points[0.0], junction_loss=np.array([points[c] for c in cuts[1:-1]]),
+                       inlet_loss=points[0.0],
+                       junction_loss=np.array([points[c] for c in cuts[1:-1]]),
                        outlet_loss=points[total], moved=tuple(moved))
+
+
+@dataclass(frozen=True)
+class GriddedPipes:
+    """MOC pipes on one grid: every pipe of a route segment shares its reach length and
+    adjusted wave speed, and each local loss stands at the grid node nearest to it.
+
+    Attributes
+    ----------
+    length : numpy.ndarray, shape (n,)
+        Length of each pipe, a whole number of its segment's reaches. [m]
+    segment : numpy.ndarray of int, shape (n,)
+        Route segment of each pipe. [-]
+    wave_speeds : numpy.ndarray, shape (n,)
+        Adjusted wave speed of each pipe (its segment's). [m/s]
+    time_step : float
+        Time step of the grid. [s]
+    inlet_loss, outlet_loss : float
+        Loss coefficients at the reservoir and at the orifice. [s^2/m^5]
+    junction_loss : numpy.ndarray, shape (n - 1,)
+        Loss coefficient at each junction. [s^2/m^5]
+    moved : tuple of (float, float)
+        (position given, position used) of each local loss. [m]
+    """
+
+    length: np.ndarray
+    segment: np.ndarray
+    wave_speeds: np.ndarray
+    time_step: float
+    inlet_loss: float
+    junction_loss: np.ndarray
+    outlet_loss: float
+    moved: tuple
+
+
+def gridded_pipes(series, segment_wave_speeds, total_reaches,
+                  wave_speed_tolerance=0.05):
+    """Put :func:`series_pipes` on one MOC grid, the local losses at their nearest nodes.
+
+    Parameters
+    ----------
+    series : SeriesPipes
+        The route split at its local losses (``lump_length`` 0: every loss where it is). [-]
+    segment_wave_speeds : array_like
+        Wave speed of each route segment. [m/s]
+    total_reaches : int
+        Reaches over the whole pipe, see :func:`characteristic_grid`. [-]
+    wave_speed_tolerance : float
+        Largest wave-speed adjustment for the Courant condition. [-]
+
+    Returns
+    -------
+    GriddedPipes
+
+    Notes
+    -----
+    The grid is chosen on the route segments (:func:`characteristic_grid`), so that one
+    physical pipe keeps one wave speed: splitting it into pieces of their own adjusted
+    wave speeds would put spurious impedance steps along it, whose reflections add up
+    under a sharp front. A local loss then moves to the nearest node, by at most half a
+    reach; the grid refinement makes the move vanish (Chaudhry 2014, ch. 3, places
+    boundaries at grid nodes [2]_).
+    """
+    seg_of_pipe = np.asarray(series.segment, dtype=int)
+    speeds = np.asarray(segment_wave_speeds, dtype=float)
+    segs = np.unique(seg_of_pipe)             # route order: segments appear in sequence
+    seg_len = np.array([series.length[seg_of_pipe == i].sum() for i in segs])
+    seg_start = np.array([series.start[seg_of_pipe == i][0] for i in segs])
+    grid = characteristic_grid(seg_len, speeds[segs], total_reaches=total_reaches,
+                               wave_speed_tolerance=wave_speed_tolerance)
+    dx = grid.reach_lengths
+    # every cut (a junction between two series pipes) and its loss, snapped to a node
+    cuts = series.start[1:]
+    nodes = {}                                  # (segment position, node index) -> loss
+    moved = []
+    for x, c in zip(cuts, series.junction_loss, strict=True):
+        j = int(np.clip(np.searchsorted(seg_start, x, side="right") - 1, 0, segs.size - 1))
+        if j > 0 and abs(x - seg_start[j]) < 1e-9:
+            key = (j, 0)
+        else:
+            key = (j, int(np.rint((x - seg_start[j]) / dx[j])))
+            if key[1] >= grid.reaches[j] and j + 1 < segs.size:
+                key = (j + 1, 0)
+            elif key[1] == 0 and j == 0:
+                key = None                        # at the reservoir
+        if key is None or (key[1] >= grid.reaches[key[0]]):
+            target = 0.0 if key is None else float(seg_start[key[0]] + seg_len[key[0]])
+        else:
+            target = float(seg_start[key[0]] + key[1] * dx[key[0]])
+        if abs(target - x) > 1e-9:
+            moved.append((float(x), target))
+        nodes[key] = nodes.get(key, 0.0) + float(c)
+    inlet = series.inlet_loss + nodes.pop(None, 0.0)
+    outlet = series.outlet_loss
+    for key in [k for k in nodes if k[1] >= grid.reaches[k[0]]]:
+        outlet += nodes.pop(key)                  # the last segment's end: the orifice
+    lengths, seg_idx, wave, loss = [], [], [], []
+    for j, i in enumerate(segs):
+        inner = sorted(k[1] for k in nodes if k[0] == j and k[1] > 0)
+        bounds = [0, *inner, int(grid.reaches[j])]
+        if j > 0:
+            loss.append(nodes.get((j, 0), 0.0))  # the junction at the segment's start
+        for a, b in zip(bounds[:-1], bounds[1:], strict=True):
+            if lengths and a > 0:
+                loss.append(nodes[(j, a)])
+            lengths.append((b - a) * dx[j])
+            seg_idx.append(int(i))
+            wave.append(float(grid.wave_speeds[j]))
+    return GriddedPipes(length=np.array(lengths), segment=np.array(seg_idx),
+                        wave_speeds=np.array(wave), time_step=grid.time_step,
+                        inlet_loss=float(inlet), junction_loss=np.array(loss),
+                        outlet_loss=float(outlet), moved=tuple(moved))
 
 
 @dataclass(frozen=True)
@@ -864,9 +977,9 @@ def envelope_at(result, positions, which="min"):
     return out
 
 
-def simulate_converged(*args, total_reaches=20, probe_positions=(), max_refinements=6,
-                       tolerance=CONVERGENCE_TOLERANCE, floor=CONVERGENCE_FLOOR, **kwargs):
-    """:func:`simulate` on a grid refined until its envelopes stop changing.
+def simulate_converged(run, total_reaches=20, probe_positions=(), max_refinements=6,
+                       tolerance=CONVERGENCE_TOLERANCE, floor=CONVERGENCE_FLOOR):
+    """A simulation on a grid refined until its envelopes stop changing.
 
     The grid doubles its reaches from ``total_reaches`` until the largest rise above and
     the deepest drop below the steady head (over the nodes and ``probe_positions``)
@@ -875,10 +988,11 @@ def simulate_converged(*args, total_reaches=20, probe_positions=(), max_refineme
 
     Parameters
     ----------
-    *args
-        Positional arguments of :func:`simulate`. [-]
+    run : callable
+        ``run(n)`` simulates on the grid of ``n`` reaches over the whole pipe and returns
+        a :class:`TransientResult` (e.g. :func:`simulate` with ``total_reaches=n``). [-]
     total_reaches : int
-        Reaches of the coarsest grid over the whole pipe (:func:`characteristic_grid`). [-]
+        Reaches of the coarsest grid over the whole pipe. [-]
     probe_positions : array_like
         Positions along the pipe where the envelopes are also read (profile vertices, a
         ridge between two nodes), by :func:`envelope_at`. [m]
@@ -888,8 +1002,6 @@ def simulate_converged(*args, total_reaches=20, probe_positions=(), max_refineme
         Relative change that counts as converged. [-]
     floor : float
         Absolute change that counts as converged. [m]
-    **kwargs
-        Keyword arguments of :func:`simulate` (not ``time_step``). [-]
 
     Returns
     -------
@@ -898,10 +1010,9 @@ def simulate_converged(*args, total_reaches=20, probe_positions=(), max_refineme
 
     Notes
     -----
-    The scheme's error falls with the reach length (first-order friction, linear
-    interpolation-free Courant-1 grid, Chaudhry 2014 ch. 3 [2]_): doubling until the
-    extremes stop changing is the usual check of grid independence. A refinement that
-    the work bound (``max_node_steps``) does not allow ends the search, unconverged.
+    The scheme's error falls with the reach length (Chaudhry 2014 ch. 3 [2]_): doubling
+    until the extremes stop changing is the usual check of grid independence. A
+    refinement that adds no reach ends the search, unconverged.
     """
     probe = np.atleast_1d(np.asarray(probe_positions, dtype=float))
 
@@ -916,12 +1027,15 @@ def simulate_converged(*args, total_reaches=20, probe_positions=(), max_refineme
         return max(rise, 0.0), max(drop, 0.0)
 
     n = int(total_reaches)
-    res = simulate(*args, total_reaches=n, **kwargs)
+    res = run(n)
     runs, rises, drops = [int(res.reaches.sum())], *([v] for v in extremes(res))
     change, converged = math.nan, False
     for _ in range(int(max_refinements)):
         n = 2 * int(res.reaches.sum())
-        finer = simulate(*args, total_reaches=n, **kwargs)
+        try:
+            finer = run(n)
+        except ValueError:
+            break   # the bounds on the work allow no finer grid
         if int(finer.reaches.sum()) <= int(res.reaches.sum()):
             break   # the work bound allows no finer grid
         res = finer

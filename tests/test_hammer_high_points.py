@@ -43,16 +43,16 @@ def test_initial_state_is_the_steady_grade_line_node_by_node(name):
     pipes = hammer._pipes(case, props, route, [], Methods())
     law = hammer._law_args(case.surge)
     for q in hammer.rejection_flows(case):
-        res = transients.simulate(**pipes.args(props, q), reservoir_head=case.headwater,
+        res = transients.simulate(**pipes.args(props, q, 60), reservoir_head=case.headwater,
                                   tailwater_head=pipes.downstream, flow=q, **law,
-                                  total_reaches=60, duration=1e-3)
+                                  duration=1e-3)
+        grid = pipes.gridded(60)
         g = route.grade_lines(np.array([q]), case.headwater, props.kinematic_viscosity)
         hgl = g.hydraulic[0]
         s_route = pipes.axis
         # compare strictly inside the MOC pipes (a junction's two sides are checked below)
-        moved = [(min(a, b), max(a, b)) for a, b in pipes.series.moved]
-        cuts = np.concatenate([pipes.series.start, [pipes.series.start[-1]
-                                                    + pipes.series.length[-1]]])
+        moved = [(min(a, b), max(a, b)) for a, b in grid.moved]
+        cuts = np.concatenate([[0.0], np.cumsum(grid.length)])
         s = res.chainage
         inner = ~np.any(np.abs(s[:, None] - cuts[None, :]) < 1e-9, axis=1)
         for lo, hi in moved:
@@ -119,11 +119,10 @@ def test_grid_is_converged_under_a_further_refinement():
     pipes = hammer._pipes(case, props, route, [], Methods())
     reaches, conv = hammer.converged_grid(case, props, pipes, pipes.axis)
     assert conv.converged and conv.change <= transients.CONVERGENCE_TOLERANCE
-    kw = dict(**pipes.args(props, case.design_flow), reservoir_head=case.headwater,
-              tailwater_head=pipes.downstream, flow=case.design_flow,
-              **hammer._law_args(case.surge))
-    a = transients.simulate(**kw, total_reaches=reaches)
-    b = transients.simulate(**kw, total_reaches=2 * reaches)
+    kw = dict(reservoir_head=case.headwater, tailwater_head=pipes.downstream,
+              flow=case.design_flow, **hammer._law_args(case.surge))
+    a = transients.simulate(**pipes.args(props, case.design_flow, reaches), **kw)
+    b = transients.simulate(**pipes.args(props, case.design_flow, 2 * reaches), **kw)
 
     def drop(res):
         return float(np.max(transients.envelope_at(res, pipes.axis, "steady")
@@ -217,7 +216,7 @@ def test_bad_grid_and_flood_level_are_refused(tmp_path, old, new, key):
 
 def test_fewer_reaches_than_pipes_is_refused(tmp_path):
     d = copy_demo("alder-gorge-high-head", tmp_path)
-    edit_file(d / "site.toml", 'allowable_rise = "25 %"', 'allowable_rise = "25 %"\nreaches = 2')
+    edit_file(d / "site.toml", 'allowable_rise = "25 %"', 'allowable_rise = "25 %"\nreaches = 1')
     from penstock.model import check_case
 
     with pytest.raises(CaseError, match="surge.reaches"):
@@ -233,3 +232,23 @@ def test_missing_surge_section_is_cautioned(tmp_path):
                                  encoding="utf-8")
     r = penstock.run_case(penstock.load_case(d), samples=0)
     assert r.cautions["message"].str.contains("no \\[surge\\] section").any()
+
+
+def test_losses_on_one_grid_keep_one_wave_speed_per_pipe():
+    """A segment split by local losses keeps one adjusted wave speed, so an instant,
+    frictionless closure gives Joukowsky's a·V/g (Joukowsky 1898; Wylie & Streeter 1993
+    ch. 1) to 1 %, as the unsplit pipe does; uneven adjustments would add reflections."""
+    length = np.array([22.02, 0.0, 36.5, 0.0, 6.05])
+    seg = np.array([0, -1, 0, -1, 0])
+    k = np.array([0.0, 1e-9, 0.0, 1e-9, 0.0])      # two negligible losses split the pipe
+    area = np.full(5, np.pi / 4 * 3.2**2)
+    series = transients.series_pipes(length, seg, k, area)
+    assert series.length.size == 3
+    g = transients.gridded_pipes(series, [796.35], 40)
+    assert np.ptp(g.wave_speeds) == 0.0
+    q = 18.0
+    res = transients.simulate(g.length, [3.2] * g.length.size, g.wave_speeds,
+                              [0.0] * g.length.size, 112.0, 100.0, q, law="instant",
+                              time_step=g.time_step, junction_losses=g.junction_loss)
+    jouk = g.wave_speeds[0] * q / (np.pi / 4 * 3.2**2) / 9.80665
+    assert res.max_head_rise.max() == pytest.approx(jouk, rel=0.01)

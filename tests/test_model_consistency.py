@@ -261,9 +261,10 @@ def test_candidate_wall_takes_every_rejection_flow(tmp_path):
     wa = ra.diameter_candidates.set_index("diameter [m]").loc[d, "maximum surge rise [m]"]
     wb = rb.diameter_candidates.set_index("diameter [m]").loc[d, "maximum surge rise [m]"]
     assert wb > wa
-    # and the water-hammer stage's own rise for the case's pipe is the candidate's
+    # and the water-hammer stage's own rise for the case's pipe is the candidate's, within
+    # the grid's convergence (the candidates run on the screening grid)
     stage = rb.headline.max_surge_rise
-    assert wb == pytest.approx(max(stage, wb), rel=1e-9)
+    assert wb == pytest.approx(stage, rel=0.005)
 
 
 def test_vacuum_governed_reaches_are_counted(demos):

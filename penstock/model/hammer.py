@@ -10,7 +10,6 @@ positions are lengths along the pipe; they are mapped back to route chainage
 
 from __future__ import annotations
 
-import dataclasses
 import math
 import re
 from dataclasses import dataclass
@@ -33,10 +32,11 @@ class MocPipes:
     with what each simulation of the case needs."""
 
     series: object                # penstock.transients.SeriesPipes
-    diameter: np.ndarray          # per MOC pipe [m]
-    roughness: np.ndarray         # per MOC pipe [m]
-    speeds: np.ndarray            # wave speed per MOC pipe [m/s]
+    diameter: np.ndarray          # per series pipe [m]
+    speeds: np.ndarray            # wave speed per series pipe [m/s]
     segment_speeds: np.ndarray    # wave speed per case segment [m/s]
+    segment_diameter: np.ndarray  # per case segment [m]
+    segment_roughness: np.ndarray  # per case segment [m]
     wave_table: pd.DataFrame
     downstream: float             # level the orifice discharges to [m]
     axis: np.ndarray              # route nodes' positions along the pipe axis [m]
@@ -50,23 +50,27 @@ class MocPipes:
         """Position along the pipe axis of chainages. [m]"""
         return np.interp(x, self.chainage, self.axis)
 
-    def friction(self, props, flow):
-        """Darcy friction factor of each MOC pipe at ``flow``, the steady stage's."""
-        v = gradeline.mean_velocity(flow, self.diameter)
-        re = friction.reynolds(v, self.diameter, props.kinematic_viscosity)
-        return np.asarray(friction.friction_factor(re, self.roughness / self.diameter),
-                          dtype=float)
+    def gridded(self, reaches, speed_factor=1.0):
+        """The pipes on the grid of ``reaches`` over the whole pipe, each local loss at
+        its nearest node (:func:`penstock.transients.gridded_pipes`)."""
+        return transients.gridded_pipes(
+            self.series, self.segment_speeds * speed_factor, reaches,
+            wave_speed_tolerance=transients.PLANNING_WAVE_SPEED_TOLERANCE)
 
-    def args(self, props, flow, roughness=None):
-        """Keyword arguments of :func:`penstock.transients.simulate` at ``flow``: pipes,
-        friction and the local losses standing where they are."""
-        pipes = self if roughness is None else dataclasses.replace(self, roughness=roughness)
-        return dict(lengths=self.series.length, diameters=self.diameter,
-                    wave_speeds=self.speeds, friction_factors=pipes.friction(props, flow),
-                    inlet_loss=self.series.inlet_loss,
-                    junction_losses=self.series.junction_loss,
-                    outlet_loss=self.series.outlet_loss, velocity_heads=True,
-                    wave_speed_tolerance=transients.PLANNING_WAVE_SPEED_TOLERANCE)
+    def args(self, props, flow, reaches, roughness=None, speed_factor=1.0):
+        """Keyword arguments of :func:`penstock.transients.simulate` at ``flow`` on the
+        grid of ``reaches``: pipes, friction and the local losses where they stand;
+        ``roughness`` per route segment [m] replaces the pipes' own."""
+        g = self.gridded(reaches, speed_factor)
+        rough = self.segment_roughness if roughness is None else roughness
+        d = self.segment_diameter[g.segment]
+        v = gradeline.mean_velocity(flow, d)
+        re = friction.reynolds(v, d, props.kinematic_viscosity)
+        f = np.asarray(friction.friction_factor(re, rough[g.segment] / d), dtype=float)
+        return dict(lengths=g.length, diameters=d, wave_speeds=g.wave_speeds,
+                    friction_factors=f, inlet_loss=g.inlet_loss,
+                    junction_losses=g.junction_loss, outlet_loss=g.outlet_loss,
+                    velocity_heads=True, time_step=g.time_step)
 
 
 def _wave_speeds(case, props, warns, methods):
@@ -170,43 +174,40 @@ def _study_times(s, period):
     return times
 
 
-#: A local loss closer than this share of the route's length to a pipe end, a change of
-#: pipe or another loss stands there in the MOC (a shorter pipe would set the time step).
-LUMP_SHARE = 0.02
-
-
 def _pipes(case, props, route, warns, methods) -> MocPipes:
     """The MOC's pipes, wave speeds (and their table) and the level the closing orifice
     discharges to: what every simulation of the case needs."""
-    total = float(route.length.sum())
     series = transients.series_pipes(route.length, route.element_segment, route.k,
-                                     route.reference_area, lump_length=LUMP_SHARE * total)
+                                     route.reference_area)
     segs = case.segments
     speeds, wave_table = _wave_speeds(case, props, warns, methods)
     axis = np.concatenate([[0.0], np.cumsum(route.length)])
-    pipes = MocPipes(
+    return MocPipes(
         series=series, diameter=np.array([segs[i].diameter for i in series.segment]),
-        roughness=np.array([segs[i].roughness for i in series.segment]),
-        speeds=speeds[series.segment], segment_speeds=speeds, wave_table=wave_table,
+        speeds=speeds[series.segment], segment_speeds=speeds,
+        segment_diameter=np.array([seg.diameter for seg in segs]),
+        segment_roughness=np.array([seg.roughness for seg in segs]), wave_table=wave_table,
         downstream=outlet_level(case, float(route.elevation[-1])), axis=axis,
         chainage=route.chainage)
-    for s_from, s_to in series.moved:
-        warns.append(Warning_("water hammer", f"a local loss at {pipes.to_x(s_from):.1f} m "
-                              f"stands at {pipes.to_x(s_to):.1f} m in the water-hammer model "
-                              "(within 2 % of the route's length of a pipe end or another "
-                              "loss)", chainage=float(pipes.to_x(s_from)), severity="note"))
-    return pipes
+
+
+def aged_roughness(case, route, pipes):
+    """Roughness of each route segment at the end of the service life [m], or None when
+    no roughness grows."""
+    if not any(seg.roughness_growth for seg in case.segments):
+        return None
+    rough = route.aged_roughness(case.segments, case.service_life)
+    return np.array([rough[route.element_segment == i][0] for i in range(len(case.segments))])
 
 
 def grid_reaches(case, pipes=None):
     """The grid the case fixes (surge.reaches, reaches over the whole pipe), or None to
-    refine until converged; at least one reach per MOC pipe."""
+    refine until converged; at least one reach per pipe segment."""
     fixed = case.surge.get("reaches")
-    if fixed is not None and pipes is not None and fixed < pipes.series.length.size:
+    if fixed is not None and fixed < len(case.segments):
         raise CaseError(CASE_FILE, "surge.reaches", f"{fixed} is fewer than the "
-                        f"{pipes.series.length.size} pipes of the water-hammer model (one per "
-                        "stretch between local losses and changes of pipe); expected at least "
-                        "one reach per pipe")
+                        f"{len(case.segments)} pipe segments of the case; expected at least "
+                        "one reach per pipe segment")
     return fixed
 
 
@@ -221,9 +222,10 @@ def rejections(case, props, pipes, reaches=None, aged=None, **options):
     sets = [(q, None, "") for q in rejection_flows(case)]
     if aged is not None:
         sets.append((case.maximum_flow, aged, f", after {case.service_life:g} years"))
-    return [(q, transients.simulate(**pipes.args(props, q, rough), reservoir_head=case.headwater,
-                                    tailwater_head=pipes.downstream, flow=q, **law,
-                                    total_reaches=n, **options), label)
+    return [(q, transients.simulate(**pipes.args(props, q, n, rough),
+                                    reservoir_head=case.headwater,
+                                    tailwater_head=pipes.downstream, flow=q, **law, **options),
+             label)
             for q, rough, label in sets]
 
 
@@ -232,11 +234,16 @@ def converged_grid(case, props, pipes, probe_positions):
     (:func:`penstock.transients.simulate_converged`), or the one the case fixes."""
     law = _law_args(case.surge)
     fixed = grid_reaches(case, pipes)
-    kw = dict(**pipes.args(props, case.design_flow), reservoir_head=case.headwater,
-              tailwater_head=pipes.downstream, flow=case.design_flow, **law)
     if fixed is not None:
         return fixed, None
-    res, conv = transients.simulate_converged(**kw, probe_positions=probe_positions)
+
+    def run(n):
+        return transients.simulate(**pipes.args(props, case.design_flow, n),
+                                   reservoir_head=case.headwater,
+                                   tailwater_head=pipes.downstream, flow=case.design_flow,
+                                   **law)
+
+    res, conv = transients.simulate_converged(run, probe_positions=probe_positions)
     return conv.reaches[-1], conv
 
 
@@ -256,7 +263,8 @@ def check(case, props, steady):
     if study_law["law"] == "two_stage":
         study_law["knee_time"] = s["knee_time"] / s["closure_time"] * max(times)
     try:
-        transients.simulate(**pipes.args(props, case.design_flow),
+        transients.simulate(**pipes.args(props, case.design_flow,
+                                         grid_reaches(case) or 20),
                             reservoir_head=case.headwater, tailwater_head=pipes.downstream,
                             flow=case.design_flow, closure_time=max(times), dry_run=True,
                             **study_law)
@@ -349,17 +357,20 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
     law = _law_args(s)
     route_s = pipes.axis                          # every route node: vertices, losses, ends
     rec = [float(pipes.to_s(x)) for x in s["record_at"]]
-    aged = None
-    if any(seg.roughness_growth for seg in case.segments):
-        rough = route.aged_roughness(case.segments, case.service_life)
-        aged = np.array([rough[route.element_segment == i][0] for i in pipes.series.segment])
+    aged = aged_roughness(case, route, pipes)
     try:
         reaches, conv = converged_grid(case, props, pipes, route_s)
         results = rejections(case, props, pipes, reaches, aged, record_chainages=rec)
     except ValueError as exc:   # e.g. no Courant grid within the wave-speed tolerance
         raise _refusal(exc) from None
     q_d, main, _ = results[0]
-    adj = float(np.max(np.abs(main.wave_speed_adjustment)))
+    grid = pipes.gridded(reaches)
+    adj = float(np.max(np.abs(grid.wave_speeds / pipes.segment_speeds[grid.segment] - 1.0)))
+    shift = max((abs(a - b) for a, b in grid.moved), default=0.0)
+    if shift > 0.0:
+        warns.append(Warning_("water hammer", f"{len(grid.moved)} local loss(es) stand at the "
+                              f"nearest node of the water-hammer grid, moved by at most "
+                              f"{shift:.2f} m along the pipe", severity="note"))
     methods.add("Water hammer, simulation", "method of characteristics, series pipes; "
                 "reservoir with its entrance loss and velocity head; each local loss a "
                 "boundary where it stands; energy kept at changes of area; downstream orifice "
@@ -408,9 +419,12 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
         rise = np.maximum(h_max - h_0, 0.0)
         # design line: the flood level's static head at the invert plus the rise
         dp = transients.design_pressure_line(hw_top - (z - 0.5 * d_node), h_max, h_0)
-        if not label:   # the design line is of the new pipe (the larger rise)
-            design_head = dp if design_head is None else np.maximum(design_head, dp)
-            design_x = x
+        # the design line is the envelope over every rejection, the aged pipe's included
+        # (its rise above its lower steady line is the larger)
+        if design_head is None:
+            design_head, design_x = dp, x
+        else:
+            design_head = np.maximum(design_head, np.interp(design_x, x, dp))
         env_rows.append(pd.DataFrame({
             "rejection from": name, "initial flow [m^3/s]": q, "chainage [m]": x,
             "pipe elevation [m]": z, "static line [m]": case.headwater,
@@ -441,10 +455,14 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
     envelope = pd.concat(env_rows, ignore_index=True)
     sensitivity = _wave_speed_sensitivity(case, props, pipes, reaches, law, route_s, main,
                                           drawdown, d_seg, starts)
-    rise_valve = float(main.max_head_rise.max())   # largest rise above steady, any node
-    rows += [("simulated maximum transient rise (largest at any node)", rise_valve, "m"),
-             ("simulated maximum head at the turbine", float(main.max_head[-1]), "m"),
-             ("simulated minimum head along the route", float(main.min_head.min()), "m"),
+    # the worst of every rejection (the design flow, the maximum plant flow, aged, listed)
+    rise_valve = max(float(res.max_head_rise.max()) for _, res, _ in results)
+    rows += [("simulated maximum transient rise (largest at any node, any rejection)",
+              rise_valve, "m"),
+             ("simulated maximum head at the turbine (any rejection)",
+              max(float(res.max_head[-1]) for _, res, _ in results), "m"),
+             ("simulated minimum head along the route (any rejection)",
+              min(float(res.min_head.min()) for _, res, _ in results), "m"),
              ("largest wave-speed adjustment for Courant = 1", 100 * adj, "%"),
              ("MOC time step", main.time_step, "s"),
              ("MOC reaches used (all pipes)", int(main.reaches.sum()), "-"),
@@ -486,11 +504,11 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
             study = _two_stage_study(case, props, pipes, screening, q0, times, frac,
                                      s["knee_opening"])
         else:
-            kw = pipes.args(props, q0)
+            kw = pipes.args(props, q0, screening)
             study = transients.closure_time_study(
                 kw.pop("lengths"), kw.pop("diameters"), kw.pop("wave_speeds"),
                 kw.pop("friction_factors"), case.headwater, pipes.downstream, q0, times,
-                total_reaches=screening, **kw, **study_law)
+                **kw, **study_law)
     except ValueError as exc:   # e.g. a closure time needing too many time steps
         raise CaseError(CASE_FILE, "surge.study_closure_times", f"the closure-time study "
                         f"cannot run: {exc}") from None
@@ -547,11 +565,12 @@ def _wave_speed_sensitivity(case, props, pipes, reaches, law, route_s, main, dra
         if factor == 1.0:
             res = main
         else:
-            kw = pipes.args(props, case.design_flow)
-            kw["wave_speeds"] = np.minimum(kw["wave_speeds"] * factor, rigid)
-            res = transients.simulate(**kw, reservoir_head=case.headwater,
+            scale = min(factor, rigid / float(pipes.segment_speeds.max()))
+            res = transients.simulate(**pipes.args(props, case.design_flow, reaches,
+                                                   speed_factor=scale),
+                                      reservoir_head=case.headwater,
                                       tailwater_head=pipes.downstream, flow=case.design_flow,
-                                      **law, total_reaches=reaches)
+                                      **law)
         pos = _positions(res.chainage, route_s)
         x = pipes.to_x(pos)
         z = np.interp(x, case.profile["chainage"], case.profile["elevation"])
@@ -573,10 +592,10 @@ def _two_stage_study(case, props, pipes, reaches, q0, times, frac, knee_opening)
     out = {k: [] for k in ("valve_max_head", "max_head_rise", "max_head", "min_head",
                            "max_head_drop")}
     for t in times:
-        r = transients.simulate(**pipes.args(props, q0), reservoir_head=case.headwater,
+        r = transients.simulate(**pipes.args(props, q0, reaches),
+                                reservoir_head=case.headwater,
                                 tailwater_head=pipes.downstream, flow=q0, law="two_stage",
-                                closure_time=t, knee_time=frac * t, knee_opening=knee_opening,
-                                total_reaches=reaches)
+                                closure_time=t, knee_time=frac * t, knee_opening=knee_opening)
         out["valve_max_head"].append(float(r.valve_head.max()))
         out["max_head_rise"].append(float(r.max_head_rise.max()))
         out["max_head"].append(float(r.max_head.max()))

@@ -548,7 +548,8 @@ def _moc_runs(case, props, d, reaches):
     d_node = np.where(np.isnan(route.node_diameter), d, route.node_diameter)
     static = hw_top - (route.elevation - 0.5 * d_node)     # at the invert, flood level
     head, pmin, rise_max = None, None, 0.0
-    for _, res, _ in hammer.rejections(c, props, pipes, reaches):
+    aged = hammer.aged_roughness(c, route, pipes)
+    for _, res, _ in hammer.rejections(c, props, pipes, reaches, aged):
         h_max = transients.envelope_at(res, s_nodes, "max")
         h_0 = transients.envelope_at(res, s_nodes, "steady")
         h = transients.design_pressure_line(static, h_max, h_0)
