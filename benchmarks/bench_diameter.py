@@ -21,8 +21,8 @@ import numpy as np
 import pandas as pd
 
 import penstock
-from penstock import water
-from penstock.model import production, sizing, steady
+from penstock import surge, water
+from penstock.model import hammer, production, sizing, steady
 
 CASE = Path(__file__).resolve().parents[1] / "cases" / "alder-gorge-high-head"
 
@@ -52,7 +52,10 @@ def run():
     prod = production.run(case, props, st, warns, _Null(), lambda n: None)
     t_energy = time.perf_counter() - t0
     t0 = time.perf_counter()
-    model = sizing.DiameterModel(case, props, prod, case_loss=st.head_loss)
+    speeds, table = hammer.wave_speeds(case, props, warns, _Null())
+    lengths = (table["to chainage [m]"] - table["from chainage [m]"]).to_numpy()
+    model = sizing.DiameterModel(case, props, prod, case_loss=st.head_loss,
+                                 wave_speed=surge.equivalent_wave_speed(lengths, speeds))
     lo, hi = model.bounds()
     d = np.geomspace(lo, hi, 200)
     cost = model.annualized(d)["total"]

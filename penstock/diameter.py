@@ -32,6 +32,8 @@ from ._numeric import same_kind as _finish
 __all__ = [
     "EMPIRICAL_DIAMETER_METHODS",
     "SIZE_SERIES",
+    "SWEEP_VELOCITIES",
+    "USUAL_PENSTOCK_VELOCITY",
     "AnnualCostModel",
     "OneAtATimeRow",
     "OptimumDiameter",
@@ -162,6 +164,15 @@ def fahlbusch_diameter(power, net_head):
     p = _positive("power", power, "W") / _KW
     h = _positive("net_head", net_head, "m")
     return _finish(0.52 * h**-0.17 * (p / h) ** 0.43, power, net_head)
+
+
+#: Usual range of the mean velocity in steel penstocks at the design flow, outside which
+#: a run cautions (common practice, from memory). [m/s]
+USUAL_PENSTOCK_VELOCITY = (2.0, 6.0)
+
+#: Mean velocities at the design flow whose diameters bound the default diameter sweep,
+#: (small-diameter end, large-diameter end) (common practice, from memory). [m/s]
+SWEEP_VELOCITIES = (6.0, 1.5)
 
 
 def economic_velocity_diameter(flow, velocity=3.0):

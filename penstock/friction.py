@@ -41,6 +41,7 @@ __all__ = [
     "friction_factor",
     "head_loss",
     "material_roughness",
+    "outside_published_range",
     "reynolds",
     "swamee_jain",
 ]
@@ -69,7 +70,19 @@ class ConvergenceError(ValueError):
 
 
 class CorrelationRangeWarning(UserWarning):
-    """A correlation is used outside the range in which it was published."""
+    """A correlation is used outside the range in which it was published.
+
+    Besides its message it carries, for the caller's caution, the ``method`` and the
+    ranges of Reynolds number and relative roughness met outside the published ones
+    (``reynolds_seen``, ``relative_roughness_seen``: (low, high) tuples).
+    """
+
+    def __init__(self, message, method=None, reynolds_seen=None,
+                 relative_roughness_seen=None):
+        super().__init__(message)
+        self.method = method
+        self.reynolds_seen = reynolds_seen
+        self.relative_roughness_seen = relative_roughness_seen
 
 
 # --- numeric in, same kind out -----------------------------------------------------------
@@ -442,16 +455,60 @@ def flow_regime(reynolds):
     return str(regime) if regime.ndim == 0 else regime
 
 
+def outside_published_range(reynolds, relative_roughness, method="colebrook"):
+    """Where a turbulent friction correlation is used outside its published range.
+
+    Parameters
+    ----------
+    reynolds : array_like
+        Reynolds number, >= 0. [-]
+    relative_roughness : array_like
+        Absolute roughness over internal diameter, 0 to 1. [-]
+    method : str, optional
+        A key of :data:`FRICTION_METHODS`. [-]
+
+    Returns
+    -------
+    numpy.ndarray of bool
+        True where the flow is turbulent (Re >= :data:`TURBULENT_LIMIT`) and the Reynolds
+        number or the relative roughness lies outside the method's
+        ``reynolds_range`` or ``relative_roughness_range``; laminar and transitional
+        elements are never outside (they do not use the correlation), in the broadcast
+        shape of the inputs.
+
+    Notes
+    -----
+    :func:`friction_factor` warns (:class:`CorrelationRangeWarning`) where this is true
+    anywhere; callers that know where their elements lie use it to say where.
+
+    References
+    ----------
+    .. [1] Moody, L. F., "Friction factors for pipe flow", *Transactions of the ASME*
+       66(8), 671-684, 1944 (the range of the chart, Fig. 1); the ranges of each method
+       and their sources are in :data:`FRICTION_METHODS`.
+    """
+    entry = _method(method)
+    re, rr, shape = _reynolds_and_roughness(reynolds, relative_roughness)
+    return _outside(entry, re, rr).reshape(shape)
+
+
+def _outside(entry, re, rr):
+    (re_low, re_high), (rr_low, rr_high) = entry.reynolds_range, entry.relative_roughness_range
+    return (re >= TURBULENT_LIMIT) & ((re < re_low) | (re > re_high) | (rr < rr_low)
+                                      | (rr > rr_high))
+
+
 def _warn_outside(entry, name, re, rr):
     """Warn once if turbulent elements lie outside the method's published range."""
     (re_low, re_high), (rr_low, rr_high) = entry.reynolds_range, entry.relative_roughness_range
-    outside = (re < re_low) | (re > re_high) | (rr < rr_low) | (rr > rr_high)
+    outside = _outside(entry, re, rr)
     if outside.any():
-        warnings.warn(
+        warnings.warn(CorrelationRangeWarning(
             f"friction_factor: {int(outside.sum())} turbulent element(s) lie outside the "
             f"published range of method {name!r} (Re {re_low:g}..{re_high:g}, "
             f"relative roughness {rr_low:g}..{rr_high:g}); the correlation is extrapolated",
-            CorrelationRangeWarning,
+            method=name, reynolds_seen=(float(re[outside].min()), float(re[outside].max())),
+            relative_roughness_seen=(float(rr[outside].min()), float(rr[outside].max()))),
             stacklevel=3,
         )
 

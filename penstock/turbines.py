@@ -38,6 +38,8 @@ __all__ = [
     "units_running",
     "TURBINE_TYPES",
     "TurbineCandidate",
+    "ApplicationRanges",
+    "application_ranges",
     "DispatchResult",
     "specific_speed",
     "dimensionless_specific_speed",
@@ -343,6 +345,60 @@ def dimensionless_specific_speed(rotational_speed, flow, net_head):
     return _same_kind(rotational_speed, n * np.sqrt(q) / (GRAVITY * h) ** 0.75)
 
 
+class ApplicationRanges(NamedTuple):
+    """Where a duty lies against a turbine type's application ranges
+    (:func:`application_ranges`)."""
+
+    head_in_range: bool
+    flow_in_range: bool
+    #: False when no specific speed was given.
+    specific_speed_in_range: bool
+    head_range: tuple       # [m]
+    flow_range: tuple       # per unit [m^3/s]
+    specific_speed_range: tuple   # metric n_s (rev/min, kW, m) [-]
+
+
+def application_ranges(turbine_type, net_head, flow, specific_speed=float("nan")):
+    """Check a duty against the application ranges of a turbine type.
+
+    Parameters
+    ----------
+    turbine_type : str
+        A key of :data:`TURBINE_TYPES`. [-]
+    net_head : float
+        Net head. [m]
+    flow : float
+        Flow per unit. [m^3/s]
+    specific_speed : float, optional
+        Metric specific speed n·√P/H^(5/4) (rev/min, kW, m); NaN (the default) leaves it
+        unchecked. [-]
+
+    Returns
+    -------
+    ApplicationRanges
+        Whether each quantity lies inside its range (ends included), and the ranges.
+
+    Notes
+    -----
+    The ranges are the ``head_range``, ``flow_range`` and ``specific_speed_range`` of
+    :data:`TURBINE_TYPES`, with the sources named there. They are screening ranges: the
+    types overlap, and the manufacturers' charts decide.
+
+    References
+    ----------
+    .. [1] ESHA (2004). Guide on How to Develop a Small Hydropower Plant. European Small
+       Hydropower Association, Chapter 6 (the ranges, as cited in :data:`TURBINE_TYPES`).
+    """
+    entry = _turbine(turbine_type)
+    head, flows, speeds = (entry["head_range"], entry["flow_range"],
+                           entry["specific_speed_range"])
+    return ApplicationRanges(
+        head_in_range=bool(head[0] <= net_head <= head[1]),
+        flow_in_range=bool(flows[0] <= flow <= flows[1]),
+        specific_speed_in_range=bool(speeds[0] <= specific_speed <= speeds[1]),
+        head_range=tuple(head), flow_range=tuple(flows), specific_speed_range=tuple(speeds))
+
+
 class TurbineCandidate(NamedTuple):
     """One ranked entry of :func:`suggest_turbine_types`."""
 
@@ -396,19 +452,19 @@ def suggest_turbine_types(net_head, flow, rotational_speed=None, density=1000.0,
         raise ValueError("net_head, flow: expected positive values")
     candidates = []
     for name, entry in TURBINE_TYPES.items():
-        low, high = entry["head_range"]
-        if not low <= net_head <= high:
-            continue
-        score = _centrality(net_head, entry["head_range"])
-        score += _centrality(flow, entry["flow_range"])
-        flow_ok = entry["flow_range"][0] <= flow <= entry["flow_range"][1]
-        ns, ns_ok = float("nan"), False
+        ns = float("nan")
         if rotational_speed is not None:
             power = density * GRAVITY * flow * net_head * efficiency
             ns = float(specific_speed(rotational_speed, power, net_head))
-            ns_ok = entry["specific_speed_range"][0] <= ns <= entry["specific_speed_range"][1]
+        fits = application_ranges(name, net_head, flow, ns)
+        if not fits.head_in_range:
+            continue
+        score = _centrality(net_head, entry["head_range"])
+        score += _centrality(flow, entry["flow_range"])
+        if rotational_speed is not None:
             score += _centrality(ns, entry["specific_speed_range"])
-        candidates.append(TurbineCandidate(name, float(score), bool(flow_ok), ns, bool(ns_ok)))
+        candidates.append(TurbineCandidate(name, float(score), fits.flow_in_range, ns,
+                                           fits.specific_speed_in_range))
     return sorted(candidates, key=lambda c: -c.score)
 
 

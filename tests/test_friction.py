@@ -26,6 +26,7 @@ from penstock.friction import (
     friction_factor,
     head_loss,
     material_roughness,
+    outside_published_range,
     reynolds,
     swamee_jain,
 )
@@ -178,6 +179,32 @@ def test_friction_factor_methods_agree_in_turbulent_range():
     assert friction_factor(1e6, 1e-4, method="swamee_jain") == pytest.approx(
         friction_factor(1e6, 1e-4), rel=0.01
     )
+
+
+def test_outside_published_range_follows_the_moody_chart_limits():
+    # Colebrook-White's range is that of the Moody (1944) chart, Trans. ASME 66(8), Fig. 1:
+    # Re 4e3 to 1e8, relative roughness up to 0.05
+    got = outside_published_range([1e3, 3e3, 1e5, 1e5, 2e8, 1e8], [0.1, 0.1, 0.05, 0.051,
+                                                                       1e-4, 1e-4])
+    assert got.tolist() == [False, False, False, True, True, False]
+    assert outside_published_range(1e5, 5e-7, method="swamee_jain")  # below 1e-6
+    assert outside_published_range(np.full((2, 3), 1e5), 0.06).shape == (2, 3)
+
+
+@settings(max_examples=60, deadline=None)
+@given(re=st.lists(st.floats(1.0, 1e9), min_size=1, max_size=8),
+       rr=st.floats(0.0, 0.2), method=st.sampled_from(sorted(FRICTION_METHODS)))
+def test_friction_factor_warns_exactly_where_outside_published_range(re, rr, method):
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        friction_factor(re, rr, method=method)
+    ranged = [w for w in caught if issubclass(w.category, CorrelationRangeWarning)]
+    outside = outside_published_range(re, rr, method)
+    assert bool(ranged) == bool(outside.any())
+    if ranged:
+        w = ranged[0].message
+        assert w.method == method
+        assert w.reynolds_seen == (min(np.asarray(re)[outside]), max(np.asarray(re)[outside]))
 
 
 def test_friction_factor_warns_outside_published_range():

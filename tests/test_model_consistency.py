@@ -179,6 +179,55 @@ def test_range_warnings_reach_the_cautions(monkeypatch, tmp_path):
     assert msgs.str.contains("energy: turbine correlation used outside its range").sum() == 1
 
 
+def test_friction_range_cautions_name_the_chainage_and_the_flow(tmp_path):
+    """A pipe rougher than the Moody chart's relative roughness 0.05 (the published range
+    of Colebrook-White, Moody 1944): one caution per study flow, new and aged, naming the
+    stretch and the flow, and no unlocated copy from the stages that run the same pipe."""
+    folder = copy_demo("alder-gorge-high-head", tmp_path)
+    edit_file(folder / "site.toml", 'diameter = "1.0 m"\nmaterial = "welded_steel"\n',
+              'diameter = "0.96 m"\nmaterial = "welded_steel"\nroughness = "50 mm"\n')
+    r = run_case(penstock.load_case(folder), samples=0)
+    w = r.cautions[r.cautions["topic"] == "range"]
+    located = w[w["message"].str.contains("extrapolated from")]
+    cases = r.pressure_checks.drop_duplicates("flow case")
+    assert len(located) == len(cases)
+    assert (located["chainage [m]"] == 1600.0).all()
+    assert sorted(located["flow [m^3/s]"]) == sorted(cases["flow [m^3/s]"])
+    assert located["message"].str.contains("from 1600.0 m to 3100.0 m").all()
+    assert located["message"].str.contains("after").sum() == 2   # the aged pipe's flows
+    assert not w["message"].str.startswith(("steady hydraulics:", "water hammer:")).any()
+
+
+def test_other_stages_range_warnings_are_one_merged_caution():
+    """A stage that is not located by the steady stage (here a stand-in diameter study)
+    gives one caution per method with the range met."""
+    from penstock.friction import friction_factor
+    from penstock.model import _caught
+
+    warns = []
+
+    def stage():
+        friction_factor([1e5, 2e5], [0.06, 0.08])
+        friction_factor(3e5, 0.07)
+        return "done"
+
+    assert _caught("diameter study", stage, warns) == "done"
+    assert len(warns) == 1
+    msg = warns[0].message
+    assert msg.startswith("diameter study: the colebrook friction factor is extrapolated "
+                          "for the candidate diameters")
+    assert "Re 1e+05–3e+05" in msg and "relative roughness 0.06–0.08" in msg
+
+
+def test_turbine_flow_outside_its_range_is_cautioned(tmp_path):
+    folder = copy_demo("millrace-flats-low-head", tmp_path)
+    edit_file(folder / "site.toml", 'design = "18 m^3/s"\nmaximum = "19 m^3/s"',
+              'design = "0.8 m^3/s"\nmaximum = "0.85 m^3/s"')   # 0.4 m^3/s per Kaplan unit
+    r = run_case(penstock.load_case(folder), samples=0)
+    msgs = r.cautions.loc[r.cautions["topic"] == "turbine", "message"]
+    assert msgs.str.contains("rated flow per unit .* is outside the usual").sum() == 1
+
+
 def test_check_case_returns_without_heavy_stages():
     for name in DEMO_CASES:
         check_case(penstock.load_case(CASES / name))
@@ -225,6 +274,16 @@ def test_model_holds_no_physical_constant_or_formula(path):
                 and isinstance(n.value, float)]
     for factor in (3.6e6, 3.6e9, 9.81, 9.80665, 0.3048, 0.0254, 8760.0, 3600.0):
         assert factor not in literals, f"{path.name} holds the literal {factor}"
+    # no data table: a module-level tuple, list or dict of numbers (a range of common
+    # practice, a coefficient table) belongs in a physics module
+    for node in tree.body:
+        if isinstance(node, (ast.Assign, ast.AnnAssign)) and isinstance(
+                node.value, (ast.Tuple, ast.List, ast.Dict)):
+            items = (node.value.values if isinstance(node.value, ast.Dict)
+                     else node.value.elts)
+            numbers = [v for v in items if isinstance(v, ast.Constant)
+                       and isinstance(v.value, (int, float))]
+            assert not numbers, f"{path.name}:{node.lineno} holds a table of numbers"
 
 
 def test_energy_lost_with_a_draft_tube_is_the_penstock_loss_only(demos):

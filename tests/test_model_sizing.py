@@ -14,9 +14,9 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import penstock
-from penstock import water
+from penstock import surge, water
 from penstock.materials import get_material
-from penstock.model import production, sizing, steady
+from penstock.model import hammer, production, sizing, steady
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 
@@ -34,7 +34,10 @@ def model():
     warns, methods = [], type("M", (), {"add": lambda *a: None})()
     st_ = steady.run(case, props, warns, methods, lambda n: None)
     prod = production.run(case, props, st_, warns, methods, lambda n: None)
-    return sizing.DiameterModel(case, props, prod, case_loss=st_.head_loss)
+    speeds, table = hammer.wave_speeds(case, props, warns, methods)
+    lengths = (table["to chainage [m]"] - table["from chainage [m]"]).to_numpy()
+    return sizing.DiameterModel(case, props, prod, case_loss=st_.head_loss,
+                                wave_speed=surge.equivalent_wave_speed(lengths, speeds))
 
 
 @pytest.mark.parametrize("d", [0.75, 0.9, 1.05, 1.3])

@@ -70,6 +70,25 @@ def test_suggest_turbine_types_uses_head_ranges(head, flow, first, members):
     assert scores == sorted(scores, reverse=True)
 
 
+def test_application_ranges_include_the_ends_and_agree_with_the_ranking():
+    entry = tu.TURBINE_TYPES["francis"]
+    (h0, h1), (q0, q1), (n0, n1) = (entry["head_range"], entry["flow_range"],
+                                    entry["specific_speed_range"])
+    at_ends = tu.application_ranges("francis", h0, q1, n0)
+    assert at_ends.head_in_range and at_ends.flow_in_range and at_ends.specific_speed_in_range
+    beyond = tu.application_ranges("francis", h1 * 1.01, q0 * 0.99, n1 * 1.01)
+    assert not (beyond.head_in_range or beyond.flow_in_range
+                or beyond.specific_speed_in_range)
+    assert not tu.application_ranges("francis", h0, q0).specific_speed_in_range  # unchecked
+    for c in tu.suggest_turbine_types(100.0, 0.25, rotational_speed=750.0):
+        fits = tu.application_ranges(c.turbine_type, 100.0, 0.25, c.specific_speed)
+        assert fits.head_in_range
+        assert (fits.flow_in_range, fits.specific_speed_in_range) == (
+            c.flow_in_range, c.specific_speed_in_range)
+    with pytest.raises(ValueError, match="unknown type"):
+        tu.application_ranges("bulb", 10.0, 1.0)
+
+
 def test_suggest_turbine_types_none_fit():
     assert tu.suggest_turbine_types(1.0, 1.0) == []  # below every published head range
 

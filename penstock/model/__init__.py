@@ -14,9 +14,11 @@ from __future__ import annotations
 import datetime as _dt
 import warnings as _warnings
 
+import numpy as np
 import pandas as pd
 
 from .. import __version__, water
+from ..friction import FRICTION_METHODS, CorrelationRangeWarning
 from ..constants import J_PER_MWH
 from . import hammer, production, sizing, steady, uncertainty
 from .core import STANDING_CAUTION, TABLE_ORDER, Methods, Results, Warning_
@@ -110,21 +112,53 @@ def run_case(case, progress=None, samples=None, proceed=False) -> Results:
     )
 
 
+#: Stages whose friction-range warnings the steady stage already reports by chainage and
+#: flow: they run the case's own pipe at its study flows, new and aged.
+_LOCATED_BY_STEADY = ("steady hydraulics", "water hammer")
+
+#: What the other stages' friction factors concern, for their range cautions.
+_RANGE_CONCERNS = {"energy": "the pipe at the flows of the record",
+                   "diameter study": "the candidate diameters",
+                   "uncertainty": "the sampled roughness and flows"}
+
+
 def _caught(stage_name, stage, warns):
     """Run a stage, turning each warning a physics function raises (a correlation used
-    outside its range, for instance) into a caution, once per stage and message."""
+    outside its range, for instance) into a caution, once per stage and message.
+
+    Friction-range warnings of the stages in :data:`_LOCATED_BY_STEADY` are left to the
+    steady stage's own cautions, which name the chainage and the flow; those of the
+    other stages name what they concern and the range met."""
     with _warnings.catch_warnings(record=True) as caught:
         _warnings.simplefilter("always")
         out = stage()
-    seen = set()
+    seen, ranges = set(), {}
     for w in caught:
         if not issubclass(w.category, UserWarning):
             continue
-        text = str(w.message)
+        m = w.message
+        if isinstance(m, CorrelationRangeWarning) and m.reynolds_seen is not None:
+            if stage_name not in _LOCATED_BY_STEADY:   # one caution per method, ranges merged
+                lo_re, hi_re, lo_rr, hi_rr = ranges.get(m.method, (np.inf, -np.inf) * 2)
+                ranges[m.method] = (min(lo_re, m.reynolds_seen[0]),
+                                    max(hi_re, m.reynolds_seen[1]),
+                                    min(lo_rr, m.relative_roughness_seen[0]),
+                                    max(hi_rr, m.relative_roughness_seen[1]))
+            continue
+        text = str(m)
         if text in seen:
             continue
         seen.add(text)
         warns.append(Warning_("range", f"{stage_name}: {text}"))
+    for method, (lo_re, hi_re, lo_rr, hi_rr) in ranges.items():
+        entry = FRICTION_METHODS[method]
+        warns.append(Warning_("range", f"{stage_name}: the {method} friction factor is "
+                              f"extrapolated for {_RANGE_CONCERNS.get(stage_name, 'this stage')}"
+                              f", at Re {lo_re:.3g}–{hi_re:.3g} and relative roughness "
+                              f"{lo_rr:.3g}–{hi_rr:.3g}, outside its published Re "
+                              f"{entry.reynolds_range[0]:g}–{entry.reynolds_range[1]:g} and "
+                              f"relative roughness {entry.relative_roughness_range[0]:g}–"
+                              f"{entry.relative_roughness_range[1]:g}"))
     return out
 
 

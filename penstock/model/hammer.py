@@ -73,7 +73,8 @@ class MocPipes:
                     velocity_heads=True, time_step=g.time_step)
 
 
-def _wave_speeds(case, props, warns, methods):
+def wave_speeds(case, props, warns, methods):
+    """Wave speed of each pipe segment [m/s] and its table (one row per ``[[pipe]]``)."""
     s = case.surge
     rows, speeds = [], []
     for i, seg in enumerate(case.segments, start=1):
@@ -180,7 +181,7 @@ def _pipes(case, props, route, warns, methods) -> MocPipes:
     series = transients.series_pipes(route.length, route.element_segment, route.k,
                                      route.reference_area)
     segs = case.segments
-    speeds, wave_table = _wave_speeds(case, props, warns, methods)
+    speeds, wave_table = wave_speeds(case, props, warns, methods)
     axis = np.concatenate([[0.0], np.cumsum(route.length)])
     return MocPipes(
         series=series, diameter=np.array([segs[i].diameter for i in series.segment]),

@@ -300,12 +300,19 @@ def _turbine_choice(case, net_head, q_unit, power_unit, rho, warns, methods):
                      "chosen": c.turbine_type == ttype})
     methods.add("Turbine type", "application ranges of head, flow and metric specific speed "
                 "n_s = n·√P/H^(5/4)", TURBINE_TYPES[ttype]["sources"]["head_range"])
-    lo, hi = TURBINE_TYPES[ttype]["head_range"]
-    if not lo <= net_head <= hi:
-        warns.append(Warning_("turbine", f"net head {net_head:.1f} m is outside the usual "
-                              f"{lo:g}–{hi:g} m range of a {ttype} turbine"))
-    slo, shi = TURBINE_TYPES[ttype]["specific_speed_range"]
-    if not slo <= ns <= shi:
+    fits = turbines.application_ranges(ttype, net_head, q_unit, ns)
+    (lo, hi), (slo, shi) = fits.head_range, fits.specific_speed_range
+    say = Say(case.unit_system)
+    if not fits.head_in_range:
+        warns.append(Warning_("turbine", f"net head {say.m(net_head, 1)} is outside the usual "
+                              f"{say.m(lo, 0)} to {say.m(hi, 0)} range of a {ttype} turbine"))
+    if not fits.flow_in_range:
+        qlo, qhi = fits.flow_range
+        warns.append(Warning_("turbine", f"the rated flow per unit {say.q(q_unit)} is outside "
+                              f"the usual {say.q(qlo)} to {say.q(qhi)} range of a {ttype} "
+                              "turbine (read from an application-range chart)",
+                              flow=q_unit))
+    if not fits.specific_speed_in_range:
         warns.append(Warning_("turbine", f"specific speed {ns:.0f} at {speed:.0f} rpm is outside "
                               f"the {ttype} range {slo:g}–{shi:g}"))
     if assumed:
@@ -316,9 +323,10 @@ def _turbine_choice(case, net_head, q_unit, power_unit, rho, warns, methods):
     if ttype not in set(df["turbine type"]) if len(df) else True:
         df = pd.concat([df, pd.DataFrame([{
             "turbine type": ttype, "suitability score [-]": 0.0, "head range low [m]": lo,
-            "head range high [m]": hi, "flow in range": False,
+            "head range high [m]": hi, "flow in range": fits.flow_in_range,
             "specific speed n·√P/H^1.25 (rpm, kW, m) [-]": ns,
-            "specific speed in range": slo <= ns <= shi, "chosen": True}])], ignore_index=True)
+            "specific speed in range": fits.specific_speed_in_range, "chosen": True}])],
+            ignore_index=True)
     df["speed [rpm]"] = speed
     return df, speed
 

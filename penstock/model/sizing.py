@@ -45,9 +45,6 @@ from ..route import build_route
 from .core import Methods, Say, Warning_
 from .stages import SizingHeadline, SizingStage
 
-#: Velocities at the design flow that bound the default sweep (common practice).
-SWEEP_VELOCITIES = (6.0, 1.5)
-
 #: Diameters closer than this share (0.1 mm in 1 m) are one size. [-]
 SAME_SIZE = 1e-4
 
@@ -79,8 +76,8 @@ def _plates(case):
 class DiameterModel:
     """Cost components of a uniform-diameter penstock, vectorized over D."""
 
-    def __init__(self, case, props, prod, case_loss=None, roughness_years=None, n_grid=48,
-                 n_flow=512):
+    def __init__(self, case, props, prod, *, wave_speed, case_loss=None, roughness_years=None,
+                 n_grid=48, n_flow=512):
         self.case = case
         self.props = props
         self.roughness_years = roughness_years
@@ -118,9 +115,9 @@ class DiameterModel:
                           if case_loss is not None else None)
         self.moc_runs = {}   # diameter -> design head etc. (_moc_design_head)
         self.moc_reaches = None   # the water-hammer stage's grid; run() sets it
-        w_ = case.surge["wave_speed"]
-        # for the Joukowsky cap only; run() sets the case's computed value when it has one
-        self.wave_speed = w_ if w_ is not None else 1000.0
+        # the case's own pipe's equivalent wave speed, for the sweep's Allievi rise and its
+        # Joukowsky cap (each candidate's own rise comes from its MOC runs)
+        self.wave_speed = float(wave_speed)
 
     def _lost(self, weighted_head):
         """Mean annual energy [J/year] of Σ_t w_t·Q_t·η_t·h_t [m·m^3/s·year^-1]."""
@@ -138,8 +135,8 @@ class DiameterModel:
             return self._bounds
         st = self.case.diameter_study
         q = self.case.design_flow
-        lo = st["minimum"] or float(dia.economic_velocity_diameter(q, SWEEP_VELOCITIES[0]))
-        hi = st["maximum"] or float(dia.economic_velocity_diameter(q, SWEEP_VELOCITIES[1]))
+        lo = st["minimum"] or float(dia.economic_velocity_diameter(q, dia.SWEEP_VELOCITIES[0]))
+        hi = st["maximum"] or float(dia.economic_velocity_diameter(q, dia.SWEEP_VELOCITIES[1]))
         lo = max(lo, self.smallest_workable())
         if hi <= lo:
             hi = 2.0 * lo
@@ -159,11 +156,16 @@ class DiameterModel:
         def excess(log_d):   # the loss falls steeply and monotonically with D
             return float(self.loss_on_grid(float(np.exp(log_d)), q)[0]) - 0.5 * gross
 
-        lo, hi = np.log(0.02), np.log(50.0)
+        # the probe starts where a pipe is still a pipe: 2 cm, and at least twice the
+        # largest roughness of the pipe new or at the end of its life
+        rough = max(float(np.max(self.route.roughness)), float(np.max(
+            self.route.aged_roughness(case.segments, case.service_life))))
+        smallest = max(0.02, 2.0 * rough)
+        lo, hi = np.log(smallest), np.log(50.0)
         with warnings.catch_warnings():   # a probe: far-off trial sizes leave the
             warnings.simplefilter("ignore")   # correlations' ranges, and no result uses them
             if excess(lo) <= 0:
-                self._workable = 0.02
+                self._workable = smallest
             else:
                 self._workable = float(np.exp(brentq(excess, lo, hi, xtol=1e-9)))
         return self._workable
@@ -323,16 +325,18 @@ def run(case, props, steady, prod, ham, warns, methods, tick) -> dict:
         return SizingStage()
     tick("diameter study")
     say = Say(case.unit_system)
+    table = ham.wave_speeds
     model = DiameterModel(case, props, prod, case_loss=steady.head_loss,
-                          roughness_years=steady.energy_roughness_years)
+                          roughness_years=steady.energy_roughness_years,
+                          wave_speed=surge.equivalent_wave_speed(
+                              (table["to chainage [m]"] - table["from chainage [m]"]).to_numpy(),
+                              table["wave speed [m/s]"].to_numpy()))
     # the candidates are ranked on the coarsest grid of the case's refinement (the rise,
     # which sets the wall, converges first); the case's own pipe has the converged grid
     model.moc_reaches = ham.screening_reaches
     methods.add("Diameter study, water hammer", f"each candidate's load rejections on the "
                 f"screening grid of {ham.screening_reaches} reaches (the case's own pipe: "
                 f"{ham.grid_reaches}, converged)", "see Water hammer, simulation")
-    if ham.wave_speeds is not None:   # the case's own wave speed, for Joukowsky's cap
-        model.wave_speed = float(ham.wave_speeds["wave speed [m/s]"].mean())
     lo, hi = model.bounds()
     st = case.diameter_study
     sizes = np.array(st["sizes"]) if st["sizes"] else dia.standard_sizes(

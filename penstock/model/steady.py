@@ -8,7 +8,8 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from .. import gradeline
+from .. import friction, gradeline
+from ..diameter import USUAL_PENSTOCK_VELOCITY
 from ..route import build_route
 from ..turbines import TURBINE_TYPES
 from .core import Say, Warning_
@@ -60,12 +61,14 @@ def run(case, props, warns, methods, tick, proceed=False) -> dict:
                 "doi:10.1680/ijoti.1939.13150")
     atm_head, vap_head = props.atmospheric_head, props.vapour_head
     sets = [(gl, flow_names)]
+    roughness_of_sets = [route.roughness]
     if any(seg.roughness_growth for seg in case.segments):
         years = case.service_life
         keep = [i for i, n in enumerate(flow_names) if n in ("design flow", "maximum plant flow")]
-        aged = route.grade_lines(flows[keep], case.headwater, nu,
-                                 route.aged_roughness(case.segments, years))
+        aged_roughness = route.aged_roughness(case.segments, years)
+        aged = route.grade_lines(flows[keep], case.headwater, nu, aged_roughness)
         sets.append((aged, [f"{flow_names[i]}, after {years:g} years" for i in keep]))
+        roughness_of_sets.append(aged_roughness)
         methods.add("Roughness ageing", f"linear growth of roughness with age, shown after "
                     f"{years:g} years", "Colebrook, C.F. & White, C.M. (1937). The reduction of "
                     "carrying capacity of pipes with age. J. ICE 7(1), 99–118; rates after "
@@ -78,6 +81,8 @@ def run(case, props, warns, methods, tick, proceed=False) -> dict:
                                          route.aged_roughness(case.segments, mid)),
                        [f"design flow, after {mid:g} years"])]
     _design_flow_exists(case, route, gl, flow_names, atm_head, vap_head, warns, proceed)
+    for (g, names), rough in zip(sets, roughness_of_sets, strict=True):
+        _correlation_ranges(case, route, g.flow, names, rough, nu, warns)
     drawdown = case.headwater - case.headwater_min
     grade = pd.concat([_grade_table(route, g, n, drawdown) for g, n in sets],
                       ignore_index=True)
@@ -313,15 +318,45 @@ def _loss_breakdown(case, route, gl, flow_names) -> pd.DataFrame:
     return pd.DataFrame(rows)
 
 
-#: Usual velocity range in steel penstocks at the design flow (common practice).
-VELOCITY_RANGE = (2.0, 6.0)
+def _correlation_ranges(case, route, flows, flow_names, roughness, nu, warns,
+                        method="colebrook"):
+    """One caution per flow and stretch of pipe where the friction correlation is used
+    outside its published range (:func:`penstock.friction.outside_published_range`).
+
+    The study flows span the plant's flows and the pipe new and aged, so these stand for
+    the range warnings of every stage that runs the case's own pipe at them."""
+    say = Say(case.unit_system)
+    reach = route.length > 0
+    d = route.diameter[reach]
+    x0, x1 = route.chainage[:-1][reach], route.chainage[1:][reach]
+    re = friction.reynolds(gradeline.mean_velocity(np.asarray(flows)[:, None], d[None, :]),
+                           d[None, :], nu)
+    rr = np.broadcast_to(np.asarray(roughness)[reach] / d, re.shape)
+    out = friction.outside_published_range(re, rr, method)
+    entry = friction.FRICTION_METHODS[method]
+    (re_lo, re_hi), (rr_lo, rr_hi) = entry.reynolds_range, entry.relative_roughness_range
+    for q, name, hit, re_q, rr_q in zip(flows, flow_names, out, re, rr, strict=True):
+        idx = np.flatnonzero(hit)
+        if idx.size == 0:
+            continue
+        # consecutive flagged reaches (a local loss between them has no length) join
+        breaks = np.flatnonzero(x0[idx[1:]] > x1[idx[:-1]] + 1e-9) + 1
+        for run in np.split(idx, breaks):
+            a, b = float(x0[run[0]]), float(x1[run[-1]])
+            warns.append(Warning_(
+                "range", f"{name} ({say.q(q)}): the Colebrook–White friction factor is "
+                f"extrapolated from {say.ch(a)} to {say.ch(b)}, at Re "
+                f"{re_q[run].min():.3g}–{re_q[run].max():.3g} and relative roughness "
+                f"{rr_q[run].min():.3g}–{rr_q[run].max():.3g}, outside its published "
+                f"Re {re_lo:g}–{re_hi:g} and relative roughness {rr_lo:g}–{rr_hi:g}",
+                chainage=a, flow=float(q)))
 
 
 def _velocity_checks(case, route, flows, flow_names, warns):
     q = case.design_flow
     for i, seg in enumerate(case.segments, start=1):
         v = q / seg.area
-        lo, hi = VELOCITY_RANGE
+        lo, hi = USUAL_PENSTOCK_VELOCITY
         if not lo <= v <= hi:
             warns.append(Warning_("velocity", f"velocity {v:.2f} m/s in pipe {i} at the design "
                                   f"flow is outside the usual {lo:g}–{hi:g} m/s range for "
