@@ -213,8 +213,6 @@ class SeriesPipes:
         Loss coefficient at each junction. [s^2/m^5]
     outlet_loss : float
         Loss coefficient just upstream of the orifice. [s^2/m^5]
-    moved : tuple of (float, float)
-        (position given, position used) of each local loss moved to a pipe end. [m]
     """
 
     length: np.ndarray
@@ -223,10 +221,9 @@ class SeriesPipes:
     inlet_loss: float
     junction_loss: np.ndarray
     outlet_loss: float
-    moved: tuple
 
 
-def series_pipes(length, element_segment, k, reference_area, lump_length=0.0):
+def series_pipes(length, element_segment, k, reference_area):
     """Split a route's chain of elements into MOC pipes at its local losses.
 
     Parameters
@@ -239,10 +236,6 @@ def series_pipes(length, element_segment, k, reference_area, lump_length=0.0):
         Local-loss coefficient of each element (0 for a pipe reach). [-]
     reference_area : array_like, shape (n_element,)
         Area whose velocity head ``k`` refers to. [m^2]
-    lump_length : float, default 0
-        A local loss closer than this to the reservoir, to the orifice, to a change of
-        segment or to another loss is moved there, so that no pipe is shorter than this
-        (a very short pipe sets a very short time step for the whole run). [m]
 
     Returns
     -------
@@ -252,9 +245,9 @@ def series_pipes(length, element_segment, k, reference_area, lump_length=0.0):
     -----
     A local loss :math:`h = K V_K^2/(2g)` stands as :math:`c\\,Q|Q|` with
     :math:`c = K/(2gA_K^2)` at a boundary between two pipes, so that it acts where it is
-    (Wylie & Streeter 1993 §3.5 treat a local loss as its own boundary [1]_). Moving a
-    loss by at most ``lump_length`` changes the steady grade line only over that
-    stretch, by the friction slope times the move; the loss itself is unchanged.
+    (Wylie & Streeter 1993 §3.5 treat a local loss as its own boundary [1]_). Losses at
+    the same position add; a loss at the reservoir or at the orifice joins that boundary.
+    :func:`gridded_pipes` then moves each loss to the nearest node of its grid.
     """
     el = np.asarray(length, dtype=float)
     es = np.asarray(element_segment, dtype=int)
@@ -268,23 +261,10 @@ def series_pipes(length, element_segment, k, reference_area, lump_length=0.0):
     # segment boundaries along the axis: where the segment of consecutive reaches changes
     rs, rp = es[reach], pos[reach]
     bounds = [float(rp[i]) for i in range(1, rs.size) if rs[i] != rs[i - 1]]
-    lump = float(lump_length)
-    losses = [(float(pos[j]), float(kk[j]) / (2.0 * GRAVITY * float(ak[j]) ** 2))
-              for j in np.flatnonzero(~reach & (kk > 0))]
     points = {0.0: 0.0, total: 0.0, **{b: 0.0 for b in bounds}}
-    moved = []
-    for x, c in sorted(losses):
-        # the nearest existing point within reach takes it (ends first)
-        if x <= lump:
-            to = 0.0
-        elif x >= total - lump:
-            to = total
-        else:
-            near = min(points, key=lambda p: abs(p - x))
-            to = near if abs(near - x) < lump else x
-        if to != x:
-            moved.append((x, to))
-        points[to] = points.get(to, 0.0) + c
+    for j in np.flatnonzero(~reach & (kk > 0)):
+        x = min(max(float(pos[j]), 0.0), total)
+        points[x] = points.get(x, 0.0) + float(kk[j]) / (2.0 * GRAVITY * float(ak[j]) ** 2)
     cuts = np.array(sorted(points))
     lengths = np.diff(cuts)
     starts = cuts[:-1]
@@ -294,7 +274,7 @@ def series_pipes(length, element_segment, k, reference_area, lump_length=0.0):
     return SeriesPipes(length=lengths, start=starts, segment=rs[idx],
                        inlet_loss=points[0.0],
                        junction_loss=np.array([points[c] for c in cuts[1:-1]]),
-                       outlet_loss=points[total], moved=tuple(moved))
+                       outlet_loss=points[total])
 
 
 @dataclass(frozen=True)
@@ -337,7 +317,7 @@ def gridded_pipes(series, segment_wave_speeds, total_reaches,
     Parameters
     ----------
     series : SeriesPipes
-        The route split at its local losses (``lump_length`` 0: every loss where it is). [-]
+        The route split at its local losses. [-]
     segment_wave_speeds : array_like
         Wave speed of each route segment. [m/s]
     total_reaches : int

@@ -98,6 +98,20 @@ def test_no_head_below_vapour_pressure_is_shown_unmarked(runs):
     assert r.cautions["message"].str.contains("column separation is predicted").any()
 
 
+@pytest.mark.parametrize("name", DEMOS)
+def test_wave_speed_sensitivity_reads_the_envelope_as_the_envelope_sheet(runs, name):
+    """At 100 % of the computed wave speeds the sensitivity row is the design-flow
+    rejection of the envelope table: the same rise, crown minimum and its chainage."""
+    r = runs[name]
+    row = r.wave_speed_sensitivity.set_index("wave speeds [% of computed]").loc[100.0]
+    env = r.transient_envelope[r.transient_envelope["rejection from"] == "design flow"]
+    assert row[CROWN_MINIMUM] == env[CROWN_MINIMUM].min()
+    assert row["at chainage [m]"] == env["chainage [m]"].iloc[env[CROWN_MINIMUM].argmin()]
+    assert row["column separation (vapour pressure reached) [-]"] == bool(
+        env["column separation (vapour pressure reached) [-]"].any())
+    assert row["maximum transient rise [m]"] >= env["maximum transient rise [m]"].max() - 1e-9
+
+
 def test_rejection_from_the_maximum_plant_flow_by_default(runs):
     r = runs["alder-gorge-high-head"]
     assert r.case.maximum_flow > r.case.design_flow

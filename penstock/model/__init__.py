@@ -18,8 +18,8 @@ import numpy as np
 import pandas as pd
 
 from .. import __version__, water
-from ..friction import FRICTION_METHODS, CorrelationRangeWarning
 from ..constants import J_PER_MWH
+from ..friction import FRICTION_METHODS, CorrelationRangeWarning
 from . import hammer, production, sizing, steady, uncertainty
 from .core import STANDING_CAUTION, TABLE_ORDER, Methods, Results, Warning_
 from .stages import Headline, stage_tables

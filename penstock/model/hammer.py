@@ -393,28 +393,14 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
                               "the run"))
     atm_head, vap_head = props.atmospheric_head, props.vapour_head
     floor = vap_head - atm_head                   # gauge head at vapour pressure
-    drawdown = case.headwater - case.headwater_min
-    starts = np.array([seg.start for seg in case.segments[1:]])
-    d_seg = np.array([seg.diameter for seg in case.segments])
     env_rows = []
     design_head = None
     separated = []
     for q, res, label in results:
-        pos = _positions(res.chainage, route_s)
-        x = pipes.to_x(pos)
-        z = np.interp(x, case.profile["chainage"], case.profile["elevation"])
         name = ("design flow" if q is q_d and not label else f"{q:.4g} m^3/s{label}")
-        # a node at a diameter step takes the larger pipe, whose crown is higher
-        tol = 1e-6 * max(1.0, float(np.max(np.abs(x))))
-        d_node = np.maximum(d_seg[np.searchsorted(starts, x - tol, side="left")],
-                            d_seg[np.searchsorted(starts, x + tol, side="right")])
-        h_min = transients.envelope_at(res, pos, "min")
-        h_max = transients.envelope_at(res, pos, "max")
-        h_0 = transients.envelope_at(res, pos, "steady")
-        # the crown at the minimum headwater: conservative as in the steady checks
-        computed = gradeline.crown_pressure_head(h_min - z, d_node, drawdown)
-        cavity = computed <= floor
-        pmin = np.maximum(computed, floor)        # no head below vapour pressure is shown
+        e = _crown_envelope(case, pipes, res, route_s, floor)
+        x, z, d_node, h_min, h_max, h_0 = e.x, e.z, e.d_node, e.h_min, e.h_max, e.h_0
+        cavity, pmin = e.cavity, e.crown_min
         if cavity.any():
             separated.append(q)
         rise = np.maximum(h_max - h_0, 0.0)
@@ -455,7 +441,7 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
                               "valves, a slower closure, a surge tank) and re-check"))
     envelope = pd.concat(env_rows, ignore_index=True)
     sensitivity = _wave_speed_sensitivity(case, props, pipes, reaches, law, route_s, main,
-                                          drawdown, d_seg, starts)
+                                          floor)
     # the worst of every rejection (the design flow, the maximum plant flow, aged, listed)
     rise_valve = max(float(res.max_head_rise.max()) for _, res, _ in results)
     rows += [("simulated maximum transient rise (largest at any node, any rejection)",
@@ -560,10 +546,47 @@ def _positions(nodes, vertices):
     return pos[np.concatenate([[True], np.diff(pos) > 1e-6])]
 
 
-def _wave_speed_sensitivity(case, props, pipes, reaches, law, route_s, main, drawdown, d_seg,
-                            starts):
+@dataclass(frozen=True)
+class CrownEnvelope:
+    """One rejection's envelopes read at every node and route vertex, and the pressure
+    head at the crown with the headwater at its minimum (arrays along the route)."""
+
+    x: np.ndarray          # chainage [m]
+    z: np.ndarray          # pipe centreline elevation [m]
+    d_node: np.ndarray     # inside diameter; the larger pipe at a step [m]
+    h_min: np.ndarray      # minimum head [m]
+    h_max: np.ndarray      # maximum head [m]
+    h_0: np.ndarray        # initial steady head [m]
+    cavity: np.ndarray     # the crown reaches vapour pressure [-]
+    crown_min: np.ndarray  # minimum gauge head at the crown, floored at vapour [m]
+
+
+def _crown_envelope(case, pipes, res, route_s, floor) -> CrownEnvelope:
+    """The envelopes of ``res`` at every node and vertex, and the crown's minimum pressure
+    head at the minimum headwater (the basis of the steady checks), floored at the vapour
+    pressure head ``floor`` (gauge) [m]."""
+    pos = _positions(res.chainage, route_s)
+    x = pipes.to_x(pos)
+    z = np.interp(x, case.profile["chainage"], case.profile["elevation"])
+    starts = np.array([seg.start for seg in case.segments[1:]])
+    d_seg = np.array([seg.diameter for seg in case.segments])
+    # a node at a diameter step takes the larger pipe, whose crown is higher
+    tol = 1e-6 * max(1.0, float(np.max(np.abs(x))))
+    d_node = np.maximum(d_seg[np.searchsorted(starts, x - tol, side="left")],
+                        d_seg[np.searchsorted(starts, x + tol, side="right")])
+    h_min = transients.envelope_at(res, pos, "min")
+    computed = gradeline.crown_pressure_head(h_min - z, d_node,
+                                             case.headwater - case.headwater_min)
+    return CrownEnvelope(x=x, z=z, d_node=d_node, h_min=h_min,
+                         h_max=transients.envelope_at(res, pos, "max"),
+                         h_0=transients.envelope_at(res, pos, "steady"),
+                         cavity=computed <= floor, crown_min=np.maximum(computed, floor))
+
+
+def _wave_speed_sensitivity(case, props, pipes, reaches, law, route_s, main, floor):
     """The design-flow rejection with every wave speed 15 % lower and higher (at most that
-    of a rigid pipe): the largest rise and the lowest crown pressure head."""
+    of a rigid pipe): the largest rise and the lowest crown pressure head (floored at
+    vapour pressure, as on the envelope)."""
     rigid = float(wavespeed.rigid_pipe_wave_speed(props.bulk_modulus, props.density))
     rows = []
     for factor in (0.85, 1.0, 1.15):
@@ -576,19 +599,13 @@ def _wave_speed_sensitivity(case, props, pipes, reaches, law, route_s, main, dra
                                       reservoir_head=case.headwater,
                                       tailwater_head=pipes.downstream, flow=case.design_flow,
                                       **law)
-        pos = _positions(res.chainage, route_s)
-        x = pipes.to_x(pos)
-        z = np.interp(x, case.profile["chainage"], case.profile["elevation"])
-        d_node = np.maximum(d_seg[np.searchsorted(starts, x, side="left")],
-                            d_seg[np.searchsorted(starts, x, side="right")])
-        p = gradeline.crown_pressure_head(transients.envelope_at(res, pos, "min") - z,
-                                          d_node, drawdown)
+        e = _crown_envelope(case, pipes, res, route_s, floor)
         rows.append({"wave speeds [% of computed]": 100 * factor,
                      "wave speed at the turbine [m/s]": float(res.wave_speeds[-1]),
                      "maximum transient rise [m]": float(res.max_head_rise.max()),
-                     "minimum pressure head at the crown, minimum headwater [m]":
-                         float(p.min()),
-                     "at chainage [m]": float(x[np.argmin(p)])})
+                     CROWN_MINIMUM: float(e.crown_min.min()),
+                     "column separation (vapour pressure reached) [-]": bool(e.cavity.any()),
+                     "at chainage [m]": float(e.x[np.argmin(e.crown_min)])})
     return pd.DataFrame(rows)
 
 
