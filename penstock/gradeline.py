@@ -168,6 +168,54 @@ def grade_lines(flow, headwater, chainage, elevation, node_area, length, diamete
                       hf, hk)
 
 
+def quadratic_loss_interpolant(flow, head_loss):
+    """A head loss tabulated at flows, as a vectorized function of any flow.
+
+    Parameters
+    ----------
+    flow : array_like, shape (n,)
+        Positive flows of the table, rising. [m^3/s]
+    head_loss : array_like, shape (n,)
+        Head loss at each flow. [m]
+
+    Returns
+    -------
+    callable
+        ``loss(q)`` -> head loss [m] for any array of flows ``q`` [m^3/s], with the sign of
+        the flow; 0 at zero flow.
+
+    Notes
+    -----
+    Written as :math:`h(Q) = c(Q)\\,Q|Q|`, the loss coefficient :math:`c = h/Q^2` of a
+    Darcy–Weisbach pipe with local losses varies only through the friction factor,
+    slowly with the Reynolds number; :math:`c` is interpolated linearly in
+    :math:`\\ln|Q|` and held at the table's end values beyond it. On a geometric grid of
+    a few hundred flows the relative error stays below 1e-5 (checked against direct
+    evaluation in the tests). A loss exactly proportional to :math:`Q^2` is reproduced
+    exactly.
+
+    References
+    ----------
+    .. [1] Darcy–Weisbach and local losses, see :func:`element_losses`.
+    """
+    q = np.asarray(flow, dtype=float)
+    h = np.asarray(head_loss, dtype=float)
+    if q.ndim != 1 or q.shape != h.shape or q.size < 2 or np.any(q <= 0) or np.any(
+            np.diff(q) <= 0):
+        raise ValueError("flow: expected rising positive flows, one per head loss")
+    log_q = np.log(q)
+    coeff = h / q**2
+
+    def loss(total_flow):
+        x = np.asarray(total_flow, dtype=float)
+        a = np.abs(x)
+        with np.errstate(divide="ignore"):
+            c = np.interp(np.log(np.where(a > 0, a, q[0])), log_q, coeff)
+        return c * x * a
+
+    return loss
+
+
 # --------------------------------------------------------------------------- checks
 def crown_pressure_head(pressure_head, diameter, drawdown=0.0):
     """Gauge pressure head at the pipe crown, from the head at the centreline.

@@ -161,3 +161,37 @@ def test_crown_pressure_head_is_half_a_diameter_and_the_drawdown_below():
         crown_pressure_head(1.0, 1.0, -0.1)
     # continuity: 1 m^3/s through 1 m gives 4/pi m/s
     assert mean_velocity(1.0, 1.0) == pytest.approx(4.0 / np.pi, rel=1e-15)
+
+
+# ---------------------------------------------------------------- loss interpolant
+@settings(max_examples=40, deadline=None)
+@given(c=st.floats(1e-3, 1e3), q=st.lists(st.floats(-50.0, 50.0), min_size=1, max_size=20))
+def test_quadratic_loss_interpolant_reproduces_a_pure_quadratic_loss(c, q):
+    grid = np.geomspace(0.01, 10.0, 30)
+    loss = gradeline.quadratic_loss_interpolant(grid, c * grid**2)
+    q = np.asarray(q)
+    np.testing.assert_allclose(loss(q), c * q * np.abs(q), rtol=1e-12, atol=1e-300)
+
+
+def test_quadratic_loss_interpolant_follows_darcy_weisbach_off_its_grid():
+    # a 2 km, 1 m pipe with 0.1 mm roughness (Darcy-Weisbach with Colebrook-White, the
+    # friction module that is checked against fluids): interpolation between 300 flows
+    nu = 1.0e-6
+    grid = np.geomspace(1e-3, 10.0, 300)
+    from penstock import friction
+
+    exact = friction.head_loss(grid, 1.0, 2000.0, 1e-4, nu)
+    loss = gradeline.quadratic_loss_interpolant(grid, exact)
+    q = np.linspace(0.05, 9.0, 211)
+    np.testing.assert_allclose(loss(q), friction.head_loss(q, 1.0, 2000.0, 1e-4, nu),
+                               rtol=1e-5)
+    assert loss(0.0) == 0.0
+    assert loss(-2.0) == pytest.approx(-float(friction.head_loss(2.0, 1.0, 2000.0, 1e-4, nu)),
+                                       rel=1e-5)
+
+
+@pytest.mark.parametrize("flow, head", [([1.0], [1.0]), ([2.0, 1.0], [1.0, 1.0]),
+                                        ([0.0, 1.0], [0.0, 1.0]), ([1.0, 2.0], [1.0])])
+def test_quadratic_loss_interpolant_refuses_a_bad_table(flow, head):
+    with pytest.raises(ValueError, match="rising positive flows"):
+        gradeline.quadratic_loss_interpolant(flow, head)

@@ -131,25 +131,14 @@ def loss_function(case, route, props, roughness=None, points: int = 400):
     ``roughness`` replaces the route's element roughness (e.g. at mid-life). [m]
 
     The losses are computed exactly on a geometric grid of flows from 1e-4 to 1.5
-    times the maximum plant flow and interpolated in between as h(Q) = c(Q)·Q², with
-    c interpolated linearly in log Q: c varies slowly (only through the friction
-    factor), so the relative interpolation error stays below 1e-5
-    (tests/test_model.py checks it against direct evaluation).
+    times the maximum plant flow and interpolated in between by
+    :func:`penstock.gradeline.quadratic_loss_interpolant` (relative error below 1e-5;
+    tests/test_model.py checks it against direct evaluation).
     """
     q_top = 1.5 * case.maximum_flow
     grid = np.geomspace(1e-4 * q_top, q_top, points)
     g = route.grade_lines(grid, case.headwater, props.kinematic_viscosity, roughness)
-    log_grid = np.log(grid)
-    coeff = (g.friction_loss + g.local_loss).sum(axis=1) / grid**2
-
-    def head_loss(total_flow):
-        q = np.asarray(total_flow, dtype=float)
-        a = np.abs(q)
-        with np.errstate(divide="ignore"):
-            c = np.interp(np.log(np.where(a > 0, a, grid[0])), log_grid, coeff)
-        return c * q * a
-
-    return head_loss
+    return gradeline.quadratic_loss_interpolant(grid, (g.friction_loss + g.local_loss).sum(axis=1))
 
 
 # --------------------------------------------------------------------------- tables

@@ -84,17 +84,13 @@ class _LossRatio:
         """Ratio on the flow grid for each sample -> (samples, n_flow)."""
         if not self.active:
             return np.ones((len(factors), len(self.q)))
+        from scipy.interpolate import RegularGridInterpolator
+
         lf = np.log(self.f_grid)
         x = np.clip(np.log(factors), lf[0], lf[-1])
         y = np.clip(growth, self.g_grid[0], self.g_grid[-1])
-        i = np.clip(np.searchsorted(lf, x) - 1, 0, len(lf) - 2)
-        j = np.clip(np.searchsorted(self.g_grid, y) - 1, 0, len(self.g_grid) - 2)
-        tx = (x - lf[i]) / (lf[i + 1] - lf[i])
-        ty = (y - self.g_grid[j]) / (self.g_grid[j + 1] - self.g_grid[j])
-        t = self.table
-        return ((1 - tx)[:, None] * (1 - ty)[:, None] * t[i, j] + tx[:, None] * (1 - ty)[:, None]
-                * t[i + 1, j] + (1 - tx)[:, None] * ty[:, None] * t[i, j + 1]
-                + tx[:, None] * ty[:, None] * t[i + 1, j + 1])
+        # bilinear in (ln factor, growth), one value per flow of the grid
+        return RegularGridInterpolator((lf, self.g_grid), self.table)(np.column_stack([x, y]))
 
 
 def _block_loss(base_loss, ratio_q, ratio):
