@@ -14,8 +14,8 @@ import textwrap
 from pathlib import Path
 
 from . import __version__
-from .case import CaseError, load_case
 from .constants import J_PER_MWH
+from .errors import CaseError
 from .schema import SECTIONS_BY_NAME
 
 EXAMPLES = {
@@ -60,6 +60,14 @@ def _progress(quiet: bool):
         bar.update()
 
     return tick, bar.close
+
+
+def load_case(path):
+    """:func:`penstock.case.load_case`, imported on first use (pandas and pint load with
+    it), so that ``--help`` and ``new`` start quickly."""
+    from .case import load_case as load
+
+    return load(path)
 
 
 def _say(quiet: bool, text: str):

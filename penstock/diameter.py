@@ -21,8 +21,6 @@ import dataclasses
 from collections.abc import Callable, Mapping
 
 import numpy as np
-from scipy.interpolate import PchipInterpolator
-from scipy.optimize import minimize_scalar
 
 from penstock.constants import FOOT
 from penstock.economics import annualized_cost, capital_recovery_factor, lost_energy_value
@@ -348,6 +346,8 @@ def _as_function(name, obj):
         raise ValueError(f"{name} table diameters must be positive and distinct [m].")
     if np.any(values <= 0.0):
         raise ValueError(f"{name} table values must be positive for log-log interpolation.")
+    from scipy.interpolate import PchipInterpolator   # loaded where used: a slow import
+
     spline = PchipInterpolator(np.log(grid), np.log(values), extrapolate=False)
     lo, hi = grid[0], grid[-1]
 
@@ -566,6 +566,8 @@ def optimum_diameter(
 
     def fn(d):
         return float(annualized_cost_fn(float(d)))
+
+    from scipy.optimize import minimize_scalar   # loaded where used: a slow import
 
     res = minimize_scalar(
         fn, bounds=(lo, hi), method="bounded", options={"xatol": xatol, "maxiter": 1000}

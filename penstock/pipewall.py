@@ -407,14 +407,13 @@ def wall_along_route(
         reach_plate = np.maximum(t_plate[:-1], t_plate[1:])
     else:
         reach_req = reach_plate = np.empty(0)
-    steps = []
-    for j, t in enumerate(reach_plate):
-        if steps and steps[-1][2] == t:
-            steps[-1] = (steps[-1][0], float(x[j + 1]), steps[-1][2])
-        else:
-            steps.append((float(x[j]), float(x[j + 1]), float(t)))
     if x.size == 1:
         steps = [(float(x[0]), float(x[0]), float(t_plate[0]))]
+    else:   # runs of equal plate: a new run starts where the plate changes
+        first = np.concatenate([[0], np.flatnonzero(reach_plate[1:] != reach_plate[:-1]) + 1])
+        last = np.concatenate([first[1:] - 1, [reach_plate.size - 1]])
+        steps = list(zip(x[first].tolist(), x[last + 1].tolist(),
+                         reach_plate[first].tolist(), strict=True))
     return WallProfile(
         chainage=x,
         pressure=p,

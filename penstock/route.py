@@ -104,6 +104,32 @@ class Route:
             self.diameter, self.roughness if roughness is None else roughness, self.k,
             self.reference_area, kinematic_viscosity)
 
+    def total_head_loss(self, flow, kinematic_viscosity, roughness=None):
+        """Total head loss of the route [m] at each of ``flow`` [m^3/s], lumped.
+
+        Equal, to rounding, to the sum over the elements of :meth:`grade_lines`'
+        friction and local losses, at a cost independent of the number of profile
+        points: the reaches of one diameter and roughness share the friction factor at a
+        flow, so their Darcy–Weisbach loss is that of their summed length; each local
+        loss adds :math:`K V^2/(2g)` on its reference area. ``roughness`` replaces the
+        elements' roughness (e.g. aged or sampled). [m]
+        """
+        from . import gradeline
+
+        q = np.atleast_1d(np.asarray(flow, dtype=float))
+        rough = self.roughness if roughness is None else np.asarray(roughness, dtype=float)
+        reach = self.length > 0
+        pairs, group = np.unique(np.column_stack([self.diameter[reach], rough[reach]]),
+                                 axis=0, return_inverse=True)
+        length = np.bincount(group.ravel(), weights=self.length[reach],
+                             minlength=len(pairs))
+        hf = friction.head_loss(q[:, None], pairs[None, :, 0], length[None, :],
+                                pairs[None, :, 1], kinematic_viscosity).sum(axis=1)
+        local = ~reach & (self.k != 0.0)
+        hk = (self.k[local][None, :] * gradeline.velocity_head(
+            q[:, None], self.reference_area[local][None, :])).sum(axis=1)
+        return hf + hk
+
     def aged_roughness(self, segments, years: float) -> np.ndarray:
         """Element roughness after ``years`` of service (Colebrook & White linear growth)."""
         out = self.roughness.copy()
@@ -112,6 +138,51 @@ class Route:
                 out[self.element_segment == i] = friction.aged_roughness(
                     seg.roughness, years, seg.roughness_growth)
         return out
+
+
+@dataclass(frozen=True)
+class UniformPipe:
+    """A case's route with every pipe segment at one inside diameter, lumped for speed.
+
+    With one diameter along the route the velocity, and so the friction factor, is the
+    same on every reach of a segment (whose roughness is one), so the friction loss of a
+    segment is that of its whole length; each local loss depends on the diameter only
+    through its coefficient and its reference area. The head loss of the route then costs
+    one Darcy–Weisbach evaluation per segment and one per local loss, whatever the number
+    of profile points. :meth:`head_loss` equals the sum over the elements of
+    :func:`build_route` of the uniform case, to rounding.
+    """
+
+    segment_length: np.ndarray   # pipe length of each segment along its axis [m]
+    losses: tuple                # (kind, params, k) of each of the case's local losses
+
+    def head_loss(self, flow, diameter, segment_roughness, kinematic_viscosity):
+        """Total head loss [m] at each of ``flow`` [m^3/s] for the inside ``diameter`` [m]
+        and the roughness of each segment [m]."""
+        from . import gradeline
+
+        q = np.atleast_1d(np.asarray(flow, dtype=float))
+        d = float(diameter)
+        reach = self.segment_length > 0
+        hf = friction.head_loss(q[:, None], d, self.segment_length[None, reach],
+                                np.asarray(segment_roughness, dtype=float)[None, reach],
+                                kinematic_viscosity).sum(axis=1)
+        hk = np.zeros_like(q)
+        for kind, params, k_given in self.losses:
+            k, area = loss_k_and_area(kind, params, d, d, k_given)
+            hk = hk + k * gradeline.velocity_head(q, area)
+        return hf + hk
+
+
+def uniform_pipe(case) -> UniformPipe:
+    """The lumped :class:`UniformPipe` of a case's route (built once, for any diameter)."""
+    route = build_route(case)
+    reach = route.length > 0
+    n = len(case.segments)
+    lengths = np.bincount(route.element_segment[reach], weights=route.length[reach],
+                          minlength=n)
+    return UniformPipe(segment_length=lengths,
+                       losses=tuple((ls.kind, ls.params, ls.k) for ls in case.losses))
 
 
 def build_route(case, warns=None, methods=None) -> Route:
@@ -140,12 +211,21 @@ def build_route(case, warns=None, methods=None) -> Route:
                                    [ls.at for ls in case.losses]]))
     zs = np.interp(xs, px, pz)
     starts = np.array([s.start for s in segs])
-
-    def downstream_segment(x):
-        return int(np.clip(np.searchsorted(starts, x, side="right") - 1, 0, len(segs) - 1))
-
-    def upstream_segment(x):
-        return int(np.clip(np.searchsorted(starts, x, side="left") - 1, 0, len(segs) - 1))
+    last_seg = len(segs) - 1
+    # the segment downstream and upstream of each point, and the segment of each reach
+    # (its midpoint), the reach lengths along the pipe: once for all points
+    down_of = np.clip(np.searchsorted(starts, xs, side="right") - 1, 0, last_seg).tolist()
+    up_of = np.clip(np.searchsorted(starts, xs, side="left") - 1, 0, last_seg).tolist()
+    reach_seg = np.clip(np.searchsorted(starts, 0.5 * (xs[:-1] + xs[1:]), side="right") - 1,
+                        0, last_seg).tolist()
+    reach_len = [math.hypot(dx, dz) for dx, dz in zip(np.diff(xs).tolist(),
+                                                      np.diff(zs).tolist(), strict=True)]
+    x_list, z_list = xs.tolist(), zs.tolist()
+    seg_d = [s.diameter for s in segs]
+    seg_r = [s.roughness for s in segs]
+    seg_a = [s.area for s in segs]
+    reach_name = [f"friction, pipe {i + 1} ({say.ch(s.start)} to {say.ch(s.end)}, "
+                  f"D {say.m(s.diameter, 3)})" for i, s in enumerate(segs)]
 
     losses_at: dict[int, list] = {}
     for ls in case.losses:
@@ -162,11 +242,21 @@ def build_route(case, warns=None, methods=None) -> Route:
     def step(j, k, ref_area, name, new_area, diameter, node_diameter):
         elems.append((0.0, diameter, 0.0, k, ref_area, name, -1))
         nodes.append((xs[j], zs[j], new_area, name, False, node_diameter))
-        group_kind.setdefault(name, "local")
 
-    for j, x in enumerate(xs):
-        down = downstream_segment(x)
-        up = upstream_segment(x) if j > 0 else down
+    special = set(losses_at) | {0} | {j for j, x in enumerate(x_list) if x in changes}
+    n_points = len(x_list)
+    for j in range(n_points):
+        if j not in special:   # a plain profile point: only the reach that follows
+            if j < n_points - 1:
+                si = reach_seg[j]
+                elems.append((reach_len[j], seg_d[si], seg_r[si], 0.0, seg_a[si],
+                              reach_name[si], si))
+                nodes.append((x_list[j + 1], z_list[j + 1], seg_a[si], "profile", False,
+                              seg_d[si]))
+            continue
+        x = x_list[j]
+        down = down_of[j]
+        up = up_of[j] if j > 0 else down
         here = losses_at.get(j, [])
         if j == 0 and not any(ls.kind in ("entrance", "trashrack") for ls in here):
             step(0, 0.0, segs[down].area, "entrance (none given)", segs[down].area,
@@ -195,21 +285,20 @@ def build_route(case, warns=None, methods=None) -> Route:
                                       f"{say.m(d2, 3)} at {say.ch(x)} with no transition loss "
                                       f"given; a 15° conical {kind} is assumed (K = {k:.3f})",
                                       chainage=float(x), severity="note"))
-        if j < len(xs) - 1:
-            s = downstream_segment(0.5 * (x + xs[j + 1]))
-            seg = segs[s]
-            name = (f"friction, pipe {s + 1} ({say.ch(seg.start)} to {say.ch(seg.end)}, "
-                    f"D {say.m(seg.diameter, 3)})")
-            elems.append((math.hypot(xs[j + 1] - x, zs[j + 1] - zs[j]), seg.diameter,
-                          seg.roughness, 0.0, seg.area, name, s))
-            nodes.append((xs[j + 1], zs[j + 1], seg.area, "profile", False, seg.diameter))
-            group_kind.setdefault(name, "friction")
+        if j < n_points - 1:
+            si = reach_seg[j]
+            elems.append((reach_len[j], seg_d[si], seg_r[si], 0.0, seg_a[si],
+                          reach_name[si], si))
+            nodes.append((x_list[j + 1], z_list[j + 1], seg_a[si], "profile", False,
+                          seg_d[si]))
+    for e in elems:   # every component, in route order
+        group_kind.setdefault(e[5], "friction" if e[6] >= 0 else "local")
 
     x_n, z_n, a_n, lab_n, _, d_n = nodes[-1]
     nodes[-1] = (x_n, z_n, a_n, "penstock end" if lab_n == "profile" else lab_n, False, d_n)
     nx, nz, na, nl, nr, nd = zip(*nodes)
     el, ed, er, ek, ea, eg, es = zip(*elems)
-    first = downstream_segment(xs[0])
+    first = down_of[0]
     return Route(
         chainage=np.array(nx), elevation=np.array(nz), node_area=np.array(na),
         node_diameter=np.array(nd, dtype=float),

@@ -14,7 +14,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import penstock
-from penstock import surge, water
+from penstock import friction, surge, water
 from penstock.materials import get_material
 from penstock.model import hammer, production, sizing, steady
 
@@ -123,3 +123,78 @@ def test_energy_lost_beyond_the_grid_is_evaluated_not_clamped(model):
     assert lost[1] < lost[0] < float(model.energy_lost(top))
     for d, e in zip(big, lost, strict=True):
         assert e == pytest.approx(model.energy_lost_brute_force(d), rel=1e-3)
+
+
+# ----------------------------------------------------------- the lumped uniform pipe
+def _full_route_loss(case, props, d, flows, years):
+    """The old way: the whole route of the uniform case, element by element."""
+    from penstock.route import build_route
+
+    u = sizing.uniform_case(case, d)
+    r = build_route(u)
+    rough = None if years is None else r.aged_roughness(u.segments, years)
+    g = r.grade_lines(flows, u.headwater, props.kinematic_viscosity, rough)
+    return (g.friction_loss + g.local_loss).sum(axis=1)
+
+
+@pytest.mark.parametrize("name", ["alder-gorge-high-head", "cedar-fork-us-units",
+                                  "millrace-flats-low-head"])
+def test_lumped_loss_equals_the_full_route(name):
+    """The diameter study's per-segment lumped loss equals the element-by-element sum over
+    the whole route of the uniform case, to 1e-12, new and aged, at any diameter."""
+    case = penstock.load_case(CASES / name)
+    props = water.water_properties(case.temperature, case.altitude)
+    pipe = sizing.uniform_pipe(case)
+    flows = np.geomspace(1e-3, 2.0, 40) * case.design_flow
+    for d in np.geomspace(0.3, 6.0, 9):
+        for years in (None, 25.0):
+            model_rough = np.array([
+                friction.aged_roughness(s.roughness, years, s.roughness_growth)
+                if years is not None and s.roughness_growth else s.roughness
+                for s in case.segments])
+            lumped = pipe.head_loss(flows, d, model_rough, props.kinematic_viscosity)
+            np.testing.assert_allclose(lumped, _full_route_loss(case, props, d, flows, years),
+                                       rtol=1e-12)
+
+
+@settings(max_examples=15, deadline=None)
+@given(points=st.integers(3, 400), seed=st.integers(0, 2**32 - 1), d=st.floats(0.4, 4.0))
+def test_lumped_loss_is_independent_of_the_profile_points(points, seed, d):
+    """A random profile of many points between the demo's own: the lumped loss still
+    equals the full route's to 1e-12."""
+    import copy
+
+    import pandas as pd
+
+    base = penstock.load_case(CASES / "alder-gorge-high-head")
+    case = copy.copy(base)
+    rng = np.random.default_rng(seed)
+    x0, x1 = float(base.profile["chainage"].iloc[0]), float(base.profile["chainage"].iloc[-1])
+    x = np.unique(np.concatenate([[x0, x1], rng.uniform(x0, x1, points)]))
+    z = np.interp(x, base.profile["chainage"], base.profile["elevation"]) + rng.normal(
+        0.0, 0.5, x.size)
+    case.profile = pd.DataFrame({"chainage": x, "elevation": z})
+    props = water.water_properties(case.temperature, case.altitude)
+    flows = np.linspace(0.1, 1.2, 7) * case.design_flow
+    rough = np.array([s.roughness for s in case.segments])
+    lumped = sizing.uniform_pipe(case).head_loss(flows, d, rough, props.kinematic_viscosity)
+    np.testing.assert_allclose(lumped, _full_route_loss(case, props, d, flows, None),
+                               rtol=1e-12)
+
+
+@pytest.mark.parametrize("name", ["alder-gorge-high-head", "cedar-fork-us-units",
+                                  "millrace-flats-low-head"])
+def test_route_total_head_loss_equals_the_grade_lines(name):
+    """The lumped total loss of the case's own route (its real diameters, new and aged)
+    equals the sum of the grade lines' element losses, to 1e-12."""
+    from penstock.route import build_route
+
+    case = penstock.load_case(CASES / name)
+    props = water.water_properties(case.temperature, case.altitude)
+    route = build_route(case)
+    flows = np.geomspace(1e-4, 1.5, 60) * case.maximum_flow
+    for rough in (None, route.aged_roughness(case.segments, 40.0)):
+        g = route.grade_lines(flows, case.headwater, props.kinematic_viscosity, rough)
+        np.testing.assert_allclose(
+            route.total_head_loss(flows, props.kinematic_viscosity, rough),
+            (g.friction_loss + g.local_loss).sum(axis=1), rtol=1e-12)

@@ -187,6 +187,23 @@ def test_wall_along_route_steps():
     assert prof.plate_thickness[0] == pytest.approx(0.006)
 
 
+@settings(max_examples=50, deadline=None)
+@given(heads=st.lists(st.floats(0.0, 900.0), min_size=2, max_size=40))
+def test_wall_along_route_steps_are_the_runs_of_equal_plate(heads):
+    """The plate runs are the maximal stretches of equal reach plate, run by run."""
+    steel = MATERIALS["astm_a516_gr70"]
+    x = np.arange(len(heads), dtype=float) * 25.0
+    prof = wall_along_route(x, heads, 1.2, steel, beyond_plates="keep")
+    expected = []
+    for j, t in enumerate(prof.reach_plate):
+        if expected and expected[-1][2] == t:
+            expected[-1] = (expected[-1][0], x[j + 1], t)
+        else:
+            expected.append((x[j], x[j + 1], t))
+    assert [tuple(map(float, s)) for s in prof.steps] == [tuple(map(float, e))
+                                                           for e in expected]
+
+
 def test_wall_along_route_bad_input():
     steel = MATERIALS["astm_a36"]
     with pytest.raises(ValueError, match="ascending"):

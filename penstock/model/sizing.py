@@ -37,11 +37,11 @@ import numpy as np
 import pandas as pd
 
 from .. import diameter as dia
-from .. import economics, energy, gradeline, pipewall, surge, transients
+from .. import economics, energy, friction, gradeline, pipewall, surge, transients
 from ..constants import J_PER_KWH, J_PER_MWH
 from ..materials import STEEL_PIPE_MATERIALS
 from ..materials import get_material as _get_material
-from ..route import build_route
+from ..route import build_route, uniform_pipe
 from .core import Methods, Say, Warning_
 from .stages import SizingHeadline, SizingStage
 
@@ -50,6 +50,9 @@ SAME_SIZE = 1e-4
 
 #: How many sizes above the optimum are tried for a feasible recommendation.
 MAX_SIZES_UP = 20
+
+#: Diameters x reaches evaluated at once by the cost model, to bound its memory.
+COST_BLOCK_ELEMENTS = 200_000
 
 
 def wall_material(case):
@@ -102,6 +105,7 @@ class DiameterModel:
         self.weights = (np.bincount(i, w * (1 - frac), n_flow)
                         + np.bincount(i + 1, w * frac, n_flow))
         self.route = build_route(uniform_case(case, 1.0))   # same nodes at any D
+        self.pipe = uniform_pipe(case)
         self.lengths = self.route.length
         self._s_nodes = np.concatenate([[0.0], np.cumsum(self.route.length)])
         lo, hi = self.bounds()
@@ -170,19 +174,22 @@ class DiameterModel:
                 self._workable = float(np.exp(brentq(excess, lo, hi, xtol=1e-9)))
         return self._workable
 
-    def roughness(self, route, segments, years):
-        return None if years is None else route.aged_roughness(segments, years)
+    def segment_roughness(self, years):
+        """Roughness of each pipe segment [m], new (``years`` None) or after ``years``."""
+        segs = self.case.segments
+        if years is None:
+            return np.array([s.roughness for s in segs])
+        return np.array([friction.aged_roughness(s.roughness, years, s.roughness_growth)
+                         if s.roughness_growth else s.roughness for s in segs])
 
     def loss_on_grid(self, d, flows, years="energy"):
         """Penstock head loss at ``flows`` for a uniform diameter ``d`` [m], with the
         roughness of the energy basis (``years="energy"``), new (None) or after
-        ``years`` of service."""
-        c = uniform_case(self.case, d)
-        r = build_route(c)
+        ``years`` of service: the route lumped per segment (:class:`route.UniformPipe`),
+        whatever its number of profile points."""
         years = self.roughness_years if years == "energy" else years
-        g = r.grade_lines(flows, c.headwater, self.props.kinematic_viscosity,
-                          self.roughness(r, c.segments, years))
-        return (g.friction_loss + g.local_loss).sum(axis=1)
+        return self.pipe.head_loss(flows, d, self.segment_roughness(years),
+                                   self.props.kinematic_viscosity)
 
     def energy_lost(self, d):
         """Mean annual energy lost to the penstock's head loss [J/year].
@@ -235,25 +242,32 @@ class DiameterModel:
 
         Returns the list of :class:`penstock.pipewall.WallProfile`, one per diameter.
         """
+        return list(self._each_wall(d, design_head))
+
+    def _each_wall(self, d, design_head=None):
+        """The wall profiles one at a time (a long route's profiles are large)."""
         w = self.case.wall
         d = np.atleast_1d(np.asarray(d, float))
         head = self.design_head(d) if design_head is None else np.atleast_2d(design_head)
         head = np.broadcast_to(head, (d.size, head.shape[-1]))
         steel = wall_material(self.case)
-        return [pipewall.wall_along_route(
-            self.route.chainage, np.maximum(hd, 0.0), di, steel, _plates(self.case),
-            joint_efficiency=w["joint_efficiency"], corrosion_allowance=w["corrosion_allowance"],
-            handling_rule=w["handling_rule"], water_density=self.props.density,
-            external_pressure=self.props.atmospheric_pressure,
-            buckling_safety=w["buckling_safety"], beyond_plates="keep")
-            for di, hd in zip(d, head, strict=True)]
+        for di, hd in zip(d, head, strict=True):
+            yield pipewall.wall_along_route(
+                self.route.chainage, np.maximum(hd, 0.0), di, steel, _plates(self.case),
+                joint_efficiency=w["joint_efficiency"],
+                corrosion_allowance=w["corrosion_allowance"],
+                handling_rule=w["handling_rule"], water_density=self.props.density,
+                external_pressure=self.props.atmospheric_pressure,
+                buckling_safety=w["buckling_safety"], beyond_plates="keep")
 
     def wall(self, d, design_head=None):
         """Plate and required thickness of each reach -> two (n_d, n_reach) arrays [m]."""
         keep = self.lengths > 0
-        prof = self.walls(d, design_head)
-        return (np.array([p.reach_plate[keep] for p in prof]),
-                np.array([p.reach_required[keep] for p in prof]))
+        plate, req = [], []
+        for p in self._each_wall(d, design_head):
+            plate.append(p.reach_plate[keep])
+            req.append(p.reach_required[keep])
+        return np.array(plate), np.array(req)
 
     def costs(self, d, thickness=None, smooth=True, steel_factor=1.0):
         """Capital cost items of the pipe for diameters ``d`` (summed over the reaches).
@@ -262,13 +276,24 @@ class DiameterModel:
         function of D for the optimizer; the candidate table uses the real plates.
         ``steel_factor`` scales the steel price and the items charged on it.
         """
-        c = self.case.costs
         d = np.atleast_1d(np.asarray(d, float))
+        reach = self.lengths[self.lengths > 0]
+        # diameters in blocks, so that a long route's (diameters x reaches) arrays stay small
+        block = max(1, COST_BLOCK_ELEMENTS // max(reach.size, 1))
+        out = {}
+        for a in range(0, d.size, block):
+            t = None if thickness is None else np.atleast_2d(thickness)[a:a + block]
+            part = self._block_costs(d[a:a + block], reach, t, smooth, steel_factor)
+            for k, v in part.items():
+                out.setdefault(k, []).append(v)
+        return {k: np.concatenate(v) for k, v in out.items()}
+
+    def _block_costs(self, d, reach, thickness, smooth, steel_factor):
+        c = self.case.costs
         if thickness is None:
             plate, req = self.wall(d)
             thickness = req if smooth else plate
         thickness = np.atleast_2d(thickness)
-        reach = self.lengths[self.lengths > 0]
         parts = economics.pipe_cost_breakdown(
             d[:, None], reach[None, :], thickness=thickness,
             density=wall_material(self.case).density,
@@ -277,7 +302,8 @@ class DiameterModel:
             installation_factor=c["installation_factor"], civil_fixed=c["civil_fixed"],
             civil_coefficient=c["civil_per_diameter"], civil_exponent=c["civil_exponent"],
             contingency_factor=c["contingency"])
-        return {k: np.asarray(v).sum(axis=1) for k, v in parts.items()}
+        return {k: np.broadcast_to(np.asarray(v), (d.size, reach.size)).sum(axis=1)
+                for k, v in parts.items()}
 
     def capital(self, d, thickness=None, smooth=True, steel_factor=1.0):
         """Pipe capital cost [currency] for diameters ``d``."""

@@ -137,8 +137,8 @@ def loss_function(case, route, props, roughness=None, points: int = 400):
     """
     q_top = 1.5 * case.maximum_flow
     grid = np.geomspace(1e-4 * q_top, q_top, points)
-    g = route.grade_lines(grid, case.headwater, props.kinematic_viscosity, roughness)
-    return gradeline.quadratic_loss_interpolant(grid, (g.friction_loss + g.local_loss).sum(axis=1))
+    return gradeline.quadratic_loss_interpolant(
+        grid, route.total_head_loss(grid, props.kinematic_viscosity, roughness))
 
 
 # --------------------------------------------------------------------------- tables

@@ -77,8 +77,7 @@ class _LossRatio:
 
     def _loss(self, case, props, route, factor, growth):
         rough = sampled_roughness(case, route, factor, growth, self.years)
-        g = route.grade_lines(self.q, case.headwater, props.kinematic_viscosity, rough)
-        return (g.friction_loss + g.local_loss).sum(axis=1)
+        return route.total_head_loss(self.q, props.kinematic_viscosity, rough)
 
     def per_sample(self, factors, growth):
         """Ratio on the flow grid for each sample -> (samples, n_flow)."""
