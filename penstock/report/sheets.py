@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import math
 import numbers
+from copy import copy
 
 import numpy as np
 import pandas as pd
@@ -36,21 +37,31 @@ FORMATS = {
 }
 
 
+def _set_value(cell, value) -> str:
+    """Give ``cell`` the value; text always lands as text, never as a formula.
+
+    Returns the kind of value written: ``"number"``, ``"text"`` or ``"empty"``.
+    """
+    if value is None or (isinstance(value, float) and not math.isfinite(value)):
+        cell.value = None
+        return "empty"
+    if isinstance(value, (bool, np.bool_)):
+        cell.value = "yes" if value else "no"
+        cell.data_type = "s"
+        return "text"
+    if isinstance(value, numbers.Number):
+        cell.value = float(value) if isinstance(value, (np.floating, float)) else int(value)
+        return "number"
+    cell.value = str(value)
+    cell.data_type = "s"   # text beginning with '=', '+', '-' or '@' stays text
+    return "text"
+
+
 def put(ws, row: int, col: int, value, font=BODY, fmt: str | None = None):
     """Write one value; text always lands as text, never as a formula."""
     cell = ws.cell(row=row, column=col)
-    if value is None or (isinstance(value, float) and not math.isfinite(value)):
-        cell.value = None
-    elif isinstance(value, (bool, np.bool_)):
-        cell.value = "yes" if value else "no"
-        cell.data_type = "s"
-    elif isinstance(value, numbers.Number):
-        cell.value = float(value) if isinstance(value, (np.floating, float)) else int(value)
-        if fmt:
-            cell.number_format = fmt
-    else:
-        cell.value = str(value)
-        cell.data_type = "s"   # text beginning with '=', '+', '-' or '@' stays text
+    if _set_value(cell, value) == "number" and fmt:
+        cell.number_format = fmt
     cell.font = font
     return cell
 
@@ -74,12 +85,23 @@ def write_table(ws, df: pd.DataFrame, row: int = 1, col: int = 1, widths=None,
         c.alignment = Alignment(wrap_text=True, vertical="center")
         c.border = BOX
     fmts = [_format_for(name) for name in df.columns]
+    wrapped = [name in wrap_cols for name in df.columns]
     values = df.to_numpy(dtype=object)
+    styles = {}   # one style per (column, kind of value), registered once, then copied
     for i, rec in enumerate(values):
         for j, v in enumerate(rec):
-            c = put(ws, row + 1 + i, col + j, v, fmt=fmts[j])
-            if df.columns[j] in wrap_cols:
-                c.alignment = WRAP
+            cell = ws.cell(row=row + 1 + i, column=col + j)
+            key = (j, _set_value(cell, v))
+            style = styles.get(key)
+            if style is None:
+                if key[1] == "number" and fmts[j]:
+                    cell.number_format = fmts[j]
+                cell.font = BODY
+                if wrapped[j]:
+                    cell.alignment = WRAP
+                styles[key] = copy(cell._style)
+            else:
+                cell._style = copy(style)
     for j, name in enumerate(df.columns):
         letter = get_column_letter(col + j)
         if widths and name in widths:
