@@ -47,7 +47,7 @@ def main(names=None) -> int:
         for row in mod.run():
             if not isinstance(row, dict):   # (figure, value, reference, reference_value, ratio)
                 row = dict(zip(("figure", "value", "reference", "reference_value", "ratio"),
-                               row))
+                               row, strict=False))
             rows.append((name, row))
     print_table(rows)
     return 0

@@ -147,15 +147,16 @@ def run():
         for name in DEMOS:
             folder = CASES / name
             result = paired(
-                lambda: child_cost(_penstock("run", folder, "--quiet", "--out", out / name)),
-                lambda: child_cost(python(floor_run, folder, out)), ROUNDS)
+                lambda f=folder, n=name: child_cost(_penstock("run", f, "--quiet", "--out",
+                                                               out / n)),
+                lambda f=folder: child_cost(python(floor_run, f, out)), ROUNDS)
             rows.append(_row(f"penstock run {name} (report included)", result,
                              "floor: imports, reads the case, one sheet, one PNG", "s CPU",
                              2.0, "<= 2x"))
         for name in DEMOS:
             folder = CASES / name
-            result = paired(lambda: child_cost(_penstock("check", folder, "--quiet")),
-                            lambda: child_cost(python(floor_check, folder)), ROUNDS)
+            result = paired(lambda f=folder: child_cost(_penstock("check", f, "--quiet")),
+                            lambda f=folder: child_cost(python(floor_check, f)), ROUNDS)
             rows.append(_row(f"penstock check {name}", result,
                              "pandas and pint imported, the same files read", "s CPU",
                              1.5, "<= 1.5x"))
@@ -172,7 +173,7 @@ def run():
         rows.append(_row("penstock run, high-head demo, 10,000-point profile", result,
                          "the same route at 100 points", "s CPU", 1.5, "<= 1.5x"))
         memory = [a.peak_memory / b.peak_memory
-                  for a, b in zip(costs[long.name], costs[short.name])]
+                  for a, b in zip(costs[long.name], costs[short.name], strict=True)]
         rows.append({
             "figure": "its peak memory", "unit": "MiB",
             "value": float(np.median([c.peak_memory for c in costs[long.name]])),

@@ -74,10 +74,11 @@ def run_case(case, progress=None, samples=None, proceed=False) -> Results:
 
     tick("water properties")
     props = water.water_properties(case.temperature, case.altitude)
-    methods.add("Water properties", "IAPWS-95 density and speed of sound, IAPWS 2008 viscosity, "
-                "IAPWS-IF97 saturation pressure, at standard atmospheric pressure",
-                "IAPWS R6-95(2018); IAPWS R12-08; IAPWS R7-97(2012), eq. 30 (via the iapws "
-                "package and a vectorized region-4 equation)")
+    methods.add("Water properties", "IAPWS-IF97 region 1 density and speed of sound, IAPWS 2008 "
+                "viscosity on that density, IAPWS-IF97 saturation pressure, at standard "
+                "atmospheric pressure",
+                "IAPWS R7-97(2012), eq. 7 and eq. 30; IAPWS R12-08, eq. 10 (Huber et al. 2009, "
+                "J. Phys. Chem. Ref. Data 38(2))")
     methods.add("Atmospheric pressure", "ISO standard atmosphere, troposphere",
                 "ISO 2533:1975 Standard Atmosphere")
 
