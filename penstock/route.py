@@ -222,10 +222,10 @@ def build_route(case, warns=None, methods=None) -> Route:
                         0, last_seg).tolist()
     reach_len = [math.hypot(dx, dz) for dx, dz in zip(np.diff(xs).tolist(),
                                                       np.diff(zs).tolist(), strict=True)]
-    x_list, z_list = xs.tolist(), zs.tolist()
-    seg_d = [s.diameter for s in segs]
-    seg_r = [s.roughness for s in segs]
-    seg_a = [s.area for s in segs]
+    x_list = xs.tolist()
+    seg_d = np.array([s.diameter for s in segs])
+    seg_r = np.array([s.roughness for s in segs])
+    seg_a = np.array([s.area for s in segs])
     reach_name = [f"friction, pipe {i + 1} ({say.ch(s.start)} to {say.ch(s.end)}, "
                   f"D {say.m(s.diameter, 3)})" for i, s in enumerate(segs)]
 
@@ -248,7 +248,6 @@ def build_route(case, warns=None, methods=None) -> Route:
         steps.append((j, 0.0, diameter, 0.0, k, ref_area, name, -1, new_area, node_diameter))
 
     special = sorted(set(losses_at) | {0} | {j for j, x in enumerate(x_list) if x in changes})
-    n_points = len(x_list)
     for j in special:
         x = x_list[j]
         down = down_of[j]
@@ -283,11 +282,10 @@ def build_route(case, warns=None, methods=None) -> Route:
                                       chainage=float(x), severity="note"))
 
     rs = np.asarray(reach_seg, dtype=int)             # the segment of each reach
-    seg_d, seg_r, seg_a = np.array(seg_d), np.array(seg_r), np.array(seg_a)
     sp = list(zip(*steps, strict=True)) if steps else [()] * 10
     s_point = np.array(sp[0], dtype=int)
     # order: a point's steps (in the order made), then its reach
-    key = np.concatenate([2 * s_point, 2 * np.arange(n_points - 1) + 1])
+    key = np.concatenate([2 * s_point, 2 * np.arange(xs.size - 1) + 1])
     order = np.argsort(key, kind="stable")
 
     def chain(step_values, reach_values, dtype=float):

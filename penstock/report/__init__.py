@@ -78,7 +78,8 @@ def _column_fields(series) -> list[str]:
 
     missing = series.isna().to_numpy()
     kind = series.dtype.kind
-    if kind in "fiub" and isinstance(series.dtype, np.dtype):   # plain numpy columns, the long ones: one pass, no type tests
+    # plain numpy columns (the long ones): one pass, no type test per value
+    if kind in "fiub" and isinstance(series.dtype, np.dtype):
         if kind == "f":
             out = [f"{v:.14g}" for v in series.to_numpy().tolist()]   # 'inf', '-inf' kept
         elif kind == "b":

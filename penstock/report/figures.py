@@ -65,10 +65,10 @@ def loss_figure(results, system: str):
     ax.set_xlabel(f"head loss [{lu}]")
     ax.set_title("Head loss by component at the design flow")
     ax.grid(True, axis="x", alpha=0.3)
-    height = fig.get_size_inches()[1]
+    width, height = fig.get_size_inches()
     # the left margin fits the longest component name (about 0.075 in a character at 10 pt)
     longest = max((len(str(n)) for n in part["component"]), default=4)
-    _fixed_layout(fig, min(0.6, (0.075 * longest + 0.25) / 9.0), 0.97, 0.65 / height,
+    _fixed_layout(fig, min(0.6, (0.075 * longest + 0.25) / width), 0.97, 0.65 / height,
                   1.0 - 0.45 / height)
     return fig
 
