@@ -32,6 +32,8 @@ __all__ = [
     "hydraulic_power",
     "electrical_power",
     "simulate_plant",
+    "tabulated_power",
+    "TabulatedPower",
     "energy_summary",
     "mean_annual_weights",
     "net_head",
@@ -230,7 +232,8 @@ def mean_annual_weights(index):
 def simulate_plant(river_flow, gross_head, rated_flow_per_unit, *, density, n_units=1,
                    turbine_type="francis", efficiency_table=None, head_loss=None, residual=0.0,
                    minimum_relative_flow=None, gearbox_efficiency=1.0, generator_efficiency=1.0,
-                   transformer_efficiency=1.0, availability=1.0, head_gain=None):
+                   transformer_efficiency=1.0, availability=1.0, head_gain=None,
+                   efficiency_offset=None):
     """Operate a plant of identical units over a flow record.
 
     Parameters
@@ -265,6 +268,11 @@ def simulate_plant(river_flow, gross_head, rated_flow_per_unit, *, density, n_un
         Head added at the turbine as a function of the total flow, e.g. a draft tube's
         recovery (:func:`net_head`); it is part of the plant, not a penstock loss, so
         ``power_without_friction`` keeps it. None means none. [m]
+    efficiency_offset : numeric or array_like, optional
+        Added to the turbine efficiency of the running units after the dispatch
+        (kept within 0..1), broadcast against the steps, e.g. one value per row of a
+        block of Monte Carlo samples. The units are still chosen on the unshifted
+        curve. None means no offset. [-]
 
     Returns
     -------
@@ -282,7 +290,9 @@ def simulate_plant(river_flow, gross_head, rated_flow_per_unit, *, density, n_un
        not take is added to the spill.
     3. :func:`electrical_power` applies the drive-train factors.
 
-    ``power_without_friction`` repeats step 2 with :math:`h_f = 0`.
+    ``power_without_friction`` repeats step 2 with :math:`h_f = 0`. An efficiency
+    offset scales both powers by :math:`\\mathrm{clip}(\\eta + \\delta, 0, 1) / \\eta`
+    at the dispatched efficiency :math:`\\eta`.
     """
     entry = TURBINE_TYPES.get(turbine_type)
     if entry is None:
@@ -304,6 +314,11 @@ def simulate_plant(river_flow, gross_head, rated_flow_per_unit, *, density, n_un
     ideal = dispatch(allocation.turbined, n_units, rated, eta_fn,
                      _net_head(gross, None, head_gain), density)
     factor = float(_efficiency_product(**drive))  # electrical W per W of shaft power
+    eta, power, power_ideal = actual.efficiency, actual.power, ideal.power
+    if efficiency_offset is not None:
+        offset = np.asarray(efficiency_offset, dtype=float)
+        eta, power = _shift_efficiency(actual.efficiency, power, offset)
+        power_ideal = _shift_efficiency(ideal.efficiency, power_ideal, offset)[1]
     spill = allocation.spill + (allocation.turbined - actual.turbined_flow)
 
     def kind(values, name):
@@ -315,10 +330,146 @@ def simulate_plant(river_flow, gross_head, rated_flow_per_unit, *, density, n_un
         residual_flow=kind(allocation.residual, "residual_flow"),
         n_running=actual.n_running,
         net_head=kind(actual.net_head, "net_head"),
-        turbine_efficiency=kind(actual.efficiency, "turbine_efficiency"),
-        power=kind(actual.power * factor, "power"),
-        power_without_friction=kind(ideal.power * factor, "power_without_friction"),
+        turbine_efficiency=kind(eta, "turbine_efficiency"),
+        power=kind(power * factor, "power"),
+        power_without_friction=kind(power_ideal * factor, "power_without_friction"),
     )
+
+
+class TabulatedPower(NamedTuple):
+    """Power of a plant at each step read from a table (see :func:`tabulated_power`)."""
+
+    #: Flow through the turbines, exact (:func:`penstock.hydrology.available_flow`). [m^3/s]
+    turbined_flow: np.ndarray
+    #: Expected electrical power. [W]
+    power: np.ndarray
+    #: Expected electrical power with no penstock head loss. [W]
+    power_without_friction: np.ndarray
+
+
+def tabulated_power(river_flow, gross_head, rated_flow_per_unit, *, density, n_units=1,
+                    residual=0.0, flow_nodes=1025, head_nodes=9, **plant):
+    """Power of :func:`simulate_plant` at each step, interpolated in a table of its own.
+
+    For long records run many times over (Monte Carlo samples), the plant is operated
+    on a grid of turbined flows and gross heads only, and each step's power is read
+    from that table.
+
+    Parameters
+    ----------
+    river_flow : array_like
+        River flow at each step, shape ``(..., steps)``; the leading axes (e.g. a
+        block of samples) each get their own table. [m^3/s]
+    gross_head : numeric or array_like of shape (steps,)
+        Gross head at each step, the same for every leading index. [m]
+    rated_flow_per_unit : float
+        Rated flow of one unit. [m^3/s]
+    density : float
+        Water density. [kg/m^3]
+    n_units : int, default 1
+        Number of identical units. [-]
+    residual : numeric or array_like, default 0.0
+        Residual flow requirement, broadcast against ``river_flow``. [m^3/s]
+    flow_nodes : int, default 1025
+        Nodes of the table between one unit's minimum flow and the plant's rated
+        flow, both included. [-]
+    head_nodes : int, default 9
+        Nodes of the table between the smallest and largest gross head; one when
+        the gross head is constant. [-]
+    **plant
+        The other keywords of :func:`simulate_plant` (``turbine_type``,
+        ``efficiency_table``, ``head_loss``, ``head_gain``, drive-train
+        efficiencies, ``availability``, ``minimum_relative_flow``,
+        ``efficiency_offset``). ``head_loss`` is None or a callable taking total flows of
+        shape ``(units, ..., nodes)``, and an ``efficiency_offset`` must broadcast
+        against the leading axes and one trailing axis. [-]
+
+    Returns
+    -------
+    TabulatedPower
+        Turbined flow, power and power without friction, shaped like
+        ``river_flow``. [-]
+
+    Notes
+    -----
+    The turbined flow of each step is exact, from
+    :func:`penstock.hydrology.available_flow`: zero, or between one unit's minimum
+    flow :math:`q_{min}` and the plant's rated flow :math:`n Q_r`, both of which are
+    table nodes, so the shut-down threshold and full-load operation (where much of
+    a record sits) are read without interpolation error. At each node
+    :func:`simulate_plant` gives the power; between nodes it is interpolated
+    linearly in flow and in gross head. For a given number of running units the
+    power is linear in the gross head (:math:`P = \\rho g Q \\eta (H_g - h(Q))`),
+    so the gross-head interpolation is exact away from a change in the number of
+    units; in flow the error is of the order of the node spacing squared, and at a
+    kink of the curve (a unit starting, a corner of the efficiency curve) of the
+    spacing times the change of slope.
+    """
+    turbine_type = plant.get("turbine_type", "francis")
+    if turbine_type not in TURBINE_TYPES:
+        raise ValueError(f"turbine_type: unknown type {turbine_type!r}; expected one of "
+                         f"{sorted(TURBINE_TYPES)}")
+    if plant.get("head_loss") is not None and not callable(plant["head_loss"]):
+        raise ValueError("head_loss: expected a callable of the total flow or None")
+    river = _check_non_negative(river_flow, "river_flow")
+    rated = float(rated_flow_per_unit)
+    if rated <= 0:
+        raise ValueError(f"rated_flow_per_unit: expected a positive flow, got {rated}")
+    if int(flow_nodes) < 2 or int(head_nodes) < 1:
+        raise ValueError("flow_nodes, head_nodes: expected at least 2 and 1 nodes")
+    eta_fn = efficiency_function(turbine_type,
+                                 plant.get("efficiency_table"),
+                                 plant.get("minimum_relative_flow"))
+    q_min, q_max = eta_fn.minimum_relative_flow * rated, n_units * rated
+    turbined = available_flow(river, residual, q_max, q_min).turbined
+    turbined = np.asarray(turbined, dtype=float)
+    gross = np.broadcast_to(np.asarray(gross_head, dtype=float), river.shape[-1:])
+    h_lo, h_hi = float(gross.min()), float(gross.max())
+    n_h = 1 if h_hi - h_lo <= 1e-9 * max(abs(h_hi), 1.0) else int(head_nodes)
+    q_nodes = np.linspace(q_min, q_max, int(flow_nodes))
+    h_nodes = np.linspace(h_lo, h_hi, n_h)
+    lead = river.shape[:-1]
+    grid_q = np.broadcast_to(np.repeat(q_nodes, n_h), lead + (q_nodes.size * n_h,))
+    table = simulate_plant(grid_q, np.tile(h_nodes, q_nodes.size), rated, density=density,
+                           n_units=n_units, **plant)
+    shape = lead + (q_nodes.size * n_h,)
+    p_table = np.broadcast_to(np.asarray(table.power, dtype=float), shape)
+    p0_table = np.broadcast_to(np.asarray(table.power_without_friction, dtype=float), shape)
+    # flow position of each step, and the weight of the upper node
+    dq = (q_max - q_min) / (q_nodes.size - 1)
+    x = np.clip((turbined - q_min) / dq, 0.0, q_nodes.size - 1) if dq > 0 else \
+        np.zeros_like(turbined)
+    i = np.minimum(x.astype(np.intp), q_nodes.size - 2)
+    wq = x - i
+    if n_h > 1:
+        y = np.clip((gross - h_lo) / (h_nodes[1] - h_nodes[0]), 0.0, n_h - 1)
+        j = np.minimum(y.astype(np.intp), n_h - 2)
+        wh = y - j
+    else:
+        j, wh = np.zeros(gross.shape, np.intp), np.zeros(gross.shape)
+    lower = i * n_h + j
+    running = turbined > 0.0
+
+    def read(values):
+        flat = values.reshape((-1, values.shape[-1])) if values.ndim > 1 else values[None]
+        idx = lower.reshape((-1, lower.shape[-1])) if lower.ndim > 1 else lower[None]
+        idx = np.broadcast_to(idx, (flat.shape[0], idx.shape[-1]))
+        corner = lambda di, dj: np.take_along_axis(flat, idx + (di * n_h + dj), axis=1)  # noqa: E731
+        a = corner(0, 0) * (1 - wq.reshape(idx.shape)) + corner(1, 0) * wq.reshape(idx.shape)
+        if n_h > 1:
+            b = corner(0, 1) * (1 - wq.reshape(idx.shape)) + corner(1, 1) * wq.reshape(idx.shape)
+            a = a * (1 - wh) + b * wh
+        return np.where(running, a.reshape(turbined.shape), 0.0)
+
+    return TabulatedPower(turbined, read(p_table), read(p0_table))
+
+
+def _shift_efficiency(eta, power, offset):
+    """Efficiency moved by ``offset`` (within 0..1) and the power scaled with it."""
+    running = eta > 0.0
+    shifted = np.where(running, np.clip(eta + offset, 0.0, 1.0), 0.0)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return shifted, np.where(running, power * shifted / np.where(running, eta, 1.0), 0.0)
 
 
 class EnergySummary(NamedTuple):

@@ -153,6 +153,61 @@ def test_simulate_plant_array_equals_loop_of_scalars():
     np.testing.assert_array_equal(whole.power, loop)
 
 
+# --- tabulated power against the step-by-step operation --------------------------------------
+
+@settings(max_examples=20, deadline=None)
+@given(st.integers(1, 3), st.sampled_from(["francis", "pelton", "kaplan", "crossflow"]),
+       st.floats(0.0, 0.15), st.floats(0.0, 8.0), st.floats(-0.05, 0.05),
+       st.integers(0, 10_000))
+def test_tabulated_power_equals_simulate_plant(n_units, kind, coefficient, swing, offset, seed):
+    # the table's only error is its interpolation between nodes (penstock's own
+    # simulate_plant at every node): energies to 1e-5, each step to 1 % of rated power
+    rng = np.random.default_rng(seed)
+    steps = 3000
+    river = rng.gamma(1.5, 2.0, (2, steps))
+    river[:, :50] = 0.0
+    river[:, 50:100] = 20.0                     # full load and shut down, both exact
+    gross = 60.0 + swing * np.sin(np.arange(steps) / 97.0)
+    offsets = np.array([[offset], [-offset]])
+    kw = dict(density=DENSITY, n_units=n_units, turbine_type=kind, residual=0.4,
+              head_loss=lambda q: coefficient * q ** 2,
+              head_gain=lambda q: 0.02 * q, efficiency_offset=offsets)
+    exact = en.simulate_plant(river, gross, 2.5, **kw)
+    table = en.tabulated_power(river, gross, 2.5, **kw)
+    np.testing.assert_array_equal(table.turbined_flow == 0.0, exact.turbined_flow == 0.0)
+    rated = DENSITY * GRAVITY * 2.5 * n_units * 61.0
+    for got, want in ((table.power, exact.power),
+                      (table.power_without_friction, exact.power_without_friction)):
+        want = np.asarray(want)
+        assert np.abs(got - want).max() <= 0.01 * rated
+        np.testing.assert_allclose(got.sum(axis=1), want.sum(axis=1), rtol=1e-5, atol=1e-6)
+        np.testing.assert_allclose(got[:, 50:100], want[:, 50:100], rtol=1e-12)
+        assert np.all(got[:, :50] == 0.0)
+
+
+def test_tabulated_power_rejects_what_simulate_plant_refuses():
+    with pytest.raises(ValueError, match="turbine_type"):
+        en.tabulated_power(np.ones(3), 30.0, 2.0, density=DENSITY, turbine_type="steam")
+    with pytest.raises(ValueError, match="head_loss"):
+        en.tabulated_power(np.ones(3), 30.0, 2.0, density=DENSITY, head_loss=np.ones(3))
+    with pytest.raises(ValueError, match="river_flow"):
+        en.tabulated_power(np.array([1.0, -1.0]), 30.0, 2.0, density=DENSITY)
+
+
+def test_efficiency_offset_scales_power_at_the_dispatched_efficiency():
+    river = np.linspace(0.0, 6.0, 40)
+    base = en.simulate_plant(river, 30.0, 2.0, density=DENSITY, n_units=3,
+                             head_loss=loss_table)
+    moved = en.simulate_plant(river, 30.0, 2.0, density=DENSITY, n_units=3,
+                              head_loss=loss_table, efficiency_offset=0.03)
+    eta = np.asarray(base.turbine_efficiency)
+    run = eta > 0
+    np.testing.assert_array_equal(moved.n_running, base.n_running)
+    np.testing.assert_allclose(moved.power[run], base.power[run] * (eta[run] + 0.03) / eta[run],
+                               rtol=1e-12)
+    assert np.all(moved.power[~run] == 0.0)
+
+
 # --- bad input -------------------------------------------------------------------------------
 
 def test_energy_summary_rejects_bad_records():
