@@ -96,11 +96,14 @@ def diameter_sheet(ws, ctx, title):
     ch.series.append(s)
     ws.add_chart(ch, f"A{chart_row}")
     # wall and design pressure along the route at the recommended size
-    wp = convert_table(r.wall_profile, ctx.system)
+    wp = r.wall_profile
+    rows = sh.route_rows(wp.iloc[:, 0], wp.iloc[:, 2:])
+    wp = convert_table(wp.iloc[rows].reset_index(drop=True), ctx.system)
     wcol = ocol + 3
     which = ("the recommended size" if h.selected_diameter is not None else
              "the economic size (none is recommended: it fails the checks)")
-    sh.put(ws, row, wcol, f"Wall at {which}", font=sh.NOTE)
+    sh.put(ws, row, wcol, f"Wall at {which}" + sh.rows_note(len(rows), len(r.wall_profile),
+                                                           "wall_profile.csv"), font=sh.NOTE)
     wfirst, wlast = sh.write_table(ws, wp, row=row + 1, col=wcol)
     ch2 = sh.scatter_chart("Plate thickness along the route (" + (
         "recommended size" if h.selected_diameter is not None else "economic size")

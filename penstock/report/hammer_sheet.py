@@ -78,9 +78,14 @@ def hammer_sheet(ws, ctx, title):
     # envelope table (design-flow rejection) and chart
     env = r.transient_envelope
     env = env[env["rejection from"] == "design flow"].drop(columns=["rejection from"])
-    et = convert_table(env, ctx.system)
-    sh.put(ws, row, 1, "Envelopes along the route, rejection from the design flow",
-           font=sh.SUBTITLE)
+    total = len(env)
+    heads = [c for c in env.columns if c.startswith(("pipe elevation", "maximum head",
+                                                     "minimum head", "minimum pressure head",
+                                                     "design pressure head"))]
+    env = env.iloc[sh.route_rows(env["chainage [m]"], env[heads])]
+    et = convert_table(env.reset_index(drop=True), ctx.system)
+    sh.put(ws, row, 1, "Envelopes along the route, rejection from the design flow"
+           + sh.rows_note(len(env), total, "transient_envelope.csv"), font=sh.SUBTITLE)
     efirst, elast = sh.write_table(ws, et, row=row + 1)
     cols = list(et.columns)
     lu = ctx.u("m")

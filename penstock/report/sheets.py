@@ -37,6 +37,64 @@ FORMATS = {
 }
 
 
+#: Tables along the route longer than this show selected rows on their sheet (and every
+#: row in their CSV), so that a surveyed route of any length gives a readable sheet.
+ROUTE_ROWS = 400
+
+
+def route_rows(chainage, values, labelled=None, limit: int = ROUTE_ROWS) -> np.ndarray:
+    """Positions of the rows of a table along the route to show on a sheet.
+
+    Parameters
+    ----------
+    chainage : array_like
+        Chainage of each row, non-decreasing. [m]
+    values : array_like of shape (rows, k)
+        Columns whose highs and lows must stay visible (elevations, heads, pressure
+        heads); NaN is ignored. [-]
+    labelled : array_like of bool, optional
+        Rows that are always shown (named points: fittings, diameter changes). [-]
+    limit : int
+        Tables of at most this many rows are shown whole. [-]
+
+    Returns
+    -------
+    numpy.ndarray
+        Sorted row positions: every row of a short table; otherwise the first and
+        last rows, the labelled rows, and in each of ``limit // 4`` stretches of equal
+        chainage its first row and the rows of the smallest and largest value of each
+        column, so that every extreme of the table (the lowest pressure head of each
+        stretch, the high points) and the shape of a chart of it survive. [-]
+    """
+    x = np.asarray(chainage, dtype=float)
+    n = x.size
+    if n <= limit:
+        return np.arange(n)
+    v = np.asarray(values, dtype=float).reshape(n, -1)
+    bins = max(1, limit // 4)
+    span = x[-1] - x[0]
+    stretch = (np.zeros(n, np.intp) if span <= 0 else
+               np.minimum(((x - x[0]) / span * bins).astype(np.intp), bins - 1))
+    keep = [np.array([0, n - 1]), np.unique(stretch, return_index=True)[1]]
+    if labelled is not None:
+        keep.append(np.flatnonzero(np.asarray(labelled, dtype=bool)))
+    for column in v.T:
+        for signed in (column, -column):
+            key = np.where(np.isnan(signed), np.inf, signed)
+            order = np.lexsort((key, stretch))       # by stretch, then value
+            first = np.unique(stretch[order], return_index=True)[1]
+            keep.append(order[first])
+    return np.unique(np.concatenate(keep))
+
+
+def rows_note(shown: int, total: int, csv: str) -> str:
+    """The note beside a table along the route: how many rows it shows, and where all are."""
+    if shown >= total:
+        return ""
+    return (f" (showing {shown:,} of {total:,} rows: the ends, the named points, and the "
+            f"highest and lowest values of each stretch of the route; every row is in {csv})")
+
+
 def _set_value(cell, value) -> str:
     """Give ``cell`` the value; text always lands as text, never as a formula.
 

@@ -217,18 +217,26 @@ def _route_sheet(ws, ctx):
     flagged = _flag_column(r, wide["chainage [m]"].to_numpy(), wide["pipe elevation [m]"])
     wide["flagged: pressure below margin [m]"] = flagged
     wide["required margin [m]"] = ctx.case.pressure_margin
-    table = convert_table(wide, ctx.system)
+    total = len(wide)
+    crown = [c for c in wide.columns if c.startswith(("pipe elevation", "crown pressure"))]
+    wide = wide.iloc[sh.route_rows(wide["chainage [m]"], wide[crown],
+                                   labelled=wide["point"] != "profile")]
+    table = convert_table(wide.reset_index(drop=True), ctx.system)
     sh.put(ws, row, 1, "Flows: " + "; ".join(
-        f"{k} {ctx.v(q, 'm^3/s'):.3f} {ctx.u('m^3/s')}" for k, q in flows.items()), font=sh.NOTE)
+        f"{k} {ctx.v(q, 'm^3/s'):.3f} {ctx.u('m^3/s')}" for k, q in flows.items())
+        + sh.rows_note(len(wide), total, "grade_lines.csv"), font=sh.NOTE)
     row += 1
     first, last = sh.write_table(ws, table, row=row, widths={c: 13 for c in table.columns[2:]})
     ws.column_dimensions["B"].width = 34
     ws.freeze_panes = ws.cell(row=first, column=2)
     ctx.page(ws)
     # the profile with its ground line, below the grade-line table
-    prof = convert_table(r.profile, ctx.system)
+    prof = r.profile
+    rows = sh.route_rows(prof.iloc[:, 0], prof.iloc[:, 1:])
+    prof = convert_table(prof.iloc[rows].reset_index(drop=True), ctx.system)
     chart_row = last + 2
-    sh.put(ws, last + 30, 1, "Route profile as given", font=sh.SUBTITLE)
+    sh.put(ws, last + 30, 1, "Route profile as given" + sh.rows_note(
+        len(rows), len(r.profile), "the case's profile file"), font=sh.SUBTITLE)
     pfirst, plast = sh.write_table(ws, prof, row=last + 31, col=1)
     cols = list(table.columns)
     chart = _route_chart(ctx, ws, table, cols, first, last, cases, 1, pfirst, plast, prof)
