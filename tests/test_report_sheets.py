@@ -14,7 +14,6 @@ import pytest
 from conftest import CASES, copy_demo
 from hypothesis import given, settings
 from hypothesis import strategies as st
-from hypothesis.extra.numpy import arrays
 
 import penstock
 from penstock.report import write_reports
