@@ -2,6 +2,8 @@
 
 * :func:`copy_demo` / the ``demo_case_dir`` fixture copy a bundled demo case into a
   temporary folder, so a test can break it without touching ``cases/``.
+* the ``demo_run`` fixture runs each bundled demo once per test session (and worker):
+  ``demo_run(name, samples=None)`` gives ``(case, results)``, shared, to be read only.
 * :func:`write_case` writes a case folder from a TOML text and CSV texts.
 * :func:`run_cli` runs ``penstock.cli.main(argv)`` in-process and returns
   ``(exit code, stdout, stderr)``.  An exception escaping ``main`` is caught and its
@@ -40,6 +42,27 @@ def demo_case_dir(tmp_path):
         return copy_demo(name, tmp_path)
 
     return make
+
+
+@pytest.fixture(scope="session")
+def demo_run():
+    """``demo_run(name, samples=None) -> (case, results)``, each run once per session.
+
+    The pair is shared by every module that asks for it: read it, never change it (copy a
+    case with :func:`copy.copy` before editing one of its attributes).
+    """
+    import penstock
+
+    cache = {}
+
+    def get(name: str, samples: int | None = None):
+        key = (name, samples)
+        if key not in cache:
+            case = penstock.load_case(CASES / name)
+            cache[key] = (case, penstock.run_case(case, samples=samples))
+        return cache[key]
+
+    return get
 
 
 def write_case(folder: Path, toml_text: str, files: dict[str, str] | None = None) -> Path:

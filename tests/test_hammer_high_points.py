@@ -25,10 +25,8 @@ DEMOS = ["alder-gorge-high-head", "cedar-fork-us-units", "millrace-flats-low-hea
 
 
 @pytest.fixture(scope="module")
-def runs():
-    from conftest import CASES
-
-    return {n: penstock.run_case(penstock.load_case(CASES / n), samples=0) for n in DEMOS}
+def runs(demo_run):
+    return {n: demo_run(n, samples=0)[1] for n in DEMOS}
 
 
 @pytest.mark.parametrize("name", DEMOS)

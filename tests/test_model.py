@@ -27,9 +27,8 @@ CENTRE = "pressure head at the centreline, normal headwater [m]"
 
 
 @pytest.fixture(scope="module", params=DEMOS)
-def demo(request):
-    case = penstock.load_case(CASES / request.param)
-    return case, penstock.run_case(case)
+def demo(request, demo_run):
+    return demo_run(request.param)
 
 
 def copy_case(tmp_path, name="alder-gorge-high-head", edit=None, profile=None):

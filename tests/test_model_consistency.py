@@ -22,8 +22,8 @@ MARGIN = "minimum steady pressure margin at the crown, minimum headwater [m]"
 
 
 @pytest.fixture(scope="module")
-def demos():
-    return {name: run_case(penstock.load_case(CASES / name), samples=0) for name in DEMO_CASES}
+def demos(demo_run):
+    return {name: demo_run(name, samples=0)[1] for name in DEMO_CASES}
 
 
 def test_recommended_diameter_passes_the_pressure_checks_as_the_case_own_pipe(demos):

@@ -12,7 +12,6 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-import penstock
 from penstock.constants import GRAVITY
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
@@ -21,9 +20,8 @@ CROWN = "minimum pressure head at the crown, minimum headwater [m]"
 
 
 @pytest.fixture(scope="module")
-def alder():
-    case = penstock.load_case(CASES / "alder-gorge-high-head")
-    return case, penstock.run_case(case)
+def alder(demo_run):
+    return demo_run("alder-gorge-high-head")
 
 
 def _check(r, name):

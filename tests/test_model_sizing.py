@@ -22,9 +22,8 @@ CASES = Path(__file__).resolve().parents[1] / "cases"
 
 
 @pytest.fixture(scope="module")
-def lowhead():
-    case = penstock.load_case(CASES / "millrace-flats-low-head")
-    return case, penstock.run_case(case)
+def lowhead(demo_run):
+    return demo_run("millrace-flats-low-head")
 
 
 @pytest.fixture(scope="module")

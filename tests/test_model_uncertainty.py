@@ -20,9 +20,8 @@ SPREADS = dict(roughness_factor=0.0, roughness_growth=0.0, efficiency_offset=0.0
 
 
 @pytest.fixture(scope="module")
-def base():
-    case = penstock.load_case(CASES / "alder-gorge-high-head")
-    return case, penstock.run_case(case, samples=0)
+def base(demo_run):
+    return demo_run("alder-gorge-high-head", samples=0)
 
 
 def _case(base, **kw):

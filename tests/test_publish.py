@@ -26,7 +26,6 @@ import pytest
 from conftest import CASES, copy_demo, folder_listing, run_cli
 
 import penstock.report as report
-from penstock import load_case, run_case
 from penstock.report import atomic, publish
 from penstock.report.publish import (
     MANIFEST,
@@ -55,9 +54,9 @@ def _hidden(parent: Path) -> list[str]:
 
 # --------------------------------------------------------------------------- fixtures
 @pytest.fixture(scope="module")
-def results():
+def results(demo_run):
     """One run of the low-head demo, shared: the tests here are about writing."""
-    return run_case(load_case(CASES / LOW_HEAD))
+    return demo_run(LOW_HEAD)[1]
 
 
 def _fast_figures(results, folder, system):

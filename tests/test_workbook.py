@@ -38,7 +38,6 @@ from conftest import CASES, DEMO_CASES, REPO, copy_demo, edit_file, folder_listi
 from openpyxl.utils import get_column_letter, range_boundaries
 from openpyxl.utils.cell import coordinate_from_string
 
-import penstock
 from penstock.report import write_reports
 
 FOOT = 0.3048   # m; international foot (1959), NIST SP 811 App. B.8
@@ -72,12 +71,12 @@ class Demo:
 
 
 @pytest.fixture(scope="module")
-def demos(tmp_path_factory) -> dict[str, Demo]:
+def demos(tmp_path_factory, demo_run) -> dict[str, Demo]:
     """Each demo case run once and written in its own unit system."""
     base = tmp_path_factory.mktemp("workbooks")
     out = {}
     for name in DEMO_CASES:
-        results = penstock.run_case(penstock.load_case(CASES / name))
+        results = demo_run(name)[1]
         book = write_reports(results, base / name / name)["workbook"]
         out[name] = Demo(name, results, book, openpyxl.load_workbook(book))
     return out
