@@ -721,6 +721,25 @@ _MODULUS_FALLBACK = {
 }
 
 
+def pipe_wall_material(pipe_material):
+    """Registry material standing for a pipe material of the case, or None.
+
+    Parameters
+    ----------
+    pipe_material : str
+        A material of the roughness table (``welded_steel``, ``hdpe``, ...). [-]
+
+    Returns
+    -------
+    Material or None
+        The registry's material for the wall's strength and classes (steel: ASTM A36,
+        which a case's own steel grade replaces); None where the registry holds none
+        (PVC, concrete). [-]
+    """
+    name = _MODULUS_SOURCE.get(pipe_material)
+    return MATERIALS[name] if name is not None else None
+
+
 def pipe_wall_modulus(pipe_material):
     """Young's modulus of a pipe wall, by the case's pipe material name.
 

@@ -41,6 +41,9 @@ __all__ = [
     "vacuum_check",
     "vacuum_thickness",
     "wall_along_route",
+    "WALL_RATING_BASIS",
+    "wall_pressure_rating",
+    "wall_head_rating",
 ]
 
 _INCH = INCH
@@ -105,6 +108,102 @@ def hoop_thickness(
     c = _array("corrosion_allowance", corrosion_allowance, nonnegative=True, unit="m")
     t = p * d / (2.0 * s * e) + c
     return _finish(t, pressure, diameter, allowable_stress, joint_efficiency, corrosion_allowance)
+
+
+#: Diameter at which each wall family's hoop rating is taken: its design rule's own.
+WALL_RATING_BASIS = {
+    # the tool's own steel design (hoop_thickness, ASCE MOP 79 / AWWA M11 at the inside
+    # diameter), so that a wall it designs passes its own check
+    "steel": "inside",
+    # ISO 4427-2: p = 2 sigma_s / (SDR - 1), the hoop relation at the mean diameter
+    "hdpe": "mean",
+    # filament-wound GRP: hoop stress at the mean diameter (common practice)
+    "grp": "mean",
+    # AWWA C150 / EN 545 wall design uses the outside diameter (from memory)
+    "ductile_iron": "outside",
+}
+
+
+def wall_pressure_rating(thickness, diameter, allowable_stress, basis="inside",
+                         joint_efficiency=1.0, corrosion_allowance=0.0):
+    """Internal pressure a wall carries at its allowable hoop stress (thin wall).
+
+    Parameters
+    ----------
+    thickness : numeric
+        Wall thickness as built (nominal). [m]
+    diameter : numeric
+        Inside diameter. [m]
+    allowable_stress : numeric
+        Allowable hoop stress of the wall material (for PE, the design stress MRS/C). [Pa]
+    basis : {"inside", "mean", "outside"}
+        Diameter of the hoop relation: the inside diameter :math:`D` (as
+        :func:`hoop_thickness`), the mean :math:`D + t` or the outside :math:`D + 2t`;
+        see :data:`WALL_RATING_BASIS`. [-]
+    joint_efficiency : numeric
+        Longitudinal joint efficiency, in (0, 1]. [-]
+    corrosion_allowance : numeric
+        Part of the wall not counted on (corrosion, abrasion). [m]
+
+    Returns
+    -------
+    numeric
+        Allowable internal pressure (gauge); 0 where the allowance takes the whole wall.
+        [Pa]
+
+    Notes
+    -----
+    .. math:: p_a = \\frac{2 \\sigma_a E_j (t - c)}{D_b}
+
+    the Barlow/Mariotte relation :math:`\\sigma = p D_b / (2 t)` with
+    :math:`D_b = D`, :math:`D + t` or :math:`D + 2t`. At the inside diameter it inverts
+    :func:`hoop_thickness` exactly. At the mean diameter, with :math:`c = 0` and
+    :math:`E_j = 1`, it is ISO 4427-2's rating of a PE pipe,
+    :math:`p = 2\\sigma_s / (SDR - 1)` with :math:`SDR = (D + 2t)/t`
+    (:func:`penstock.materials.sdr_pressure_rating`).
+
+    References
+    ----------
+    .. [1] ASCE, "Steel Penstocks", MOP 79, 2nd ed., 2012, ch. 3 (hoop stress with joint
+       efficiency). DOI 10.1061/9780784411711
+    .. [2] ISO 4427-2:2019, Plastics piping systems for water supply - Polyethylene (PE) -
+       Part 2: Pipes (PN, MRS, C and SDR).
+    """
+    t = _array("thickness", thickness, positive=True, unit="m")
+    d = _array("diameter", diameter, positive=True, unit="m")
+    s = _array("allowable_stress", allowable_stress, positive=True, unit="Pa")
+    e = _array("joint_efficiency", joint_efficiency, positive=True, unit="-")
+    if np.any(e > 1.0):
+        raise ValueError("joint_efficiency must lie in (0, 1] [-].")
+    c = _array("corrosion_allowance", corrosion_allowance, nonnegative=True, unit="m")
+    factor = {"inside": 0.0, "mean": 1.0, "outside": 2.0}.get(basis)
+    if factor is None:
+        raise ValueError(f"basis must be 'inside', 'mean' or 'outside'; got {basis!r}")
+    out = 2.0 * s * e * np.maximum(t - c, 0.0) / (d + factor * t)
+    return _finish(out, thickness, diameter, allowable_stress)
+
+
+def wall_head_rating(thickness, diameter, allowable_stress, basis="inside",
+                     joint_efficiency=1.0, corrosion_allowance=0.0,
+                     water_density=_WATER_DENSITY):
+    """:func:`wall_pressure_rating` as a head of water.
+
+    Parameters
+    ----------
+    thickness, diameter, allowable_stress, basis, joint_efficiency, corrosion_allowance
+        As :func:`wall_pressure_rating`. [m], [m], [Pa], [-], [-], [m]
+    water_density : numeric
+        Density of the water the head is measured in. [kg/m^3]
+
+    Returns
+    -------
+    numeric
+        Allowable internal pressure head :math:`p_a / (\\rho g)`. [m]
+    """
+    rho = _array("water_density", water_density, positive=True, unit="kg/m^3")
+    p = wall_pressure_rating(thickness, diameter, allowable_stress, basis, joint_efficiency,
+                             corrosion_allowance)
+    return _finish(np.asarray(p) / (rho * GRAVITY), thickness, diameter, allowable_stress)
 
 
 def select_pressure_class(pressure, pressure_classes):

@@ -175,8 +175,8 @@ SECTIONS: tuple[Section, ...] = (
               optional=True, minimum=0.0, maximum=0.05),
         Field("condition", "choice", "Which roughness of the material to use.", default="new",
               choices=("new", "aged")),
-        Field("wall_thickness", "length", "Wall thickness, for the wave speed.", optional=True,
-              minimum=0.0, exclusive_minimum=True, maximum=0.5),
+        Field("wall_thickness", "length", "Wall thickness, for the wave speed and the "
+              "own-wall check.", optional=True, minimum=0.0, exclusive_minimum=True, maximum=0.5),
         Field("roughness_growth", "roughness_growth", "Linear growth of the roughness with age "
               "(Colebrook & White 1937); when given, grade lines after route.service_life "
               "years are drawn too. Typical rates (Lamont 1981): 0.025 mm/year slight to "

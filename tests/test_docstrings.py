@@ -13,7 +13,7 @@ import pytest
 
 MODULES = ["water", "friction", "fittings", "gradeline", "hydrology", "turbines", "energy",
            "drafttube", "wavespeed", "surge", "transients", "materials", "pipewall",
-           "economics", "diameter"]
+           "economics", "diameter", "thrust"]
 
 #: Sections beyond Parameters and Returns that every function of a module must carry.
 FULL_SECTIONS = {"water": ("Notes", "References"), "friction": ("Notes", "References")}

@@ -135,3 +135,61 @@ def test_closure_study_contains_the_case_closure(alder):
         env["maximum transient rise [m]"].max(), rel=0.01)
     assert row["minimum head along the route [m]"] == pytest.approx(
         env["minimum head [m]"].min(), rel=0.01)
+
+
+# --------------------------------------------------------------------------- own walls
+def test_the_demo_walls_pass_their_own_check(alder):
+    _, r = alder
+    w = r.own_wall_checks
+    assert list(w["verdict"]) == ["passes"] * len(w)
+    line = r.design_pressure_line
+    for _, row in w.iterrows():
+        inside = line["chainage [m]"].between(row["from chainage [m]"] - 1e-9,
+                                              row["to chainage [m]"] + 1e-9)
+        assert row["highest design pressure head at the invert [m]"] == pytest.approx(
+            line.loc[inside, "design pressure head at the invert [m]"].max(), rel=1e-12)
+
+
+def test_a_thin_plastic_pipe_fails_its_own_check(tmp_path):
+    # the high-head demo's lower pipe as PE100 at SDR about 18.7 (ISO 4427: between PN 8
+    # and PN 10) under about 390 m of design head: the wall must fail, with a caution
+    from conftest import copy_demo, edit_file
+
+    import penstock
+
+    folder = copy_demo("alder-gorge-high-head", tmp_path)
+    toml = folder / "site.toml"
+    edit_file(toml, 'diameter = "1.0 m"\nmaterial = "welded_steel"\nwall_thickness = "22 mm"',
+              'diameter = "1.0 m"\nmaterial = "hdpe"\nwall_thickness = "60 mm"')
+    r = penstock.run_case(penstock.load_case(folder), samples=0)
+    row = r.own_wall_checks.iloc[1]
+    assert row["material"] == "hdpe" and row["verdict"] == "FAILS"
+    # PE100 design stress 8 MPa on the mean diameter 1.06 m: 2 * 8 MPa * 0.06 / 1.06;
+    # cold water's density within 0.1 % of 1000 kg/m^3
+    rating = 2 * 8e6 * 0.06 / 1.06
+    assert row["allowable pressure head [m]"] * GRAVITY * 1000 == pytest.approx(
+        rating, rel=1e-3)
+    msgs = r.cautions[r.cautions["topic"] == "pipe wall"]["message"]
+    assert any("pipe 2 (hdpe" in m and "exceeds" in m for m in msgs)
+    assert (r.cautions.loc[r.cautions["message"].str.contains("pipe 2 \\(hdpe"),
+                           "severity"] == "warning").all()
+
+
+def test_fitting_thrusts_of_the_demo(alder):
+    # by hand: 2 p A sin(theta/2) for a bend of one bore, p (A1 - A2) for a reducer with
+    # no flow (the momentum balance, tests/test_thrust.py)
+    _, r = alder
+    t = r.fitting_thrusts
+    assert list(t["chainage [m]"]) == [1600.0, 1650.0, 2900.0]
+    rho = float(r.summary.loc[r.summary["quantity"] == "water density", "value"].iloc[0])
+    bend = t.iloc[1]
+    p = rho * GRAVITY * bend["design pressure head at the invert [m]"]
+    assert bend["deflection [deg]"] == pytest.approx(35.0)
+    assert bend["thrust, design pressure, no flow [kN]"] * 1e3 == pytest.approx(
+        2 * p * math.pi * 0.25 * 1.0**2 * math.sin(math.radians(17.5)), rel=1e-9)
+    red = t.iloc[0]
+    p = rho * GRAVITY * red["design pressure head at the invert [m]"]
+    assert red["thrust, design pressure, no flow [kN]"] * 1e3 == pytest.approx(
+        p * math.pi * 0.25 * (1.2**2 - 1.0**2), rel=1e-9)
+    assert (t["governing thrust [kN]"] >= t["thrust, design pressure, no flow [kN]"]).all()
+    assert (t["governing thrust [kN]"] >= t["thrust, steady flow with momentum [kN]"]).all()

@@ -48,6 +48,8 @@ TABLE_ORDER = (
     "turbine_head_history",
     "closure_time_study",
     "design_pressure_line",
+    "own_wall_checks",
+    "fitting_thrusts",
     "wave_speed_sensitivity",
     "diameter_candidates",
     "diameter_sweep",
@@ -97,6 +99,8 @@ class Results:
     turbine_head_history: pd.DataFrame | None = None
     closure_time_study: pd.DataFrame | None = None
     design_pressure_line: pd.DataFrame | None = None
+    own_wall_checks: pd.DataFrame | None = None
+    fitting_thrusts: pd.DataFrame | None = None
     wave_speed_sensitivity: pd.DataFrame | None = None
     diameter_candidates: pd.DataFrame | None = None
     diameter_sweep: pd.DataFrame | None = None

@@ -520,6 +520,8 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
         warns.append(Warning_("water hammer", f"the closure time {tc:g} s is shorter than the "
                               f"{shortest:.1f} s that keeps the rise within the allowable"))
     quick = pd.DataFrame(rows, columns=["quantity", "value", "unit"])
+    own_walls = own_wall_checks(case, props, design_x, design_head, warns, methods)
+    thrusts = fitting_thrusts(case, props, steady, design_x, design_head, methods)
     return HammerStage(
         water_hammer_checks=quick, wave_speeds=wave_table, transient_envelope=envelope,
         turbine_head_history=history, closure_time_study=study_table,
@@ -528,6 +530,7 @@ def run(case, props, steady, prod, warns, methods, tick) -> dict:
         design_pressure_line=pd.DataFrame({"chainage [m]": design_x,
                                            "design pressure head at the invert [m]":
                                            design_head}),
+        own_wall_checks=own_walls, fitting_thrusts=thrusts,
         headline=HammerHeadline(
             max_surge_rise=rise_valve, joukowsky=dh_jouk, allowable_rise=allowable,
             joukowsky_wave_speed=float(speeds[-1]), joukowsky_velocity=float(vel[-1]),
@@ -625,3 +628,129 @@ def _two_stage_study(case, props, pipes, reaches, q0, times, frac, knee_opening)
         out["max_head_drop"].append(float(r.max_head_drop.max()))
     return transients.ClosureStudy(closure_time=np.array(times),
                                    **{k: np.array(v) for k, v in out.items()})
+
+
+def own_wall_checks(case, props, design_x, design_head, warns, methods):
+    """The case's own walls against the design pressure line: one row per pipe segment.
+
+    A wall whose hoop rating (:func:`penstock.pipewall.wall_pressure_rating`, on the
+    material family's own basis) is below the highest design pressure head of its
+    segment fails, with a caution; a pipe with no wall thickness or no strength data is
+    a note."""
+    from ..materials import pipe_wall_material
+    from .sizing import wall_material
+
+    w = case.wall
+    steel = wall_material(case)
+    x = np.asarray(design_x, float)
+    head = np.asarray(design_head, float)
+    rows = []
+    for i, seg in enumerate(case.segments, start=1):
+        inside = (x >= seg.start - 1e-9) & (x <= seg.end + 1e-9)
+        need = float(head[inside].max()) if inside.any() else float(
+            np.interp(0.5 * (seg.start + seg.end), x, head))
+        at = float(x[inside][np.argmax(head[inside])]) if inside.any() else seg.start
+        mat = pipe_wall_material(seg.material)
+        kind = None if mat is None else mat.kind
+        row = {"pipe": i, "from chainage [m]": seg.start, "to chainage [m]": seg.end,
+               "material": seg.material, "inside diameter [m]": seg.diameter,
+               "wall thickness [mm]": (np.nan if seg.wall_thickness is None
+                                       else 1e3 * seg.wall_thickness),
+               "allowable stress [MPa]": np.nan, "rating basis": "",
+               "allowable pressure head [m]": np.nan,
+               "highest design pressure head at the invert [m]": need,
+               "at chainage [m]": at, "utilisation [%]": np.nan, "verdict": ""}
+        if seg.wall_thickness is None or kind not in pipewall.WALL_RATING_BASIS:
+            row["verdict"] = ("not checked: no wall thickness" if seg.wall_thickness is None
+                              else f"not checked: no strength data for {seg.material}")
+            warns.append(Warning_("pipe wall", f"pipe {i} ({seg.material}): {row['verdict']}; "
+                                  f"its design pressure head reaches {need:.1f} m at "
+                                  f"chainage {at:.0f} m", chainage=at, severity="note"))
+            rows.append(row)
+            continue
+        is_steel = kind == "steel"
+        sigma = float(steel.allowable_stress if is_steel else mat.allowable_stress)
+        basis = pipewall.WALL_RATING_BASIS[kind]
+        allow_head = float(pipewall.wall_head_rating(
+            seg.wall_thickness, seg.diameter, sigma, basis,
+            joint_efficiency=w["joint_efficiency"] if is_steel else 1.0,
+            corrosion_allowance=w["corrosion_allowance"] if is_steel else 0.0,
+            water_density=props.density))
+        use = 100.0 * need / allow_head if allow_head > 0 else np.nan   # allowance eats all
+        row.update({"allowable stress [MPa]": sigma / 1e6, "rating basis": f"{basis} diameter",
+                    "allowable pressure head [m]": allow_head, "utilisation [%]": use,
+                    "verdict": "passes" if need <= allow_head else "FAILS"})
+        if need > allow_head:
+            warns.append(Warning_(
+                "pipe wall", f"pipe {i} ({seg.material}, {1e3 * seg.wall_thickness:.1f} mm "
+                f"wall): the design pressure head {need:.1f} m at chainage {at:.0f} m exceeds "
+                f"the {allow_head:.1f} m the wall carries at its allowable hoop stress "
+                + (f"({use:.0f} %)" if allow_head > 0 else "(none: the corrosion allowance takes "
+                   "the whole wall)") + "; a thicker wall or a higher pressure class is needed",
+                chainage=at))
+        rows.append(row)
+    methods.add("Own wall check", "each pipe's given wall against the highest design "
+                "pressure head (static at the flood level plus the transient rise) of its "
+                "segment: p = 2·σ_allow·E_j·(t − c)/D_b, D_b the inside diameter for steel "
+                "(the tool's own design rule, with the case's grade, joint efficiency and "
+                "corrosion allowance), the mean diameter for PE (ISO 4427-2's "
+                "p = 2σ/(SDR − 1)) and GRP, the outside diameter for ductile iron",
+                "ASCE MOP 79 (2012) ch. 3; ISO 4427-2:2019; AWWA C150 / EN 545 (basis from "
+                "memory)")
+    return pd.DataFrame(rows)
+
+
+def _value_at(x, values, at):
+    """The largest of ``values`` at chainage ``at`` (both sides of a step), else linear."""
+    here = np.abs(x - at) <= 1e-6
+    return float(values[here].max()) if here.any() else float(np.interp(at, x, values))
+
+
+def fitting_thrusts(case, props, steady, design_x, design_head, methods):
+    """Thrust on each bend and each change of diameter, for anchor-block design: the
+    design pressure (static at the flood level plus the surge) with no flow, and the
+    steady state at the largest study flow with its momentum; the larger governs."""
+    from .. import thrust
+
+    def segment_at(at):
+        for seg in case.segments:
+            if seg.start - 1e-9 <= at < seg.end - 1e-9:
+                return seg
+        return case.segments[-1]
+
+    fittings = [(loss.label, loss.at, float(loss.params["angle"]), segment_at(loss.at),
+                 segment_at(loss.at)) for loss in case.losses if loss.kind == "bend"]
+    fittings += [(f"change of diameter at {b.start:g} m", b.start, 0.0, a, b)
+                 for a, b in zip(case.segments[:-1], case.segments[1:], strict=True)
+                 if a.diameter != b.diameter]
+    route = steady.route
+    k = int(np.argmax(steady.flows))
+    q = float(steady.flows[k])
+    x_d, h_d = np.asarray(design_x, float), np.asarray(design_head, float)
+    x_s, h_s = np.asarray(route.chainage, float), np.asarray(steady.gl.pressure_head[k], float)
+    rows = []
+    for label, at, angle, up, down in sorted(fittings, key=lambda f: f[1]):
+        h_design, h_steady = _value_at(x_d, h_d, at), _value_at(x_s, h_s, at)
+        shape = dict(area_in=up.area, angle=angle, density=props.density, area_out=down.area)
+        f_design = float(thrust.fitting_thrust_at_heads(h_design, **shape))
+        f_steady = float(thrust.fitting_thrust_at_heads(h_steady, flow=q, **shape))
+        rows.append({"fitting": label, "chainage [m]": at, "deflection [deg]": np.degrees(angle),
+                     "inlet diameter [m]": up.diameter, "outlet diameter [m]": down.diameter,
+                     "design pressure head at the invert [m]": h_design,
+                     "thrust, design pressure, no flow [kN]": f_design / 1e3,
+                     "flow of the steady case [m^3/s]": q,
+                     "steady pressure head at the centreline [m]": h_steady,
+                     "thrust, steady flow with momentum [kN]": f_steady / 1e3,
+                     "governing thrust [kN]": max(f_design, f_steady) / 1e3})
+    methods.add("Thrust at bends and changes of diameter", "resultant of p·A and ρ·Q·V at "
+                "both ends, R = √(a² + b² − 2ab·cos θ) (2·(pA + ρQV)·sin(θ/2) for one bore), "
+                "in the plane of the bend; the design pressure line with no flow, and the "
+                "steady state at the largest study flow; the weight of water and pipe in a "
+                "vertical bend is not included", "linear-momentum balance of a control "
+                "volume; AWWA M11 thrust restraint T = 2pA·sin(Δ/2) (from memory)")
+    columns = ["fitting", "chainage [m]", "deflection [deg]", "inlet diameter [m]",
+               "outlet diameter [m]", "design pressure head at the invert [m]",
+               "thrust, design pressure, no flow [kN]", "flow of the steady case [m^3/s]",
+               "steady pressure head at the centreline [m]",
+               "thrust, steady flow with momentum [kN]", "governing thrust [kN]"]
+    return pd.DataFrame(rows, columns=columns)

@@ -167,6 +167,8 @@ class HammerStage:
     grid_reaches: int                 # MOC reaches over the whole pipe, converged grid
     screening_reaches: int            # the coarsest grid tried (the diameter study's)
     headline: HammerHeadline
+    own_wall_checks: pd.DataFrame | None = None
+    fitting_thrusts: pd.DataFrame | None = None
 
 
 @dataclass

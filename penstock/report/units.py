@@ -19,7 +19,7 @@ _BRACKET = re.compile(r"^(.*)\[([^\[\]]+)\]\s*$")
 US_UNITS = {
     "m": "ft", "mm": "in", "m^2": "ft^2", "m^3/s": "ft^3/s", "m/s": "ft/s",
     "kPa": "psi", "MPa": "psi", "GPa": "ksi", "degC": "degF", "t": "ton", "kg/m^3": "lb/ft^3",
-    "m/year": "ft/year", "kg*m^2": "lb*ft^2",
+    "m/year": "ft/year", "kg*m^2": "lb*ft^2", "kN": "kip",
 }
 
 

@@ -354,9 +354,37 @@ def _pressure_sheet(ws, ctx):
     sh.put(ws, row, 1, "Flagged stretches", font=sh.SUBTITLE)
     row += 1
     if len(r.flagged_stretches):
-        sh.write_table(ws, convert_table(r.flagged_stretches, ctx.system), row=row)
+        _, last = sh.write_table(ws, convert_table(r.flagged_stretches, ctx.system), row=row)
     else:
         sh.put(ws, row, 1, "None: the pressure head stays above the margin at every flow.")
+        last = row
+    walls = r.own_wall_checks
+    if walls is not None and len(walls):
+        row = last + 2
+        sh.put(ws, row, 1, "The case's own walls against the design pressure line (static "
+               "head at the flood level plus the transient rise)", font=sh.SUBTITLE)
+        shown = walls[["pipe", "material", "inside diameter [m]", "wall thickness [mm]",
+                       "allowable pressure head [m]",
+                       "highest design pressure head at the invert [m]", "at chainage [m]",
+                       "utilisation [%]", "verdict"]]
+        sh.put(ws, row + 1, 1, "Allowable stress, rating basis and each pipe's extent: "
+               "own_wall_checks.csv.", font=sh.NOTE)
+        _, last = sh.write_table(ws, convert_table(shown, ctx.system), row=row + 2,
+                                 widths={"verdict": 18})
+    thrusts = r.fitting_thrusts
+    if thrusts is not None and len(thrusts):
+        row = last + 2
+        sh.put(ws, row, 1, "Thrust on bends and changes of diameter, for the anchor blocks "
+               "(in the plane of the bend; add the weight of water and pipe in a vertical "
+               "bend)", font=sh.SUBTITLE)
+        shown = thrusts[["fitting", "chainage [m]", "deflection [deg]",
+                         "design pressure head at the invert [m]",
+                         "thrust, design pressure, no flow [kN]",
+                         "thrust, steady flow with momentum [kN]", "governing thrust [kN]"]]
+        sh.put(ws, row + 1, 1, "Diameters and the steady case's flow and pressure: "
+               "fitting_thrusts.csv.", font=sh.NOTE)
+        sh.write_table(ws, convert_table(shown, ctx.system), row=row + 2,
+                       widths={"fitting": 30})
     ctx.page(ws)
 
 
