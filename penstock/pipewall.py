@@ -44,6 +44,7 @@ __all__ = [
     "WALL_RATING_BASIS",
     "wall_pressure_rating",
     "wall_head_rating",
+    "class_for_head",
 ]
 
 _INCH = INCH
@@ -240,6 +241,36 @@ def select_pressure_class(pressure, pressure_classes):
             f"{classes[-1]:.4g} Pa; choose a stronger material or class."
         )
     return _finish(classes[np.searchsorted(classes, p, side="left")], pressure)
+
+
+def class_for_head(head, pressure_classes, labels, water_density=_WATER_DENSITY):
+    """Name of the lowest pressure class carrying a design pressure head, or None.
+
+    Parameters
+    ----------
+    head : float
+        Design pressure head (gauge), static plus transient. [m]
+    pressure_classes : array_like
+        Ratings of the available classes, in the order of ``labels``. [Pa]
+    labels : sequence of str
+        Name of each class (``"PN10"``, ``"C40"``, ...). [-]
+    water_density : float
+        Density of the water the head is measured in. [kg/m^3]
+
+    Returns
+    -------
+    str or None
+        The label of :func:`select_pressure_class`'s class for
+        :math:`p = \\rho g h`; None when the head is above the highest class. [-]
+    """
+    classes = np.asarray(pressure_classes, dtype=float)
+    if len(labels) != classes.size:
+        raise ValueError("labels must name each of the pressure_classes [-].")
+    p = float(water_density) * GRAVITY * max(float(head), 0.0)
+    if classes.size == 0 or p > classes.max():
+        return None
+    rating = float(select_pressure_class(p, classes))
+    return labels[int(np.flatnonzero(classes == rating)[0])]
 
 
 # --------------------------------------------------------------------------------------

@@ -221,7 +221,7 @@ def _is_number(v) -> bool:
 
 #: Text columns that quote quantities in the case's unit system (compared as numbers
 #: elsewhere in the tables).
-TEXT_WITH_QUANTITIES = {"message", "component", "point", "rejection from", "note"}
+TEXT_WITH_QUANTITIES = {"message", "component", "point", "rejection from", "note", "fitting"}
 
 
 def _assert_tables_equal(a: dict, b: dict):

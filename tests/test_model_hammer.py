@@ -164,6 +164,7 @@ def test_a_thin_plastic_pipe_fails_its_own_check(tmp_path):
     r = penstock.run_case(penstock.load_case(folder), samples=0)
     row = r.own_wall_checks.iloc[1]
     assert row["material"] == "hdpe" and row["verdict"] == "FAILS"
+    assert row["lowest class carrying the design head"] == "none: above PN32"
     # PE100 design stress 8 MPa on the mean diameter 1.06 m: 2 * 8 MPa * 0.06 / 1.06;
     # cold water's density within 0.1 % of 1000 kg/m^3
     rating = 2 * 8e6 * 0.06 / 1.06

@@ -387,3 +387,17 @@ def test_wall_rating_orders_its_bases_and_grows_with_the_wall(t, d, c_share):
 def test_wall_rating_refuses_an_unknown_basis():
     with pytest.raises(ValueError, match="basis"):
         pipewall.wall_pressure_rating(0.01, 1.0, 150e6, "middle")
+
+
+def test_class_for_head_names_the_lowest_class_that_carries_it():
+    # PE100 classes (ISO 4427-2 PN series, penstock.materials): 95 m of water at
+    # 1000 kg/m^3 is 0.932 MPa -> PN10; nothing -> the lowest; 400 m (3.9 MPa) -> none
+    pe = MATERIALS["hdpe_pe100"]
+    pick = lambda h: pipewall.class_for_head(h, pe.pressure_classes,  # noqa: E731
+                                             pe.pressure_class_labels, 1000.0)
+    assert pick(95.0) == "PN10"
+    assert pick(0.0) == "PN4"
+    assert pick(1e5 * 10 / (1000.0 * GRAVITY)) == "PN10"      # exactly 10 bar
+    assert pick(400.0) is None
+    with pytest.raises(ValueError, match="labels"):
+        pipewall.class_for_head(10.0, (1e5, 2e5), ("PN1",))

@@ -659,7 +659,14 @@ def own_wall_checks(case, props, design_x, design_head, warns, methods):
                "allowable stress [MPa]": np.nan, "rating basis": "",
                "allowable pressure head [m]": np.nan,
                "highest design pressure head at the invert [m]": need,
-               "at chainage [m]": at, "utilisation [%]": np.nan, "verdict": ""}
+               "at chainage [m]": at, "utilisation [%]": np.nan, "verdict": "",
+               "lowest class carrying the design head": ""}
+        if mat is not None and mat.pressure_classes:
+            label = pipewall.class_for_head(need, mat.pressure_classes,
+                                            mat.pressure_class_labels, props.density)
+            row["lowest class carrying the design head"] = (
+                label if label is not None else
+                f"none: above {mat.pressure_class_labels[int(np.argmax(mat.pressure_classes))]}")
         if seg.wall_thickness is None or kind not in pipewall.WALL_RATING_BASIS:
             row["verdict"] = ("not checked: no wall thickness" if seg.wall_thickness is None
                               else f"not checked: no strength data for {seg.material}")
@@ -720,8 +727,9 @@ def fitting_thrusts(case, props, steady, design_x, design_head, methods):
 
     fittings = [(loss.label, loss.at, float(loss.params["angle"]), segment_at(loss.at),
                  segment_at(loss.at)) for loss in case.losses if loss.kind == "bend"]
-    fittings += [(f"change of diameter at {b.start:g} m", b.start, 0.0, a, b)
-                 for a, b in zip(case.segments[:-1], case.segments[1:], strict=True)
+    fittings += [(f"change of diameter, pipe {i} to pipe {i + 1}", b.start, 0.0, a, b)
+                 for i, (a, b) in enumerate(zip(case.segments[:-1], case.segments[1:],
+                                                strict=True), start=1)
                  if a.diameter != b.diameter]
     route = steady.route
     k = int(np.argmax(steady.flows))

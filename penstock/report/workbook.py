@@ -366,7 +366,10 @@ def _pressure_sheet(ws, ctx):
         shown = walls[["pipe", "material", "inside diameter [m]", "wall thickness [mm]",
                        "allowable pressure head [m]",
                        "highest design pressure head at the invert [m]", "at chainage [m]",
-                       "utilisation [%]", "verdict"]]
+                       "utilisation [%]", "verdict"]
+                      + (["lowest class carrying the design head"]
+                         if walls["lowest class carrying the design head"].astype(bool).any()
+                         else [])]
         sh.put(ws, row + 1, 1, "Allowable stress, rating basis and each pipe's extent: "
                "own_wall_checks.csv.", font=sh.NOTE)
         _, last = sh.write_table(ws, convert_table(shown, ctx.system), row=row + 2,
