@@ -47,6 +47,8 @@ __all__ = [
     "sarkaria_diameter",
     "sensitivity_grid",
     "standard_sizes",
+    "SteppedDesign",
+    "stepped_design",
 ]
 
 _KW = 1000.0  # W
@@ -799,3 +801,135 @@ def one_at_a_time(
             res = optimum_diameter(cost_fn_factory(**inputs), bounds, sizes, xatol=xatol)
             rows.append(row(name, factor, inputs[name], res))
     return tuple(rows)
+
+
+@dataclasses.dataclass(frozen=True)
+class SteppedDesign:
+    """The cheapest stepped design of :func:`stepped_design`."""
+
+    #: Option (column of the cost table) of each reach. [-]
+    option: np.ndarray
+    #: Total cost: the reaches' costs plus the transitions. [currency/year]
+    cost: float
+    #: Runs of one option: (first reach, last reach, option), in route order. [-]
+    runs: tuple
+
+
+def stepped_design(lengths, reach_cost, *, transition_cost=0.0, minimum_length=0.0,
+                   feasible=None):
+    """Cheapest choice of an option (a diameter, a material) for each reach of a route.
+
+    Parameters
+    ----------
+    lengths : array_like of shape (R,)
+        Length of each reach between consecutive stations, in route order. [m]
+    reach_cost : array_like of shape (R, K)
+        Cost of each reach built with each of K options, e.g. annualized capital plus
+        the value of the energy its friction loses. [currency/year]
+    transition_cost : float or array_like of shape (K, K), default 0
+        Cost of each change from one option (row) to the next (column) between two
+        reaches (a reducer, a change of material); the diagonal is ignored. [currency/year]
+    minimum_length : float, default 0
+        Shortest run of one option; every run, the first and the last included, must
+        be at least this long. [m]
+    feasible : array_like of bool, shape (R, K), optional
+        Whether each option is allowed on each reach (wall, class and buckling
+        rules); all by default. [-]
+
+    Returns
+    -------
+    SteppedDesign
+        The option of each reach, the total cost and the runs. [-]
+
+    Raises
+    ------
+    ValueError
+        When no design meets the minimum length and the feasibility (the route shorter
+        than ``minimum_length``, or a reach that no option may take).
+
+    Notes
+    -----
+    Dynamic programming over the stations (Bellman's principle of optimality): with
+    :math:`P_k(r)` the cost of reaches :math:`0..r-1` in option :math:`k` and
+    :math:`B_k(r)` the cheapest design of those reaches whose last run is in option
+    :math:`k`,
+
+    .. math::
+
+        B_k(r) = \\min_{i:\\ L(i, r) \\ge L_{min}} \\Big[\\min_{k'} \\big(B_{k'}(i)
+        + T_{k'k}\\big) + P_k(r) - P_k(i)\\Big], \\qquad B_k(0) = 0,\\ T_{kk} = 0
+
+    over the starts :math:`i` of the last run, :math:`L(i, r)` its length. The work
+    grows as :math:`R^2 K`. The costs must be additive over the reaches: a reach's
+    energy loss is charged at its own share of the loss (a first-order split of the
+    plant's lost energy), and a constraint that couples reaches (the pressure margin,
+    which depends on the losses upstream) is checked on the design afterwards.
+
+    References
+    ----------
+    .. [1] R. Bellman, "Dynamic Programming", Princeton University Press, 1957.
+    """
+    length = np.asarray(lengths, dtype=float)
+    cost = np.asarray(reach_cost, dtype=float)
+    if length.ndim != 1 or length.size == 0 or np.any(~np.isfinite(length)) or \
+            np.any(length <= 0):
+        raise ValueError("lengths must be a non-empty 1-D array of positive lengths [m].")
+    if cost.ndim != 2 or cost.shape[0] != length.size or cost.shape[1] == 0:
+        raise ValueError(f"reach_cost must have shape ({length.size}, K) [currency/year]; "
+                         f"got {cost.shape}")
+    n_reach, n_opt = cost.shape
+    ok = np.ones(cost.shape, bool) if feasible is None else np.asarray(feasible, bool)
+    if ok.shape != cost.shape:
+        raise ValueError(f"feasible must have the shape of reach_cost {cost.shape} [-].")
+    ok = ok & np.isfinite(cost)
+    trans = np.broadcast_to(np.asarray(transition_cost, dtype=float), (n_opt, n_opt)).copy()
+    if np.any(~np.isfinite(trans)) or np.any(trans < 0):
+        raise ValueError("transition_cost must be finite and >= 0 [currency/year].")
+    np.fill_diagonal(trans, 0.0)
+    min_len = float(minimum_length)
+    total_length = float(length.sum())
+    if min_len > total_length * (1 + 1e-12):
+        raise ValueError(f"minimum_length {min_len:g} m is longer than the route "
+                         f"({total_length:g} m)")
+    x = np.concatenate([[0.0], np.cumsum(length)])
+    prefix = np.vstack([np.zeros(n_opt), np.cumsum(np.where(ok, cost, 0.0), axis=0)])
+    bad = np.vstack([np.zeros(n_opt, int), np.cumsum(~ok, axis=0)])
+    best = np.full((n_reach + 1, n_opt), np.inf)
+    best[0] = 0.0
+    entry = np.zeros((n_reach + 1, n_opt))       # cheapest way into a run of option k at i
+    came_from = np.zeros((n_reach + 1, n_opt), np.intp)   # previous option at i
+    start = np.zeros((n_reach + 1, n_opt), np.intp)        # start of the last run
+    entry[0] = 0.0
+    for r in range(1, n_reach + 1):
+        starts = np.flatnonzero(x[r] - x[:r] >= min_len * (1 - 1e-12))
+        if starts.size:
+            run = prefix[r][None, :] - prefix[starts]
+            run[(bad[r][None, :] - bad[starts]) > 0] = np.inf
+            total = entry[starts] + run
+            pick = np.argmin(total, axis=0)
+            best[r] = total[pick, np.arange(n_opt)]
+            start[r] = starts[pick]
+        if r < n_reach:
+            into = best[r][:, None] + trans            # (previous option, next option)
+            came_from[r] = np.argmin(into, axis=0)
+            entry[r] = into[came_from[r], np.arange(n_opt)]
+    k = int(np.argmin(best[n_reach]))
+    if not np.isfinite(best[n_reach, k]):
+        raise ValueError("no stepped design meets the minimum length and the feasibility "
+                         "of every reach")
+    option = np.empty(n_reach, np.intp)
+    runs = []
+    r = n_reach
+    while r > 0:
+        i = int(start[r, k])
+        option[i:r] = k
+        runs.append((i, r - 1, k))
+        k_prev = int(came_from[i, k]) if i > 0 else k
+        r, k = i, k_prev
+    merged = []
+    for first, last, k in reversed(runs):   # runs of one option that meet are one run
+        if merged and merged[-1][2] == k:
+            merged[-1] = (merged[-1][0], last, k)
+        else:
+            merged.append((first, last, k))
+    return SteppedDesign(option=option, cost=float(best[n_reach].min()), runs=tuple(merged))

@@ -270,3 +270,88 @@ def test_one_at_a_time_rows():
 
 
 # Docstring parameters against signatures: tests/test_docstrings.py, for every module.
+
+
+# --------------------------------------------------------------------------- stepped design
+# The dynamic programme against brute force over every stepped design (a check of the
+# algorithm itself; no published source is needed for an exhaustive search).
+def _brute_force(lengths, cost, trans, min_len, ok):
+    import itertools
+
+    n_reach, n_opt = cost.shape
+    best = np.inf
+    for combo in itertools.product(range(n_opt), repeat=n_reach):
+        combo = np.array(combo)
+        if not ok[np.arange(n_reach), combo].all():
+            continue
+        change = np.flatnonzero(combo[1:] != combo[:-1]) + 1
+        edges = np.concatenate([[0], change, [n_reach]])
+        if any(lengths[a:b].sum() < min_len * (1 - 1e-12) for a, b in zip(edges[:-1],
+                                                                           edges[1:],
+                                                                           strict=True)):
+            continue
+        total = cost[np.arange(n_reach), combo].sum() + sum(
+            trans[combo[j - 1], combo[j]] for j in change)
+        best = min(best, total)
+    return best
+
+
+@settings(max_examples=120, deadline=None)
+@given(st.integers(1, 6), st.integers(1, 3), st.integers(0, 2**32 - 1),
+       st.floats(0.0, 1.0), st.floats(0.0, 0.6), st.booleans())
+def test_stepped_design_equals_brute_force(n_reach, n_opt, seed, min_share, t_scale, gaps):
+    from penstock.diameter import stepped_design
+
+    rng = np.random.default_rng(seed)
+    lengths = rng.uniform(10.0, 200.0, n_reach)
+    cost = rng.uniform(1.0, 100.0, (n_reach, n_opt))
+    trans = t_scale * rng.uniform(0.0, 100.0, (n_opt, n_opt))
+    ok = rng.random((n_reach, n_opt)) > 0.25 if gaps else np.ones((n_reach, n_opt), bool)
+    min_len = min_share * lengths.sum()
+    want = _brute_force(lengths, cost, trans, min_len, ok)
+    if not np.isfinite(want):
+        with pytest.raises(ValueError, match="no stepped design"):
+            stepped_design(lengths, cost, transition_cost=trans, minimum_length=min_len,
+                           feasible=ok)
+        return
+    got = stepped_design(lengths, cost, transition_cost=trans, minimum_length=min_len,
+                         feasible=ok)
+    assert got.cost == pytest.approx(want, rel=1e-12)
+    # the design it returns costs what it says, and its runs tile the route
+    opt = got.option
+    change = np.flatnonzero(opt[1:] != opt[:-1]) + 1
+    own = cost[np.arange(n_reach), opt].sum() + sum(trans[opt[j - 1], opt[j]] for j in change)
+    assert own == pytest.approx(got.cost, rel=1e-12)
+    assert got.runs[0][0] == 0 and got.runs[-1][1] == n_reach - 1
+    for (a, b, k), nxt in zip(got.runs, got.runs[1:] + ((n_reach, None, None),), strict=True):
+        assert nxt[0] == b + 1 and (opt[a:b + 1] == k).all()
+        assert lengths[a:b + 1].sum() >= min_len * (1 - 1e-12)
+
+
+@settings(max_examples=40, deadline=None)
+@given(st.integers(2, 40), st.integers(2, 12), st.integers(0, 2**32 - 1))
+def test_a_dear_transition_gives_the_best_uniform_design(n_reach, n_opt, seed):
+    from penstock.diameter import stepped_design
+
+    rng = np.random.default_rng(seed)
+    lengths = rng.uniform(10.0, 200.0, n_reach)
+    cost = rng.uniform(1.0, 100.0, (n_reach, n_opt))
+    uniform = cost.sum(axis=0)
+    # a change costs more than any stepped design could save
+    dear = stepped_design(lengths, cost, transition_cost=uniform.max() - cost.min(axis=1).sum()
+                          + 1.0)
+    assert len(dear.runs) == 1 and dear.cost == pytest.approx(uniform.min(), rel=1e-12)
+    # free changes never cost more than the best uniform design
+    free = stepped_design(lengths, cost, minimum_length=0.3 * lengths.sum())
+    assert free.cost <= uniform.min() * (1 + 1e-12)
+
+
+def test_stepped_design_refuses_bad_input():
+    from penstock.diameter import stepped_design
+
+    with pytest.raises(ValueError, match="minimum_length"):
+        stepped_design([10.0, 20.0], np.ones((2, 2)), minimum_length=40.0)
+    with pytest.raises(ValueError, match="reach_cost"):
+        stepped_design([10.0, 20.0], np.ones((3, 2)))
+    with pytest.raises(ValueError, match="lengths"):
+        stepped_design([10.0, -1.0], np.ones((2, 2)))
