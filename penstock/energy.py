@@ -339,8 +339,9 @@ def simulate_plant(river_flow, gross_head, rated_flow_per_unit, *, density, n_un
 class TabulatedPower(NamedTuple):
     """Power of a plant at each step read from a table (see :func:`tabulated_power`)."""
 
-    #: Flow through the turbines, exact (:func:`penstock.hydrology.available_flow`). [m^3/s]
-    turbined_flow: np.ndarray
+    #: Flow offered to the plant, exact (:func:`penstock.hydrology.available_flow`); the
+    #: dispatch may spill part of it. [m^3/s]
+    offered_flow: np.ndarray
     #: Expected electrical power. [W]
     power: np.ndarray
     #: Expected electrical power with no penstock head loss. [W]
@@ -387,12 +388,12 @@ def tabulated_power(river_flow, gross_head, rated_flow_per_unit, *, density, n_u
     Returns
     -------
     TabulatedPower
-        Turbined flow, power and power without friction, shaped like
+        Flow offered to the plant, power and power without friction, shaped like
         ``river_flow``. [-]
 
     Notes
     -----
-    The turbined flow of each step is exact, from
+    The flow offered to the plant at each step is exact, from
     :func:`penstock.hydrology.available_flow`: zero, or between one unit's minimum
     flow :math:`q_{min}` and the plant's rated flow :math:`n Q_r`, both of which are
     table nodes, so the shut-down threshold and full-load operation (where much of
@@ -403,7 +404,12 @@ def tabulated_power(river_flow, gross_head, rated_flow_per_unit, *, density, n_u
     so the gross-head interpolation is exact away from a change in the number of
     units; in flow the error is of the order of the node spacing squared, and at a
     kink of the curve (a unit starting, a corner of the efficiency curve) of the
-    spacing times the change of slope.
+    spacing times the change of slope. The dispatch takes the best number of units, so
+    those kinks are convex and the interpolation there can only overstate the power,
+    by a fraction of the spacing: within 1e-5 of the energy in the tests, about 0.1 %
+    where the penstock loss approaches half the head. The table pays where a record is
+    longer than the table (``flow_nodes`` × ``head_nodes`` steps); on a shorter one
+    :func:`simulate_plant` itself is cheaper and exact.
     """
     turbine_type = plant.get("turbine_type", "francis")
     if turbine_type not in TURBINE_TYPES:

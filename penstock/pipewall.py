@@ -45,6 +45,7 @@ __all__ = [
     "wall_pressure_rating",
     "wall_head_rating",
     "class_for_head",
+    "class_head",
 ]
 
 _INCH = INCH
@@ -118,8 +119,6 @@ WALL_RATING_BASIS = {
     "steel": "inside",
     # ISO 4427-2: p = 2 sigma_s / (SDR - 1), the hoop relation at the mean diameter
     "hdpe": "mean",
-    # filament-wound GRP: hoop stress at the mean diameter (common practice)
-    "grp": "mean",
     # AWWA C150 / EN 545 wall design uses the outside diameter (from memory)
     "ductile_iron": "outside",
 }
@@ -241,6 +240,25 @@ def select_pressure_class(pressure, pressure_classes):
             f"{classes[-1]:.4g} Pa; choose a stronger material or class."
         )
     return _finish(classes[np.searchsorted(classes, p, side="left")], pressure)
+
+
+def class_head(pressure_class, water_density=_WATER_DENSITY):
+    """Head of water a pressure class carries.
+
+    Parameters
+    ----------
+    pressure_class : numeric
+        Rating of the class (gauge). [Pa]
+    water_density : float
+        Density of the water the head is measured in. [kg/m^3]
+
+    Returns
+    -------
+    numeric
+        :math:`p / (\\rho g)`. [m]
+    """
+    p = _array("pressure_class", pressure_class, nonnegative=True, unit="Pa")
+    return _finish(p / (float(water_density) * GRAVITY), pressure_class)
 
 
 def class_for_head(head, pressure_classes, labels, water_density=_WATER_DENSITY):

@@ -174,7 +174,7 @@ def test_tabulated_power_equals_simulate_plant(n_units, kind, coefficient, swing
               head_gain=lambda q: 0.02 * q, efficiency_offset=offsets)
     exact = en.simulate_plant(river, gross, 2.5, **kw)
     table = en.tabulated_power(river, gross, 2.5, **kw)
-    np.testing.assert_array_equal(table.turbined_flow == 0.0, exact.turbined_flow == 0.0)
+    np.testing.assert_array_equal(table.offered_flow == 0.0, exact.turbined_flow == 0.0)
     rated = DENSITY * GRAVITY * 2.5 * n_units * 61.0
     for got, want in ((table.power, exact.power),
                       (table.power_without_friction, exact.power_without_friction)):

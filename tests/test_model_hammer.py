@@ -181,7 +181,7 @@ def test_fitting_thrusts_of_the_demo(alder):
     # no flow (the momentum balance, tests/test_thrust.py)
     _, r = alder
     t = r.fitting_thrusts
-    assert list(t["chainage [m]"]) == [1600.0, 1650.0, 2900.0]
+    assert list(t["chainage [m]"]) == [1600.0, 1650.0, 2900.0, 3080.0, 3100.0]
     rho = float(r.summary.loc[r.summary["quantity"] == "water density", "value"].iloc[0])
     bend = t.iloc[1]
     p = rho * GRAVITY * bend["design pressure head at the invert [m]"]
@@ -192,5 +192,37 @@ def test_fitting_thrusts_of_the_demo(alder):
     p = rho * GRAVITY * red["design pressure head at the invert [m]"]
     assert red["thrust, design pressure, no flow [kN]"] * 1e3 == pytest.approx(
         p * math.pi * 0.25 * (1.2**2 - 1.0**2), rel=1e-9)
+    for k in (3, 4):   # the closed valve and the closed end: p A, nothing beyond
+        p = rho * GRAVITY * t.iloc[k]["design pressure head at the invert [m]"]
+        assert t.iloc[k]["thrust, design pressure, no flow [kN]"] * 1e3 == pytest.approx(
+            p * math.pi * 0.25 * 1.0**2, rel=1e-9)
+        assert t.iloc[k]["thrust, steady flow with momentum [kN]"] == pytest.approx(0.0,
+                                                                                     abs=1e-9)
     assert (t["governing thrust [kN]"] >= t["thrust, design pressure, no flow [kN]"]).all()
     assert (t["governing thrust [kN]"] >= t["thrust, steady flow with momentum [kN]"]).all()
+
+
+@pytest.mark.parametrize("material, wall, verdict, why", [
+    # ductile iron: its hoop rating of a 30 mm wall on 1.0 m exceeds 388 m, but no
+    # pressure class of the material (AWWA C150, highest PC350) carries that head
+    ("ductile_iron_cement_lined", "30 mm", "FAILS", "at most PC350"),
+    # GRP: no allowable stress in the registry, so the wall is not rated (a note)
+    ("grp", "30 mm", "not checked: no strength data for grp", ""),
+])
+def test_own_wall_check_of_other_materials(tmp_path, material, wall, verdict, why):
+    from conftest import copy_demo, edit_file
+
+    import penstock
+
+    folder = copy_demo("alder-gorge-high-head", tmp_path)
+    edit_file(folder / "site.toml",
+              'diameter = "1.0 m"\nmaterial = "welded_steel"\nwall_thickness = "22 mm"',
+              f'diameter = "1.0 m"\nmaterial = "{material}"\nwall_thickness = "{wall}"')
+    r = penstock.run_case(penstock.load_case(folder), samples=0)
+    row = r.own_wall_checks.iloc[1]
+    assert row["verdict"] == verdict
+    assert why in row["rating basis"]
+    if verdict == "FAILS":
+        assert row["allowable pressure head [m]"] < row[
+            "highest design pressure head at the invert [m]"]
+        assert row["lowest class carrying the design head"].startswith("none: above")

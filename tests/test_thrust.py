@@ -69,3 +69,19 @@ def test_thrust_refuses_bad_input():
         thrust.fitting_thrust(1e5, 1.0, 4.0)
     with pytest.raises(ValueError, match="area_in"):
         thrust.fitting_thrust(1e5, 0.0, 1.0)
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.floats(0.0, 5e6), st.floats(0.0, 5e6), st.floats(0.05, 5.0), st.floats(0.05, 5.0),
+       st.floats(0.0, math.pi), st.floats(0.0, 30.0))
+def test_reducing_bend_is_the_vector_sum_of_its_end_forces(p1, p2, a1, a2, angle, q):
+    # control volume between the two ends: the water pushes the fitting with
+    # (p1 A1 + rho Q V1) along the inlet axis and takes (p2 A2 + rho Q V2) along the
+    # outlet axis turned by theta; the force on the fitting is their vector difference
+    rho = 1000.0
+    a = p1 * a1 + rho * q * (q / a1)
+    b = p2 * a2 + rho * q * (q / a2)
+    fx, fy = a - b * math.cos(angle), -b * math.sin(angle)
+    got = thrust.fitting_thrust(p1, a1, angle, flow=q, density=rho, pressure_out=p2,
+                                area_out=a2)
+    assert got == pytest.approx(math.hypot(fx, fy), rel=1e-9, abs=1e-6)

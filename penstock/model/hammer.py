@@ -630,12 +630,31 @@ def _two_stage_study(case, props, pipes, reaches, q0, times, frac, knee_opening)
                                    **{k: np.array(v) for k, v in out.items()})
 
 
+def _segment_peak(x, head, start, end):
+    """Highest design head on [start, end] and where: the points inside and the line
+    interpolated at both ends (a segment may hold no point of the line)."""
+    inside = (x >= start - 1e-9) & (x <= end + 1e-9)
+    xs = np.concatenate([[start, end], x[inside]])
+    hs = np.concatenate([np.interp([start, end], x, head), head[inside]])
+    k = int(np.argmax(hs))
+    return float(hs[k]), float(xs[k])
+
+
+#: What the wall check assumes of each family beyond its allowable stress.
+_WALL_NOTES = {
+    "hdpe": "PE100 (MRS 10 MPa, C 1.25) at 20 °C assumed",
+    "ductile_iron": "wall as given, to be the net wall (less service allowance and casting "
+                    "tolerance), no lining counted",
+}
+
+
 def own_wall_checks(case, props, design_x, design_head, warns, methods):
     """The case's own walls against the design pressure line: one row per pipe segment.
 
-    A wall whose hoop rating (:func:`penstock.pipewall.wall_pressure_rating`, on the
-    material family's own basis) is below the highest design pressure head of its
-    segment fails, with a caution; a pipe with no wall thickness or no strength data is
+    A wall fails, with a caution, where the highest design pressure head of its segment
+    exceeds what it carries: its hoop rating (:func:`penstock.pipewall.wall_head_rating`
+    on the material family's own basis) and, for a material sold in pressure classes,
+    no more than its highest class. A pipe with no wall thickness or no strength data is
     a note."""
     from ..materials import pipe_wall_material
     from .sizing import wall_material
@@ -646,10 +665,7 @@ def own_wall_checks(case, props, design_x, design_head, warns, methods):
     head = np.asarray(design_head, float)
     rows = []
     for i, seg in enumerate(case.segments, start=1):
-        inside = (x >= seg.start - 1e-9) & (x <= seg.end + 1e-9)
-        need = float(head[inside].max()) if inside.any() else float(
-            np.interp(0.5 * (seg.start + seg.end), x, head))
-        at = float(x[inside][np.argmax(head[inside])]) if inside.any() else seg.start
+        need, at = _segment_peak(x, head, seg.start, seg.end)
         mat = pipe_wall_material(seg.material)
         kind = None if mat is None else mat.kind
         row = {"pipe": i, "from chainage [m]": seg.start, "to chainage [m]": seg.end,
@@ -661,13 +677,20 @@ def own_wall_checks(case, props, design_x, design_head, warns, methods):
                "highest design pressure head at the invert [m]": need,
                "at chainage [m]": at, "utilisation [%]": np.nan, "verdict": "",
                "lowest class carrying the design head": ""}
+        top_class = None
         if mat is not None and mat.pressure_classes:
             label = pipewall.class_for_head(need, mat.pressure_classes,
                                             mat.pressure_class_labels, props.density)
+            top = int(np.argmax(mat.pressure_classes))
+            top_class = (mat.pressure_class_labels[top], float(pipewall.class_head(
+                mat.pressure_classes[top], props.density)))
             row["lowest class carrying the design head"] = (
-                label if label is not None else
-                f"none: above {mat.pressure_class_labels[int(np.argmax(mat.pressure_classes))]}")
-        if seg.wall_thickness is None or kind not in pipewall.WALL_RATING_BASIS:
+                label if label is not None else f"none: above {top_class[0]}")
+        is_steel = kind == "steel"
+        sigma = (steel.allowable_stress if is_steel else
+                 None if mat is None else mat.allowable_stress)
+        if seg.wall_thickness is None or kind not in pipewall.WALL_RATING_BASIS or \
+                sigma is None:
             row["verdict"] = ("not checked: no wall thickness" if seg.wall_thickness is None
                               else f"not checked: no strength data for {seg.material}")
             warns.append(Warning_("pipe wall", f"pipe {i} ({seg.material}): {row['verdict']}; "
@@ -675,33 +698,42 @@ def own_wall_checks(case, props, design_x, design_head, warns, methods):
                                   f"chainage {at:.0f} m", chainage=at, severity="note"))
             rows.append(row)
             continue
-        is_steel = kind == "steel"
-        sigma = float(steel.allowable_stress if is_steel else mat.allowable_stress)
         basis = pipewall.WALL_RATING_BASIS[kind]
-        allow_head = float(pipewall.wall_head_rating(
-            seg.wall_thickness, seg.diameter, sigma, basis,
+        hoop = float(pipewall.wall_head_rating(
+            seg.wall_thickness, seg.diameter, float(sigma), basis,
             joint_efficiency=w["joint_efficiency"] if is_steel else 1.0,
             corrosion_allowance=w["corrosion_allowance"] if is_steel else 0.0,
             water_density=props.density))
+        capped = top_class is not None and top_class[1] < hoop
+        allow_head = top_class[1] if capped else hoop
         use = 100.0 * need / allow_head if allow_head > 0 else np.nan   # allowance eats all
-        row.update({"allowable stress [MPa]": sigma / 1e6, "rating basis": f"{basis} diameter",
+        basis_text = f"{basis} diameter" + (f", at most {top_class[0]}" if capped else "")
+        if kind in _WALL_NOTES:
+            basis_text += f"; {_WALL_NOTES[kind]}"
+        row.update({"allowable stress [MPa]": float(sigma) / 1e6, "rating basis": basis_text,
                     "allowable pressure head [m]": allow_head, "utilisation [%]": use,
                     "verdict": "passes" if need <= allow_head else "FAILS"})
         if need > allow_head:
+            limit = (f"the {allow_head:.1f} m of its highest class {top_class[0]}" if capped
+                     else f"the {allow_head:.1f} m the wall carries at its allowable hoop "
+                     "stress")
             warns.append(Warning_(
                 "pipe wall", f"pipe {i} ({seg.material}, {1e3 * seg.wall_thickness:.1f} mm "
                 f"wall): the design pressure head {need:.1f} m at chainage {at:.0f} m exceeds "
-                f"the {allow_head:.1f} m the wall carries at its allowable hoop stress "
+                f"{limit} "
                 + (f"({use:.0f} %)" if allow_head > 0 else "(none: the corrosion allowance takes "
-                   "the whole wall)") + "; a thicker wall or a higher pressure class is needed",
-                chainage=at))
+                   "the whole wall)") + "; a thicker wall, a higher pressure class or another "
+                "material is needed", chainage=at))
         rows.append(row)
     methods.add("Own wall check", "each pipe's given wall against the highest design "
                 "pressure head (static at the flood level plus the transient rise) of its "
                 "segment: p = 2·σ_allow·E_j·(t − c)/D_b, D_b the inside diameter for steel "
                 "(the tool's own design rule, with the case's grade, joint efficiency and "
                 "corrosion allowance), the mean diameter for PE (ISO 4427-2's "
-                "p = 2σ/(SDR − 1)) and GRP, the outside diameter for ductile iron",
+                "p = 2σ/(SDR − 1), PE100 at 20 °C) and the outside diameter for ductile iron "
+                "(the wall as given, taken as net of allowances); a material sold in "
+                "pressure classes carries no more than its highest class; GRP, PVC and "
+                "concrete are not checked (no strength data)",
                 "ASCE MOP 79 (2012) ch. 3; ISO 4427-2:2019; AWWA C150 / EN 545 (basis from "
                 "memory)")
     return pd.DataFrame(rows)
@@ -719,28 +751,38 @@ def fitting_thrusts(case, props, steady, design_x, design_head, methods):
     steady state at the largest study flow with its momentum; the larger governs."""
     from .. import thrust
 
-    def segment_at(at):
-        for seg in case.segments:
-            if seg.start - 1e-9 <= at < seg.end - 1e-9:
-                return seg
-        return case.segments[-1]
+    segs = case.segments
 
-    fittings = [(loss.label, loss.at, float(loss.params["angle"]), segment_at(loss.at),
-                 segment_at(loss.at)) for loss in case.losses if loss.kind == "bend"]
-    fittings += [(f"change of diameter, pipe {i} to pipe {i + 1}", b.start, 0.0, a, b)
-                 for i, (a, b) in enumerate(zip(case.segments[:-1], case.segments[1:],
-                                                strict=True), start=1)
+    def upstream_of(at):     # the pipe reaching ``at`` from upstream
+        return next((s for s in segs if s.start + 1e-9 < at <= s.end + 1e-9), segs[0])
+
+    def downstream_of(at):   # the pipe leaving ``at`` downstream
+        return next((s for s in segs if s.start - 1e-9 <= at < s.end - 1e-9), segs[-1])
+
+    # (label, chainage, deflection, inlet pipe, outlet pipe, closed: the outlet unloaded)
+    fittings = [(loss.label, loss.at, float(loss.params["angle"]), upstream_of(loss.at),
+                 downstream_of(loss.at), False) for loss in case.losses if loss.kind == "bend"]
+    fittings += [(f"change of diameter, pipe {i} to pipe {i + 1}", b.start, 0.0, a, b, False)
+                 for i, (a, b) in enumerate(zip(segs[:-1], segs[1:], strict=True), start=1)
                  if a.diameter != b.diameter]
+    # a closed valve, and the closed end of the penstock, carry p·A on the water side
+    fittings += [(f"{loss.label}, closed", loss.at, 0.0, upstream_of(loss.at),
+                  upstream_of(loss.at), True) for loss in case.losses if loss.kind == "valve"]
+    fittings.append(("end of the penstock, closed", segs[-1].end, 0.0, segs[-1], segs[-1],
+                     True))
     route = steady.route
     k = int(np.argmax(steady.flows))
     q = float(steady.flows[k])
     x_d, h_d = np.asarray(design_x, float), np.asarray(design_head, float)
     x_s, h_s = np.asarray(route.chainage, float), np.asarray(steady.gl.pressure_head[k], float)
     rows = []
-    for label, at, angle, up, down in sorted(fittings, key=lambda f: f[1]):
+    for label, at, angle, up, down, closed in sorted(fittings, key=lambda f: f[1]):
         h_design, h_steady = _value_at(x_d, h_d, at), _value_at(x_s, h_s, at)
         shape = dict(area_in=up.area, angle=angle, density=props.density, area_out=down.area)
-        f_design = float(thrust.fitting_thrust_at_heads(h_design, **shape))
+        # closed (after the closure): nothing presses on its far side; in steady flow it
+        # is open and straight, and takes what any straight fitting of one bore takes
+        f_design = float(thrust.fitting_thrust_at_heads(
+            h_design, head_out=0.0 if closed else None, **shape))
         f_steady = float(thrust.fitting_thrust_at_heads(h_steady, flow=q, **shape))
         rows.append({"fitting": label, "chainage [m]": at, "deflection [deg]": np.degrees(angle),
                      "inlet diameter [m]": up.diameter, "outlet diameter [m]": down.diameter,
@@ -750,11 +792,13 @@ def fitting_thrusts(case, props, steady, design_x, design_head, methods):
                      "steady pressure head at the centreline [m]": h_steady,
                      "thrust, steady flow with momentum [kN]": f_steady / 1e3,
                      "governing thrust [kN]": max(f_design, f_steady) / 1e3})
-    methods.add("Thrust at bends and changes of diameter", "resultant of p·A and ρ·Q·V at "
-                "both ends, R = √(a² + b² − 2ab·cos θ) (2·(pA + ρQV)·sin(θ/2) for one bore), "
-                "in the plane of the bend; the design pressure line with no flow, and the "
-                "steady state at the largest study flow; the weight of water and pipe in a "
-                "vertical bend is not included", "linear-momentum balance of a control "
+    methods.add("Thrust at bends, changes of diameter and closed ends", "resultant of p·A "
+                "and ρ·Q·V at both ends, R = √(a² + b² − 2ab·cos θ) (2·(pA + ρQV)·sin(θ/2) for "
+                "one bore, p·A on a closed valve or end), in the plane of the bend; the "
+                "design pressure line with no flow, and the steady state at the largest "
+                "study flow with one pressure at both ends of a reducer; the weight of water "
+                "and pipe in a vertical bend, bifurcations and the field test pressure are "
+                "not included", "linear-momentum balance of a control "
                 "volume; AWWA M11 thrust restraint T = 2pA·sin(Δ/2) (from memory)")
     columns = ["fitting", "chainage [m]", "deflection [deg]", "inlet diameter [m]",
                "outlet diameter [m]", "design pressure head at the invert [m]",

@@ -3,8 +3,9 @@
 Vectorized across samples: the plant is operated over the flow record for a block of
 samples at once (arrays of shape ``(samples, steps)``), each step's power read from
 the sample's own table of :func:`penstock.energy.simulate_plant` over turbined flow and
-gross head (:func:`penstock.energy.tabulated_power`; within 1e-6 of the mean annual
-energy of the step-by-step operation on the demos).  The sampled inputs:
+gross head when the record is longer than the table (:func:`penstock.energy.
+tabulated_power`; within 1e-6 of the mean annual energy of the step-by-step operation),
+step by step otherwise.  The sampled inputs:
 
 * the pipes' roughness, a log-normal factor and a growth rate spread: the penstock
   loss of each sample is the deterministic loss of the energy stage (roughness at half
@@ -32,7 +33,9 @@ from .core import Warning_
 from .stages import UncertaintyHeadline, UncertaintyStage
 from .steady import mid_life
 
-BLOCK_ELEMENTS = 2_000_000   # samples × steps per block, to bound memory
+BLOCK_ELEMENTS = 2_000_000   # samples × steps (or table nodes) per block, to bound memory
+TABLE_FLOW_NODES = 1025       # energy.tabulated_power's nodes in turbined flow
+TABLE_HEAD_NODES = 9          # and in gross head
 
 
 def draw(u: dict, n: int) -> dict:
@@ -141,25 +144,33 @@ def run(case, props, steady, prod, size, warns, methods, tick, samples=None) -> 
     lost = np.empty(n)
     mean_energy = np.empty(n)
     weights = energy.mean_annual_weights(index)   # the energy stage's year
-    block = max(1, BLOCK_ELEMENTS // max(len(river), 1))
+    # a long record reads each sample's power from a table of the plant (exact on the
+    # nodes, linear between); a record shorter than that table runs step by step
+    nodes = TABLE_FLOW_NODES * TABLE_HEAD_NODES
+    tabulate = len(river) > nodes
+    block = max(1, BLOCK_ELEMENTS // max(len(river), nodes if tabulate else 1, 1))
     min_rel = case.minimum_flow / (case.design_flow / t["units"]) \
         if case.minimum_flow is not None else None
     for a in range(0, n, block):
         b = min(n, a + block)
         rv = d["flow factor"][a:b, None] * river[None, :]
         loss = _block_loss(steady.head_loss, ratio_e.q, ratio_s[a:b])
-        o = energy.tabulated_power(rv, gross, case.design_flow / t["units"],
-                                   density=props.density, n_units=t["units"],
-                                   turbine_type=t["type"], efficiency_table=op.table,
-                                   head_loss=loss, head_gain=op.dt_recovery,
-                                   residual=residual[None, :], minimum_relative_flow=min_rel,
-                                   availability=t["availability"],
-                                   efficiency_offset=d["efficiency offset"][a:b, None],
-                                   **op.drive)
-        e_step = o.power * step
+        plant = dict(density=props.density, n_units=t["units"], turbine_type=t["type"],
+                     efficiency_table=op.table, head_loss=loss, head_gain=op.dt_recovery,
+                     residual=residual[None, :], minimum_relative_flow=min_rel,
+                     availability=t["availability"],
+                     efficiency_offset=d["efficiency offset"][a:b, None], **op.drive)
+        if tabulate:
+            o = energy.tabulated_power(rv, gross, case.design_flow / t["units"],
+                                       flow_nodes=TABLE_FLOW_NODES,
+                                       head_nodes=TABLE_HEAD_NODES, **plant)
+        else:
+            o = energy.simulate_plant(rv, gross, case.design_flow / t["units"], **plant)
+        power, power_0 = np.asarray(o.power, float), np.asarray(o.power_without_friction, float)
+        e_step = power * step
         energies[a:b] = np.add.reduceat(e_step, annual_steps["starts"], axis=1)
         # einsum, not @: a threaded BLAS product would spin both cores for a sum
-        lost[a:b] = np.einsum("ij,j->i", (o.power_without_friction - o.power) * step, weights)
+        lost[a:b] = np.einsum("ij,j->i", (power_0 - power) * step, weights)
         mean_energy[a:b] = np.einsum("ij,j->i", e_step, weights)
     if u["flow_method"] == "bootstrap" and complete.sum() >= 2:
         years = np.flatnonzero(complete)
@@ -278,11 +289,13 @@ def _tables(case, n, d, energy_j, cost, margin, prod, cost_note, warns, methods)
     hist = pd.DataFrame({"annualized cost, bin centre [currency/year]":
                          0.5 * (edges[1:] + edges[:-1]), "samples": counts})
     methods.add("Uncertainty", "Monte Carlo over roughness, efficiency, flows, price and capital "
-                "cost, vectorized across samples, each sample's power read from its own table "
-                "of the plant operation over turbined flow and gross head (1,025 flow nodes, "
-                "linear between them); P-values as quantiles of the sampled mean annual "
-                "energy", "Seeded NumPy generator (PCG64); bootstrap standard error: "
-                "Efron & Tibshirani (1993), An Introduction to the Bootstrap, ch. 6")
+                "cost, vectorized across samples; on a record longer than "
+                f"{TABLE_FLOW_NODES * TABLE_HEAD_NODES:,} steps each sample's power is read "
+                "from its own table of the plant operation over turbined flow and gross head "
+                f"({TABLE_FLOW_NODES:,} × {TABLE_HEAD_NODES} nodes, linear between them), on "
+                "a shorter one the plant runs step by step; P-values as quantiles of the "
+                "sampled mean annual energy", "Seeded NumPy generator (PCG64); bootstrap "
+                "standard error: Efron & Tibshirani (1993), An Introduction to the Bootstrap, ch. 6")
     if cost_note:
         warns.append(Warning_("uncertainty", cost_note, severity="note"))
     return UncertaintyStage(

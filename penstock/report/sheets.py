@@ -88,12 +88,14 @@ def route_rows(chainage, values, labelled=None, limit: int = ROUTE_ROWS) -> np.n
     return np.unique(np.concatenate(keep))
 
 
-def rows_note(shown: int, total: int, csv: str) -> str:
+def rows_note(shown: int, total: int, csv: str, named: bool = False) -> str:
     """The note beside a table along the route: how many rows it shows, and where all are."""
     if shown >= total:
         return ""
-    return (f" (showing {shown:,} of {total:,} rows: the ends, the named points, and the "
-            f"highest and lowest values of each stretch of the route; every row is in {csv})")
+    return (f" (showing {shown:,} of {total:,} rows: the ends, "
+            + ("the named points, " if named else "")
+            + f"and the highest and lowest values of each stretch of the route; every row is "
+            f"in {csv})")
 
 
 def _set_value(cell, value) -> str:

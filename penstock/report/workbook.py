@@ -224,7 +224,7 @@ def _route_sheet(ws, ctx):
     table = convert_table(wide.reset_index(drop=True), ctx.system)
     sh.put(ws, row, 1, "Flows: " + "; ".join(
         f"{k} {ctx.v(q, 'm^3/s'):.3f} {ctx.u('m^3/s')}" for k, q in flows.items())
-        + sh.rows_note(len(wide), total, "grade_lines.csv"), font=sh.NOTE)
+        + sh.rows_note(len(wide), total, "grade_lines.csv", named=True), font=sh.NOTE)
     row += 1
     first, last = sh.write_table(ws, table, row=row, widths={c: 13 for c in table.columns[2:]})
     ws.column_dimensions["B"].width = 34
