@@ -295,7 +295,8 @@ def _tables(case, n, d, energy_j, cost, margin, prod, cost_note, warns, methods)
                 f"({TABLE_FLOW_NODES:,} × {TABLE_HEAD_NODES} nodes, linear between them), on "
                 "a shorter one the plant runs step by step; P-values as quantiles of the "
                 "sampled mean annual energy", "Seeded NumPy generator (PCG64); bootstrap "
-                "standard error: Efron & Tibshirani (1993), An Introduction to the Bootstrap, ch. 6")
+                "standard error: Efron & Tibshirani (1993), An Introduction to the "
+                "Bootstrap, ch. 6")
     if cost_note:
         warns.append(Warning_("uncertainty", cost_note, severity="note"))
     return UncertaintyStage(
