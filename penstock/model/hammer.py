@@ -745,6 +745,16 @@ def _value_at(x, values, at):
     return float(values[here].max()) if here.any() else float(np.interp(at, x, values))
 
 
+def _sides_at(x, values, at):
+    """``values`` just upstream and just downstream of chainage ``at``: the first and the
+    last node there (a step's two sides, in route order), else linear at ``at``."""
+    here = np.flatnonzero(np.abs(x - at) <= 1e-6)
+    if here.size:
+        return float(values[here[0]]), float(values[here[-1]])
+    v = float(np.interp(at, x, values))
+    return v, v
+
+
 def fitting_thrusts(case, props, steady, design_x, design_head, methods):
     """Thrust on each bend and each change of diameter, for anchor-block design: the
     design pressure (static at the flood level plus the surge) with no flow, and the
@@ -777,32 +787,36 @@ def fitting_thrusts(case, props, steady, design_x, design_head, methods):
     x_s, h_s = np.asarray(route.chainage, float), np.asarray(steady.gl.pressure_head[k], float)
     rows = []
     for label, at, angle, up, down, closed in sorted(fittings, key=lambda f: f[1]):
-        h_design, h_steady = _value_at(x_d, h_d, at), _value_at(x_s, h_s, at)
+        h_design = _value_at(x_d, h_d, at)
+        # steady: the grade line's own pressure on each side (a contraction's outlet is
+        # lower by the velocity head gained and the loss, which adds to the thrust)
+        h_steady, h_steady_out = _sides_at(x_s, h_s, at)
         shape = dict(area_in=up.area, angle=angle, density=props.density, area_out=down.area)
         # closed (after the closure): nothing presses on its far side; in steady flow it
         # is open and straight, and takes what any straight fitting of one bore takes
         f_design = float(thrust.fitting_thrust_at_heads(
             h_design, head_out=0.0 if closed else None, **shape))
-        f_steady = float(thrust.fitting_thrust_at_heads(h_steady, flow=q, **shape))
+        f_steady = float(thrust.fitting_thrust_at_heads(h_steady, flow=q,
+                                                        head_out=h_steady_out, **shape))
         rows.append({"fitting": label, "chainage [m]": at, "deflection [deg]": np.degrees(angle),
                      "inlet diameter [m]": up.diameter, "outlet diameter [m]": down.diameter,
                      "design pressure head at the invert [m]": h_design,
                      "thrust, design pressure, no flow [kN]": f_design / 1e3,
                      "flow of the steady case [m^3/s]": q,
-                     "steady pressure head at the centreline [m]": h_steady,
+                     "steady pressure head at the centreline, inlet [m]": h_steady,
                      "thrust, steady flow with momentum [kN]": f_steady / 1e3,
                      "governing thrust [kN]": max(f_design, f_steady) / 1e3})
     methods.add("Thrust at bends, changes of diameter and closed ends", "resultant of p·A "
                 "and ρ·Q·V at both ends, R = √(a² + b² − 2ab·cos θ) (2·(pA + ρQV)·sin(θ/2) for "
                 "one bore, p·A on a closed valve or end), in the plane of the bend; the "
                 "design pressure line with no flow, and the steady state at the largest "
-                "study flow with one pressure at both ends of a reducer; the weight of water "
+                "study flow with the grade line's pressure on each side; the weight of water "
                 "and pipe in a vertical bend, bifurcations and the field test pressure are "
                 "not included", "linear-momentum balance of a control "
                 "volume; AWWA M11 thrust restraint T = 2pA·sin(Δ/2) (from memory)")
     columns = ["fitting", "chainage [m]", "deflection [deg]", "inlet diameter [m]",
                "outlet diameter [m]", "design pressure head at the invert [m]",
                "thrust, design pressure, no flow [kN]", "flow of the steady case [m^3/s]",
-               "steady pressure head at the centreline [m]",
+               "steady pressure head at the centreline, inlet [m]",
                "thrust, steady flow with momentum [kN]", "governing thrust [kN]"]
     return pd.DataFrame(rows, columns=columns)
