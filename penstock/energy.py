@@ -301,9 +301,7 @@ def simulate_plant(river_flow, gross_head, rated_flow_per_unit, *, density, n_un
     eta_fn = efficiency_function(turbine_type, efficiency_table, minimum_relative_flow)
     river = _check_non_negative(river_flow, "river_flow")
     gross = np.asarray(gross_head, dtype=float)
-    rated = float(rated_flow_per_unit)
-    if rated <= 0:
-        raise ValueError(f"rated_flow_per_unit: expected a positive flow, got {rated}")
+    rated = _rated_flow(rated_flow_per_unit)
     allocation = available_flow(river, residual, n_units * rated,
                                 eta_fn.minimum_relative_flow * rated)
     drive = dict(gearbox_efficiency=gearbox_efficiency,
@@ -411,19 +409,14 @@ def tabulated_power(river_flow, gross_head, rated_flow_per_unit, *, density, n_u
     longer than the table (``flow_nodes`` × ``head_nodes`` steps); on a shorter one
     :func:`simulate_plant` itself is cheaper and exact.
     """
-    turbine_type = plant.get("turbine_type", "francis")
-    if turbine_type not in TURBINE_TYPES:
-        raise ValueError(f"turbine_type: unknown type {turbine_type!r}; expected one of "
-                         f"{sorted(TURBINE_TYPES)}")
     if plant.get("head_loss") is not None and not callable(plant["head_loss"]):
         raise ValueError("head_loss: expected a callable of the total flow or None")
     river = _check_non_negative(river_flow, "river_flow")
-    rated = float(rated_flow_per_unit)
-    if rated <= 0:
-        raise ValueError(f"rated_flow_per_unit: expected a positive flow, got {rated}")
+    rated = _rated_flow(rated_flow_per_unit)
     if int(flow_nodes) < 2 or int(head_nodes) < 1:
         raise ValueError("flow_nodes, head_nodes: expected at least 2 and 1 nodes")
-    eta_fn = efficiency_function(turbine_type,
+    # refuses an unknown turbine type, as simulate_plant does
+    eta_fn = efficiency_function(plant.get("turbine_type", "francis"),
                                  plant.get("efficiency_table"),
                                  plant.get("minimum_relative_flow"))
     q_min, q_max = eta_fn.minimum_relative_flow * rated, n_units * rated
@@ -438,9 +431,6 @@ def tabulated_power(river_flow, gross_head, rated_flow_per_unit, *, density, n_u
     grid_q = np.broadcast_to(np.repeat(q_nodes, n_h), lead + (q_nodes.size * n_h,))
     table = simulate_plant(grid_q, np.tile(h_nodes, q_nodes.size), rated, density=density,
                            n_units=n_units, **plant)
-    shape = lead + (q_nodes.size * n_h,)
-    p_table = np.broadcast_to(np.asarray(table.power, dtype=float), shape)
-    p0_table = np.broadcast_to(np.asarray(table.power_without_friction, dtype=float), shape)
     # flow position of each step, and the weight of the upper node
     dq = (q_max - q_min) / (q_nodes.size - 1)
     x = np.clip((turbined - q_min) / dq, 0.0, q_nodes.size - 1) if dq > 0 else \
@@ -453,21 +443,34 @@ def tabulated_power(river_flow, gross_head, rated_flow_per_unit, *, density, n_u
         wh = y - j
     else:
         j, wh = np.zeros(gross.shape, np.intp), np.zeros(gross.shape)
-    lower = i * n_h + j
+    # one row per leading index: node table (rows, nodes), steps (rows, steps)
+    rows = (-1, turbined.shape[-1])
+    idx = (i * n_h + j).reshape(rows)
+    w_up = wq.reshape(rows)
     running = turbined > 0.0
 
     def read(values):
-        flat = values.reshape((-1, values.shape[-1])) if values.ndim > 1 else values[None]
-        idx = lower.reshape((-1, lower.shape[-1])) if lower.ndim > 1 else lower[None]
-        idx = np.broadcast_to(idx, (flat.shape[0], idx.shape[-1]))
-        corner = lambda di, dj: np.take_along_axis(flat, idx + (di * n_h + dj), axis=1)  # noqa: E731
-        a = corner(0, 0) * (1 - wq.reshape(idx.shape)) + corner(1, 0) * wq.reshape(idx.shape)
+        flat = np.asarray(values, dtype=float).reshape((-1, q_nodes.size * n_h))
+
+        def along_flow(dj):   # linear in flow between the nodes at head node j + dj
+            lo = np.take_along_axis(flat, idx + dj, axis=1)
+            hi = np.take_along_axis(flat, idx + n_h + dj, axis=1)
+            return lo * (1 - w_up) + hi * w_up
+
+        a = along_flow(0)
         if n_h > 1:
-            b = corner(0, 1) * (1 - wq.reshape(idx.shape)) + corner(1, 1) * wq.reshape(idx.shape)
-            a = a * (1 - wh) + b * wh
+            a = a * (1 - wh) + along_flow(1) * wh
         return np.where(running, a.reshape(turbined.shape), 0.0)
 
-    return TabulatedPower(turbined, read(p_table), read(p0_table))
+    return TabulatedPower(turbined, read(table.power), read(table.power_without_friction))
+
+
+def _rated_flow(value):
+    """The rated flow of one unit as a float, refused unless positive."""
+    rated = float(value)
+    if rated <= 0:
+        raise ValueError(f"rated_flow_per_unit: expected a positive flow, got {rated}")
+    return rated
 
 
 def _shift_efficiency(eta, power, offset):

@@ -754,8 +754,9 @@ def pipe_wall_modulus(pipe_material):
         Modulus from :data:`MATERIALS` where the registry holds the material, else a
         common-practice value; steel's for an unknown name. [Pa]
     """
-    if pipe_material in _MODULUS_SOURCE:
-        return float(MATERIALS[_MODULUS_SOURCE[pipe_material]].elastic_modulus)
+    material = pipe_wall_material(pipe_material)
+    if material is not None:
+        return float(material.elastic_modulus)
     if pipe_material in _MODULUS_FALLBACK:
         return _MODULUS_FALLBACK[pipe_material]
     return float(MATERIALS[_MODULUS_SOURCE["welded_steel"]].elastic_modulus)

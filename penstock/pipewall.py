@@ -57,6 +57,17 @@ _WATER_DENSITY = 1000.0  # kg/m^3, conventional density for pressure heads of wa
 # --------------------------------------------------------------------------------------
 
 
+def _hoop_inputs(diameter, allowable_stress, joint_efficiency, corrosion_allowance):
+    """The hoop relation's inputs as checked arrays: (D, sigma, E_j, c)."""
+    d = _array("diameter", diameter, positive=True, unit="m")
+    s = _array("allowable_stress", allowable_stress, positive=True, unit="Pa")
+    e = _array("joint_efficiency", joint_efficiency, positive=True, unit="-")
+    if np.any(e > 1.0):
+        raise ValueError("joint_efficiency must lie in (0, 1] [-].")
+    c = _array("corrosion_allowance", corrosion_allowance, nonnegative=True, unit="m")
+    return d, s, e, c
+
+
 def hoop_thickness(
     pressure, diameter, allowable_stress, joint_efficiency=1.0, corrosion_allowance=0.0
 ):
@@ -102,12 +113,8 @@ def hoop_thickness(
        efficiency). DOI 10.1061/9780784411711
     """
     p = _array("pressure", pressure, nonnegative=True, unit="Pa")
-    d = _array("diameter", diameter, positive=True, unit="m")
-    s = _array("allowable_stress", allowable_stress, positive=True, unit="Pa")
-    e = _array("joint_efficiency", joint_efficiency, positive=True, unit="-")
-    if np.any(e > 1.0):
-        raise ValueError("joint_efficiency must lie in (0, 1] [-].")
-    c = _array("corrosion_allowance", corrosion_allowance, nonnegative=True, unit="m")
+    d, s, e, c = _hoop_inputs(diameter, allowable_stress, joint_efficiency,
+                              corrosion_allowance)
     t = p * d / (2.0 * s * e) + c
     return _finish(t, pressure, diameter, allowable_stress, joint_efficiency, corrosion_allowance)
 
@@ -170,12 +177,8 @@ def wall_pressure_rating(thickness, diameter, allowable_stress, basis="inside",
        Part 2: Pipes (PN, MRS, C and SDR).
     """
     t = _array("thickness", thickness, positive=True, unit="m")
-    d = _array("diameter", diameter, positive=True, unit="m")
-    s = _array("allowable_stress", allowable_stress, positive=True, unit="Pa")
-    e = _array("joint_efficiency", joint_efficiency, positive=True, unit="-")
-    if np.any(e > 1.0):
-        raise ValueError("joint_efficiency must lie in (0, 1] [-].")
-    c = _array("corrosion_allowance", corrosion_allowance, nonnegative=True, unit="m")
+    d, s, e, c = _hoop_inputs(diameter, allowable_stress, joint_efficiency,
+                              corrosion_allowance)
     factor = {"inside": 0.0, "mean": 1.0, "outside": 2.0}.get(basis)
     if factor is None:
         raise ValueError(f"basis must be 'inside', 'mean' or 'outside'; got {basis!r}")
