@@ -216,6 +216,20 @@ def _stop_workers(pool) -> None:
 _WORKER = {"pool": False, "busy": False, "stop": False}
 
 
+def _stop_again_when_swallowed(unraisable) -> None:
+    """A worker's ``sys.unraisablehook``: the stop that SIGTERM raises as a
+    KeyboardInterrupt may land inside a callback Python cannot raise from (a weakref or
+    garbage-collector callback), which would print it with a traceback and go on with
+    the case; the worker sends itself SIGTERM again instead, so the stop is raised at
+    the next point that can take it. Anything else goes to the default hook."""
+    import signal
+
+    if isinstance(unraisable.exc_value, KeyboardInterrupt) and _WORKER["stop"]:
+        os.kill(os.getpid(), signal.SIGTERM)
+        return
+    sys.__unraisablehook__(unraisable)
+
+
 def _die_with_parent(parent_pid: int, start_method: str = "fork") -> None:
     """Worker start-up: signals, and an end to this worker as soon as the batch is gone.
 
@@ -244,6 +258,7 @@ def _die_with_parent(parent_pid: int, start_method: str = "fork") -> None:
         os._exit(1)
 
     signal.signal(signal.SIGTERM, on_term)
+    sys.unraisablehook = _stop_again_when_swallowed
     if sys.platform.startswith("linux"):
         import ctypes
 

@@ -203,3 +203,30 @@ def test_two_cases_of_one_name_are_refused(tmp_path, capsys):
     err = capsys.readouterr().err
     assert code == 2 and "would both write" in err
     assert not (tmp_path / "out").exists()
+
+
+def test_a_stop_swallowed_by_a_callback_is_raised_again(monkeypatch, capsys):
+    # a worker's SIGTERM stop landing in a weakref / gc callback reaches
+    # sys.unraisablehook; the worker re-sends itself SIGTERM instead of printing it
+    import signal
+    import types
+
+    from penstock import batch
+
+    sent = []
+    monkeypatch.setattr(batch.os, "kill", lambda pid, sig: sent.append((pid, sig)))
+    monkeypatch.setitem(batch._WORKER, "stop", True)
+    hit = types.SimpleNamespace(exc_type=KeyboardInterrupt, exc_value=KeyboardInterrupt(),
+                                exc_traceback=None, err_msg=None, object=None)
+    batch._stop_again_when_swallowed(hit)
+    assert sent == [(os.getpid(), signal.SIGTERM)]
+    assert capsys.readouterr().err == ""
+    # anything else, or a KeyboardInterrupt that is no stop, goes to the default hook
+    other = []
+    monkeypatch.setattr(batch.sys, "__unraisablehook__", other.append)
+    monkeypatch.setitem(batch._WORKER, "stop", False)
+    batch._stop_again_when_swallowed(hit)
+    boom = types.SimpleNamespace(exc_type=ValueError, exc_value=ValueError("x"),
+                                 exc_traceback=None, err_msg=None, object=None)
+    batch._stop_again_when_swallowed(boom)
+    assert other == [hit, boom] and len(sent) == 1
