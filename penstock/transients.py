@@ -823,36 +823,47 @@ def simulate(lengths, diameters, wave_speeds, friction_factors, reservoir_head,
     cp = np.zeros_like(head)
     cn = np.zeros_like(head)
     ca_last, ca_first = float(ca[-1]), float(ca[0])
-    junctions = count > 1
+    # The junctions are few (one per change of segment): plain float arithmetic on each
+    # costs far less than a dozen numpy calls on arrays of two or three values.
+    joints = [(int(i_l), int(i_r), *map(float, rest)) for i_l, i_r, *rest in zip(
+        left, right, inv_ca_left, inv_ca_right, b_j, b_j2, a_fwd, a_rev, ca_left,
+        inv_ca_sum, strict=True)]
+    item_p, item_n = cp.item, cn.item
+    cv_k = cv.tolist()
+    # views fixed once: every update below writes into these same buffers
+    q_up, q_down, cah_up, cah_down = discharge[:-1], discharge[1:], cah[:-1], cah[1:]
+    fr_up, fr_down, cp_down, cn_up = fr[:-1], fr[1:], cp[1:], cn[:-1]
+    recording = rec_nodes.size > 0
     for k in range(1, steps + 1):                            # the only Python loop
         np.abs(discharge, out=fr)
         fr *= discharge
         fr *= r
         np.multiply(ca, head, out=cah)
-        np.add(discharge[:-1], cah[:-1], out=cp[1:])
-        cp[1:] -= fr[:-1]
-        np.subtract(discharge[1:], cah[1:], out=cn[:-1])
-        cn[:-1] -= fr[1:]
+        np.add(q_up, cah_up, out=cp_down)
+        cp_down -= fr_up
+        np.subtract(q_down, cah_down, out=cn_up)
+        cn_up -= fr_down
         np.subtract(cp, cn, out=head)
         head *= half_inv_ca
         np.add(cp, cn, out=discharge)
         discharge *= 0.5
-        if junctions:
+        for i_l, i_r, g_l, g_r, b, b2, a_f, a_r, ca_l, g_sum in joints:
+            c_p, c_n = item_p(i_l), item_n(i_r)
             if plain:
-                hj = (cp[left] - cn[right]) * inv_ca_sum
-                qj = cp[left] - ca_left * hj
-                head[left] = hj
-                head[right] = hj
+                hj = (c_p - c_n) * g_sum
+                qj = c_p - ca_l * hj
+                head[i_l] = hj
+                head[i_r] = hj
             else:
-                sj = cp[left] * inv_ca_left + cn[right] * inv_ca_right
-                aj = np.where(sj >= 0.0, a_fwd, a_rev)
-                qj = 2.0 * sj / (b_j + np.sqrt(np.maximum(b_j2 + 4.0 * aj * sj, 0.0)))
-                head[left] = (cp[left] - qj) * inv_ca_left
-                head[right] = (qj - cn[right]) * inv_ca_right
-            discharge[left] = qj
-            discharge[right] = qj
+                sj = c_p * g_l + c_n * g_r
+                disc = b2 + 4.0 * (a_f if sj >= 0.0 else a_r) * sj
+                qj = 2.0 * sj / (b + math.sqrt(0.0 if disc < 0.0 else disc))
+                head[i_l] = (c_p - qj) * g_l
+                head[i_r] = (qj - c_n) * g_r
+            discharge[i_l] = qj
+            discharge[i_r] = qj
         # Reservoir: H = H_R - b Q^2 on outflow, H_R on inflow.
-        s_in = float(cn[0]) + ca_first * h_res
+        s_in = item_n(0) + ca_first * h_res
         if s_in > 0.0 and b_in > 0.0:
             q_in = 2.0 * s_in / (1.0 + math.sqrt(1.0 + 4.0 * ca_first * b_in * s_in))
             head[0] = h_res - b_in * q_in * q_in
@@ -861,9 +872,8 @@ def simulate(lengths, diameters, wave_speeds, friction_factors, reservoir_head,
             head[0] = h_res
         discharge[0] = q_in
         # Valve: Q = cv sqrt(H - Htw), mirrored for reverse flow.
-        c_plus = float(cp[-1])
-        s = c_plus - ca_last * h_tw
-        c = cv[k]
+        s = item_p(-1) - ca_last * h_tw
+        c = cv_k[k]
         if s >= 0.0:
             den = c + math.sqrt(c * c + 4.0 * ca_last * s)
             y = 2.0 * s / den if den > 0.0 else 0.0
@@ -878,7 +888,8 @@ def simulate(lengths, diameters, wave_speeds, friction_factors, reservoir_head,
         valve_head[k] = h_v
         valve_flow[k] = q_v
         inlet_flow[k] = q_in
-        record_head[k] = head[rec_nodes]
+        if recording:
+            record_head[k] = head[rec_nodes]
 
     return TransientResult(
         chainage=chain, time=time, valve_head=valve_head, valve_flow=valve_flow,
