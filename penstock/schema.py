@@ -315,7 +315,7 @@ SECTIONS: tuple[Section, ...] = (
         Field("om_fraction", "fraction", "Yearly operation and maintenance as a fraction of "
               "the capital cost.", default="1 %", minimum=0.0, maximum=0.2),
     ), required=False),
-    Section("diameter_study", "Sweep and optimum of a uniform penstock diameter.", (
+    Section("diameter_study", "Sweep and optimum of a uniform penstock diameter, and the stepped diameters along the route.", (
         Field("minimum", "length", "Smallest diameter of the sweep; default: the diameter "
               "at 6 m/s at the design flow.", optional=True, minimum=0.0,
               exclusive_minimum=True, maximum=20.0),
@@ -328,6 +328,12 @@ SECTIONS: tuple[Section, ...] = (
               default=[], maximum=20.0, max_items=20),
         Field("points", "integer", "Diameters in the sweep.", default=200, minimum=10,
               maximum=2000),
+        Field("transition_cost", "dimensionless", "Capital cost of one change of diameter "
+              "in a stepped pipe (the reducer, its welds and its share of an anchor), in the "
+              "economics currency. The default is illustrative only.", default=20000.0,
+              minimum=0.0, maximum=1e9),
+        Field("minimum_reach", "length", "Shortest run of one diameter in a stepped pipe.",
+              default="100 m", minimum=0.0, maximum=1e5),
     ), required=False),
     Section("uncertainty", "Monte Carlo of the energy and cost (run with samples > 0 or "
             "penstock run --samples N). Spreads default to zero; with all zero every sample "

@@ -57,6 +57,8 @@ TABLE_ORDER = (
     "diameter_sensitivity",
     "diameter_one_at_a_time",
     "wall_profile",
+    "stepped_design",
+    "design_comparison",
     "uncertainty_summary",
     "uncertainty_samples",
     "uncertainty_energy_exceedance",
@@ -108,6 +110,8 @@ class Results:
     diameter_sensitivity: pd.DataFrame | None = None
     diameter_one_at_a_time: pd.DataFrame | None = None
     wall_profile: pd.DataFrame | None = None
+    stepped_design: pd.DataFrame | None = None
+    design_comparison: pd.DataFrame | None = None
     uncertainty_summary: pd.DataFrame | None = None
     uncertainty_samples: pd.DataFrame | None = None
     uncertainty_energy_exceedance: pd.DataFrame | None = None

@@ -42,6 +42,7 @@ from ..constants import J_PER_KWH, J_PER_MWH
 from ..materials import STEEL_PIPE_MATERIALS
 from ..materials import get_material as _get_material
 from ..route import build_route, uniform_pipe
+from . import stepped
 from .core import Methods, Say, Warning_
 from .stages import SizingHeadline, SizingStage
 
@@ -74,6 +75,33 @@ def _plates(case):
     w = case.wall
     return np.asarray(w["plates"], float) if w["plates"] else \
         np.asarray(pipewall.standard_plate_thicknesses(), float)
+
+
+def wall_on_route(case, props, chainage, design_head, diameter):
+    """The case's wall rules along a route (:func:`penstock.pipewall.wall_along_route`):
+    its steel, plates, joint efficiency, corrosion allowance, handling rule and an
+    unstiffened wall under full vacuum at the site; ``diameter`` one value or one per
+    station [m], ``design_head`` one per station [m]."""
+    w = case.wall
+    return pipewall.wall_along_route(
+        chainage, np.maximum(design_head, 0.0), diameter, wall_material(case), _plates(case),
+        joint_efficiency=w["joint_efficiency"], corrosion_allowance=w["corrosion_allowance"],
+        handling_rule=w["handling_rule"], water_density=props.density,
+        external_pressure=props.atmospheric_pressure, buckling_safety=w["buckling_safety"],
+        beyond_plates="keep")
+
+
+def element_costs(case, diameter, length, thickness, steel_factor=1.0):
+    """Capital cost items of pipe reaches (:func:`penstock.economics.pipe_cost_breakdown`)
+    at the case's prices, broadcast over ``diameter``, ``length`` and ``thickness`` [m]."""
+    c = case.costs
+    return economics.pipe_cost_breakdown(
+        diameter, length, thickness=thickness, density=wall_material(case).density,
+        cost_per_tonne=c["steel_price"] * steel_factor,
+        fabrication_factor=c["fabrication_factor"],
+        installation_factor=c["installation_factor"], civil_fixed=c["civil_fixed"],
+        civil_coefficient=c["civil_per_diameter"], civil_exponent=c["civil_exponent"],
+        contingency_factor=c["contingency"])
 
 
 class DiameterModel:
@@ -129,6 +157,12 @@ class DiameterModel:
         p = energy.electrical_power(np.ones_like(head), head, self.props.density, 1.0,
                                     **self.drive)
         return np.asarray(p) * self.availability * self.op.step_seconds
+
+    def lost_to(self, head_loss):
+        """Mean annual energy lost [J/year] to a head loss given at each flow of
+        :attr:`q_grid` [m] (the last axis): linear in the loss, through the record's
+        flow-grid weights."""
+        return self._lost(np.asarray(head_loss, dtype=float) @ self.weights)
 
     # ------------------------------------------------------------------ hydraulics
     def bounds(self):
@@ -246,19 +280,11 @@ class DiameterModel:
 
     def _each_wall(self, d, design_head=None):
         """The wall profiles one at a time (a long route's profiles are large)."""
-        w = self.case.wall
         d = np.atleast_1d(np.asarray(d, float))
         head = self.design_head(d) if design_head is None else np.atleast_2d(design_head)
         head = np.broadcast_to(head, (d.size, head.shape[-1]))
-        steel = wall_material(self.case)
         for di, hd in zip(d, head, strict=True):
-            yield pipewall.wall_along_route(
-                self.route.chainage, np.maximum(hd, 0.0), di, steel, _plates(self.case),
-                joint_efficiency=w["joint_efficiency"],
-                corrosion_allowance=w["corrosion_allowance"],
-                handling_rule=w["handling_rule"], water_density=self.props.density,
-                external_pressure=self.props.atmospheric_pressure,
-                buckling_safety=w["buckling_safety"], beyond_plates="keep")
+            yield wall_on_route(self.case, self.props, self.route.chainage, hd, di)
 
     def wall(self, d, design_head=None):
         """Plate and required thickness of each reach -> two (n_d, n_reach) arrays [m]."""
@@ -289,19 +315,11 @@ class DiameterModel:
         return {k: np.concatenate(v) for k, v in out.items()}
 
     def _block_costs(self, d, reach, thickness, smooth, steel_factor):
-        c = self.case.costs
         if thickness is None:
             plate, req = self.wall(d)
             thickness = req if smooth else plate
         thickness = np.atleast_2d(thickness)
-        parts = economics.pipe_cost_breakdown(
-            d[:, None], reach[None, :], thickness=thickness,
-            density=wall_material(self.case).density,
-            cost_per_tonne=c["steel_price"] * steel_factor,
-            fabrication_factor=c["fabrication_factor"],
-            installation_factor=c["installation_factor"], civil_fixed=c["civil_fixed"],
-            civil_coefficient=c["civil_per_diameter"], civil_exponent=c["civil_exponent"],
-            contingency_factor=c["contingency"])
+        parts = element_costs(self.case, d[:, None], reach[None, :], thickness, steel_factor)
         return {k: np.broadcast_to(np.asarray(v), (d.size, reach.size)).sum(axis=1)
                 for k, v in parts.items()}
 
@@ -486,12 +504,17 @@ def run(case, props, steady, prod, ham, warns, methods, tick) -> dict:
     # so on the sheet)
     wall_profile = _wall_profile(case, model, recommended if recommended is not None else
                                  opt.selected_size)
+    tick("stepped diameters")
+    runs, comparison = stepped.run(case, props, steady, prod, model, sizes,
+                                   recommended if recommended is not None else
+                                   opt.selected_size, warns, methods)
     return SizingStage(
         diameter_sweep=sweep, diameter_candidates=cand,
         diameter_empirical_checks=pd.DataFrame(emp),
         diameter_sensitivity=pd.DataFrame(grid_rows),
         diameter_one_at_a_time=pd.DataFrame(oat),
         wall_profile=wall_profile,
+        stepped_design=runs, design_comparison=comparison,
         model=model,
         headline=SizingHeadline(
             optimum_diameter=opt.diameter, selected_diameter=recommended,
@@ -568,14 +591,19 @@ def _moc_design_head(case, props, model, d):
 
 
 def _moc_runs(case, props, d, reaches):
+    return moc_design_head(uniform_case(case, d), props, reaches)
+
+
+def moc_design_head(c, props, reaches):
+    """The design head, largest rise, least transient crown pressure head and route of a
+    case's pipe as it stands (any diameters): see :func:`_moc_design_head`."""
     from . import hammer
 
-    c = uniform_case(case, d)
     route = build_route(c)
     pipes = hammer._pipes(c, props, route, [], Methods())
     s_nodes = pipes.axis
     hw_top = c.headwater_max if c.headwater_max is not None else c.headwater
-    d_node = np.where(np.isnan(route.node_diameter), d, route.node_diameter)
+    d_node = node_diameters(route)
     static = hw_top - (route.elevation - 0.5 * d_node)     # at the invert, flood level
     head, pmin, rise_max = None, None, 0.0
     aged = hammer.aged_roughness(c, route, pipes)
@@ -590,6 +618,12 @@ def _moc_runs(case, props, d, reaches):
         pmin = low if pmin is None else np.minimum(pmin, low)
         rise_max = max(rise_max, float(res.max_head_rise.max()))
     return head, rise_max, pmin, route
+
+
+def node_diameters(route):
+    """The pipe diameter at each route node, the reservoir node taking the first pipe's."""
+    d = route.node_diameter
+    return np.where(np.isnan(d), d[~np.isnan(d)][0], d)
 
 
 def steady_crown_margin(case, props, steady, route, d):
@@ -630,7 +664,7 @@ def candidate_row(case, props, steady, prod, model, d):
     cap = float(costs["total"][0])
     crf = cost_model.crf
     om = case.costs["om_fraction"] * cap
-    lost = float(model.energy_lost(d))
+    lost = float(model.lost_to(model.loss_on_grid(d, model.q_grid)))   # exact at d
     lost_value = float(economics.lost_energy_value(lost, e["energy_price"] / J_PER_KWH))
     h_d = float(model.loss_on_grid(d, np.array([case.design_flow]))[0])
     gain = prod.headline.draft_tube_recovery

@@ -181,6 +181,8 @@ class SizingStage:
     diameter_sensitivity: pd.DataFrame | None = None
     diameter_one_at_a_time: pd.DataFrame | None = None
     wall_profile: pd.DataFrame | None = None
+    stepped_design: pd.DataFrame | None = None
+    design_comparison: pd.DataFrame | None = None
     model: object | None = None       # penstock.model.sizing.DiameterModel
     headline: SizingHeadline = field(default_factory=SizingHeadline)
 
