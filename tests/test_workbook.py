@@ -760,3 +760,30 @@ def test_box_arithmetic():
     ch = {"col": 2, "row": 3, "cx": int(60 * EMU_PER_PX), "cy": int(39 * EMU_PER_PX)}
     assert _chart_box(ws, ch) == (3, 4, 3, 5)
     assert _overlap((1, 1, 3, 3), (3, 3, 4, 4)) and not _overlap((1, 1, 3, 3), (4, 1, 5, 3))
+
+
+def test_diameter_sheet_shows_the_stepped_design_beside_the_uniform_and_own_pipe(demos):
+    """The stepped study in the workbook: one column per design, with the results' numbers
+    in the report's units, the runs, the chart and the PNG."""
+    for d in demos.values():
+        r = d.results
+        if r.stepped_design is None:
+            continue
+        ws = d.wb["Diameter study"]
+        top = _label_row(ws, "Stepped diameters along the route")
+        head = _label_row(ws, "quantity", top)
+        designs = [ws.cell(row=head, column=c).value for c in (2, 3, 4)]
+        assert designs == list(r.design_comparison["design"])
+        cost = _label_row(ws, "annualized cost [", head, prefix=True)
+        for j in range(3):
+            assert ws.cell(row=cost, column=2 + j).value == pytest.approx(
+                r.design_comparison["annualized cost [currency/year]"].iloc[j], rel=1e-12)
+        dia = _label_row(ws, "first diameter [", head, prefix=True)
+        si = r.design_comparison["first diameter [m]"].iloc[0]
+        shown = ws.cell(row=dia, column=2).value
+        assert shown == pytest.approx(si / 0.3048 if r.case.unit_system == "us" else si)
+        runs = _label_row(ws, "Runs of the stepped design", cost)
+        assert ws.cell(row=runs + 1 + len(r.stepped_design), column=4).value is not None
+        assert any("Stepped design" in str(ch.title.tx.rich.p[0].r[0].t)
+                   for ch in ws._charts if ch.title is not None)
+        assert (d.book.parent / "stepped_design.png").is_file()

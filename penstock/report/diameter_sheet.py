@@ -125,7 +125,53 @@ def diameter_sheet(ws, ctx, title):
                                            cur), row=row + 1)
     row = last + 2
     sh.put(ws, row, 1, "Sensitivity: one input at a time", font=sh.SUBTITLE)
-    sh.write_table(ws, _currency(convert_table(r.diameter_one_at_a_time, ctx.system), cur),
-                   row=row + 1)
+    _, last = sh.write_table(ws, _currency(convert_table(r.diameter_one_at_a_time,
+                                                         ctx.system), cur), row=row + 1)
+    if r.stepped_design is not None:
+        _stepped(ws, ctx, last + 3, cur)
     ctx.page(ws)
+
+
+def _stepped(ws, ctx, row, cur):
+    """The stepped design beside the best uniform diameter and the case's own pipe, its
+    runs, and a chart of the diameter along the route."""
+    r = ctx.r
+    st = r.case.diameter_study
+    sh.put(ws, row, 1, "Stepped diameters along the route", font=sh.SUBTITLE)
+    sh.put(ws, row + 1, 1, "The sizes of each reach chosen by dynamic programming over the "
+           "route's stations (annualized capital plus the value of the energy each reach "
+           f"loses; {st['transition_cost']:,.0f} {cur} per change of diameter; runs at least "
+           f"{ctx.v(st['minimum_reach'], 'm'):,.0f} {ctx.u('m')} long). Each design below is "
+           "then evaluated whole: its own water-hammer runs, real plates, exact losses and "
+           "the checks of a candidate.", font=sh.NOTE)
+    # one column per design, one row per quantity: three designs read side by side
+    comp = _currency(convert_table(r.design_comparison, ctx.system), cur).set_index("design")
+    comp = comp.T.rename_axis("quantity").reset_index()
+    first, last = sh.write_table(ws, comp, row=row + 2, widths={"quantity": 48})
+    for i, name in enumerate(comp["quantity"]):   # each row in its quantity's format
+        fmt = ("#,##0" if f"[{cur}" in name else "0" if "[-]" in name else
+               "#,##0.0" if ("MWh" in name or "[t]" in name or "chainage" in name) else
+               "0.000")
+        for j in range(2, len(comp.columns) + 1):
+            if isinstance(ws.cell(row=first + i, column=j).value, (int, float)):
+                ws.cell(row=first + i, column=j).number_format = fmt
+    row = last + 2
+    sh.put(ws, row, 1, "Runs of the stepped design", font=sh.SUBTITLE)
+    runs = _currency(convert_table(r.stepped_design, ctx.system), cur)
+    rfirst, rlast = sh.write_table(ws, runs, row=row + 1)
+    # the diameter as steps: each run's two ends, for the chart
+    steps = convert_table(r.stepped_design.iloc[
+        [i for i in range(len(r.stepped_design)) for _ in (0, 1)]].reset_index(drop=True),
+        ctx.system)
+    x_name, d_name = steps.columns[0], steps.columns[3]
+    steps[x_name] = [v for i in range(len(r.stepped_design)) for v in (
+        runs.iloc[i, 0], runs.iloc[i, 1])]
+    scol = len(runs.columns) + 2
+    sh.put(ws, row, scol, "Diameter at the ends of each run (for the chart)", font=sh.NOTE)
+    sfirst, slast = sh.write_table(ws, steps[[x_name, d_name]], row=row + 1, col=scol)
+    ch = sh.scatter_chart("Stepped design: inside diameter along the route",
+                          f"chainage [{ctx.u('m')}]", f"diameter [{ctx.u('m')}]",
+                          x_format="0", y_format="0.00", width=18, height=9)
+    sh.add_line(ch, ws, scol, scol + 1, sfirst, slast, "stepped optimum", "1F77B4")
+    ws.add_chart(ch, f"A{max(rlast, slast) + 2}")
 

@@ -200,15 +200,63 @@ def uncertainty_figure(results, system: str):
     return fig
 
 
+def stepped_figure(results, system: str):
+    """The stepped design over the profile: the pipe, and the diameter and plate of each
+    run beside the best uniform diameter and the case's own pipe."""
+    lu = _units.label(report_unit("m", system))
+    tu = _units.label(report_unit("mm", system))
+    cv = lambda v, u="m": np.asarray(convert_value(np.asarray(v, float), u, system))  # noqa: E731
+    runs = results.stepped_design
+    comp = results.design_comparison.set_index("design")
+    prof = results.profile
+    fig, (a1, a2) = plt.subplots(2, 1, figsize=(11, 6.5), dpi=110, sharex=True,
+                                 gridspec_kw={"height_ratios": [1.2, 1]})
+    gl = results.grade_lines
+    first = gl[gl["flow case"] == gl["flow case"].iloc[0]]
+    a1.plot(cv(first["chainage [m]"]), cv(first["pipe elevation [m]"]), color="k", lw=2,
+            label="pipe centreline")
+    if "ground [m]" in prof:
+        a1.plot(cv(prof["chainage [m]"]), cv(prof["ground [m]"]), color="#8d6e63", ls="--",
+                lw=1, label="ground")
+    for x in runs["from chainage [m]"].iloc[1:]:
+        a1.axvline(float(cv(x)), color="#d62728", lw=1, ls=":")
+    a1.set_ylabel(f"elevation [{lu}]")
+    verdict = ("" if comp.loc["stepped optimum", "passes the checks"] else
+               "; it fails the checks, see the design comparison")
+    a1.set_title(f"{results.case.name}: stepped design along the route "
+                 f"(dotted: changes of diameter{verdict})")
+    a1.grid(True, alpha=0.3)
+    a1.legend(fontsize=8, loc="upper right")
+    x = np.column_stack([runs["from chainage [m]"], runs["to chainage [m]"]]).ravel()
+    d = np.repeat(runs["diameter [m]"].to_numpy(float), 2)
+    a2.plot(cv(x), cv(d), color="C0", lw=2.2, label="stepped optimum")
+    end = float(runs["to chainage [m]"].iloc[-1])
+    uni = comp.loc["best uniform diameter", "first diameter [m]"]
+    a2.plot(cv([0.0, end]), cv([uni, uni]), color="C1", ls="--", lw=1.4,
+            label="best uniform diameter")
+    a2.set_xlabel(f"chainage [{lu}]")
+    a2.set_ylabel(f"inside diameter [{lu}]")
+    a2.grid(True, alpha=0.3)
+    a3 = a2.twinx()
+    a3.plot(cv(x), cv(np.repeat(runs["thickest plate [mm]"].to_numpy(float), 2), "mm"),
+            color="C2", lw=1.2, ls="-.", label="thickest plate of the run (right axis)")
+    a3.set_ylabel(f"plate [{tu}]")
+    lines = a2.get_lines() + a3.get_lines()
+    a2.legend(lines, [ln.get_label() for ln in lines], fontsize=8, loc="lower left")
+    _fixed_layout(fig, 0.075, 0.93, 0.08, 0.94)
+    return fig
+
+
 FIGURES = {"route_profile": route_figure, "loss_breakdown": loss_figure,
            "duration_curves": duration_figure, "monthly_energy": monthly_energy_figure,
-           "design_flow_study": design_flow_figure, "water_hammer": hammer_figure, "uncertainty": uncertainty_figure}
+           "design_flow_study": design_flow_figure, "water_hammer": hammer_figure, "uncertainty": uncertainty_figure,
+           "stepped_design": stepped_figure}
 
 
 #: Figures that need a table of a stage that may not have run.
 NEEDS = {"duration_curves": "flow_duration", "monthly_energy": "energy_by_month",
          "design_flow_study": "design_flow_study", "water_hammer": "transient_envelope",
-         "uncertainty": "uncertainty_summary"}
+         "uncertainty": "uncertainty_summary", "stepped_design": "stepped_design"}
 
 
 def write_figures(results, folder, system: str) -> list[str]:
