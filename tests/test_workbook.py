@@ -765,16 +765,20 @@ def test_box_arithmetic():
 def test_diameter_sheet_shows_the_stepped_design_beside_the_uniform_and_own_pipe(demos):
     """The stepped study in the workbook: one column per design, with the results' numbers
     in the report's units, the runs, the chart and the PNG."""
+    checked = 0
     for d in demos.values():
         r = d.results
         if r.stepped_design is None:
             continue
+        checked += 1
         ws = d.wb["Diameter study"]
         top = _label_row(ws, "Stepped diameters along the route")
         head = _label_row(ws, "quantity", top)
         designs = [ws.cell(row=head, column=c).value for c in (2, 3, 4)]
         assert designs == list(r.design_comparison["design"])
         cost = _label_row(ws, "annualized cost [", head, prefix=True)
+        assert ws.cell(row=_label_row(ws, "capital cost, with the changes of diameter [",
+                                      head, prefix=True), column=2).number_format == "#,##0"
         for j in range(3):
             assert ws.cell(row=cost, column=2 + j).value == pytest.approx(
                 r.design_comparison["annualized cost [currency/year]"].iloc[j], rel=1e-12)
@@ -787,3 +791,4 @@ def test_diameter_sheet_shows_the_stepped_design_beside_the_uniform_and_own_pipe
         assert any("Stepped design" in str(ch.title.tx.rich.p[0].r[0].t)
                    for ch in ws._charts if ch.title is not None)
         assert (d.book.parent / "stepped_design.png").is_file()
+    assert checked >= 2   # the high-head demo (SI) and the US-units demo

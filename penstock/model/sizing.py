@@ -507,7 +507,7 @@ def run(case, props, steady, prod, ham, warns, methods, tick) -> dict:
     tick("stepped diameters")
     runs, comparison = stepped.run(case, props, steady, prod, model, sizes,
                                    recommended if recommended is not None else
-                                   opt.selected_size, warns, methods)
+                                   opt.selected_size, ham.grid_reaches, warns, methods)
     return SizingStage(
         diameter_sweep=sweep, diameter_candidates=cand,
         diameter_empirical_checks=pd.DataFrame(emp),

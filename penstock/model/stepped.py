@@ -47,7 +47,13 @@ SIZES_BELOW = 6
 #: Sizes offered above it (larger sizes suit the reaches above a high point).
 SIZES_ABOVE = 3
 #: Searches at most, each after raising the sizes upstream of a failing margin.
-MAX_SEARCHES = 5
+MAX_SEARCHES = 30
+#: Shortest piece of a split segment [m]; a shorter one joins its neighbour of the same
+#: diameter (a run that starts a few metres from a segment's end).
+SLIVER = 5.0
+#: Passes of the wall and the water hammer at most: the wave speed of the design's own
+#: plates sets the rise, the rise sets the plates.
+WALL_PASSES = 3
 
 STEPPED = "stepped optimum"
 UNIFORM = "best uniform diameter"
@@ -132,26 +138,62 @@ def reach_table(case, props, model, sizes):
             annual)
 
 
-def stepped_case(case, bounds, diameters):
+def stepped_case(case, bounds, diameters, sliver=None):
     """A copy of ``case`` whose pipe takes ``diameters[i]`` from ``bounds[i]`` to
     ``bounds[i + 1]`` (chainages [m]); its segments are split where a run starts, each
-    part keeping its material, roughness and wall (the wall sets its wave speed; the
-    study chooses the plates)."""
-    out = []
+    part keeping its material, roughness, roughness growth and wall. A part shorter than
+    ``sliver`` [m] (default :data:`SLIVER`; a run that starts just beside a segment's end)
+    joins the part of the same diameter beside it: a sliver would set a tiny time step
+    for the water hammer."""
+    sliver = SLIVER if sliver is None else float(sliver)
+    parts = []
     for s in case.segments:
         for a, b, d in zip(bounds[:-1], bounds[1:], diameters, strict=True):
             lo, hi = max(s.start, a), min(s.end, b)
             if hi - lo > 1e-9:
-                out.append(dataclasses.replace(s, start=float(lo), end=float(hi),
-                                               diameter=float(d)))
+                parts.append(dataclasses.replace(s, start=float(lo), end=float(hi),
+                                                 diameter=float(d)))
+    i = 0
+    while i < len(parts) and len(parts) > 1:
+        p = parts[i]
+        if p.end - p.start < sliver:
+            j = next((j for j in (i - 1, i + 1)
+                      if 0 <= j < len(parts) and parts[j].diameter == p.diameter), None)
+            if j is not None:
+                q = parts[j]
+                parts[j] = dataclasses.replace(q, start=min(q.start, p.start),
+                                               end=max(q.end, p.end))
+                del parts[i]
+                i = 0
+                continue
+        i += 1
     c = copy.copy(case)
+    c.segments = parts
+    return c
+
+
+def with_plates(variant, runs):
+    """The design with each segment's wall set to the thickest plate of its run, so that
+    its wave speed is that of the wall it is priced with."""
+    starts = runs["from chainage [m]"].to_numpy(float)
+    out = []
+    for s in variant.segments:
+        k = int(np.clip(np.searchsorted(starts, 0.5 * (s.start + s.end), side="right") - 1,
+                        0, len(runs) - 1))
+        out.append(dataclasses.replace(
+            s, wall_thickness=float(runs["thickest plate [mm]"].iloc[k]) / 1e3))
+    c = copy.copy(variant)
     c.segments = out
     return c
 
 
-def design_row(case, props, steady, prod, model, variant, name):
-    """One design evaluated whole: its own route and load rejections, real plates, exact
-    energy lost, the checks of a uniform candidate -> (row dict, run table)."""
+def design_row(case, props, steady, prod, model, variant, name, reaches, own_wall=False):
+    """One design evaluated whole: its own route and load rejections on a grid of
+    ``reaches`` over the pipe, real plates, exact energy lost, the checks of a uniform
+    candidate -> (row dict, run table). Unless ``own_wall`` (the case's own pipe, whose
+    walls are given), the water hammer is run again with each run's thickest plate as its
+    wall until the plates stop changing, so that the wave speed is that of the wall
+    priced. The capital includes the case's transition cost per change of diameter."""
     from .sizing import (
         element_costs,
         moc_design_head,
@@ -161,14 +203,23 @@ def design_row(case, props, steady, prod, model, variant, name):
         wall_on_route,
     )
 
-    head, rise, pmin, route = moc_design_head(variant, props, model.moc_reaches)
-    d_node = node_diameters(route)
-    prof = wall_on_route(variant, props, route.chainage, head, d_node)
-    keep = route.length > 0
-    plate = prof.reach_plate[keep]
-    d_reach = route.diameter[keep]
-    items = element_costs(variant, d_reach, route.length[keep], plate)
-    cap = float(np.sum(items["total"]))
+    previous, settled = None, own_wall
+    for _ in range(WALL_PASSES):
+        head, rise, pmin, route = moc_design_head(variant, props, reaches)
+        prof = wall_on_route(variant, props, route.chainage, head, node_diameters(route))
+        keep = route.length > 0
+        plate = prof.reach_plate[keep]
+        d_reach = route.diameter[keep]
+        items = element_costs(variant, d_reach, route.length[keep], plate)
+        runs = run_table(variant, route, plate, items)
+        if own_wall or (previous is not None and np.array_equal(plate, previous)):
+            settled = True
+            break
+        previous = plate
+        variant = with_plates(variant, runs)
+    changes = len(runs) - 1
+    cap = float(np.sum(items["total"])) + changes * float(
+        case.diameter_study["transition_cost"])
     years = model.roughness_years
     rough = route.roughness if years is None else route.aged_roughness(variant.segments,
                                                                         years)
@@ -195,13 +246,14 @@ def design_row(case, props, steady, prod, model, variant, name):
         failures.append("the wall (more than the thickest plate)")
     if np.any(np.asarray(vac["needs_stiffeners"])):
         failures.append("vacuum buckling of the unstiffened wall")
-    runs = run_table(variant, route, plate, items)
+    if not settled:
+        failures.append("the plates and the water hammer (still changing each other)")
     row = {
         "design": name,
         "first diameter [m]": float(runs["diameter [m]"].iloc[0]),
         "last diameter [m]": float(runs["diameter [m]"].iloc[-1]),
-        "changes of diameter [-]": len(runs) - 1,
-        "capital cost [currency]": cap,
+        "changes of diameter [-]": changes,
+        "capital cost, with the changes of diameter [currency]": cap,
         "annualized capital [currency/year]": crf * cap,
         "operation and maintenance [currency/year]": om,
         "energy lost [MWh/year]": lost / J_PER_MWH,
@@ -245,41 +297,59 @@ def run_table(variant, route, plate, items):
     })
 
 
-def run(case, props, steady, prod, model, sizes, uniform_d, warns, methods):
+def run(case, props, steady, prod, model, sizes, uniform_d, reaches, warns, methods):
     """The stepped optimum beside the best uniform diameter and the case's own pipe ->
-    (stepped design runs, design comparison), or (None, None) when no search runs."""
-    from .sizing import steady_crown_margin, uniform_case
+    (stepped design runs, design comparison), or (None, None) when no search runs.
 
+    ``uniform_d`` is the uniform recommendation (or the economic size when none passes),
+    ``reaches`` the water-hammer grid of the case's own pipe (converged), on which every
+    design of the comparison is run."""
     say = Say(case.unit_system)
-    st = case.diameter_study
     opts = options(sizes, uniform_d)
     if opts.size < 2:
+        warns.append(Warning_("diameter study", "only one size lies near the uniform "
+                              "recommendation, so no stepped design is studied",
+                              severity="note"))
         return None, None
+    try:
+        return _run(case, props, steady, prod, model, opts, uniform_d, reaches, warns,
+                    methods, say)
+    except ValueError as err:   # a design the water hammer cannot run: say so, run on
+        warns.append(Warning_("diameter study", f"the stepped design could not be "
+                              f"evaluated ({err}); only uniform diameters are compared"))
+        return None, None
+
+
+def _run(case, props, steady, prod, model, opts, uniform_d, reaches, warns, methods, say):
+    from .sizing import steady_crown_margin, uniform_case
+
+    st = case.diameter_study
     group, x0, x1, cost, capital, lost, feasible, annual = reach_table(
         case, props, model, opts)
     n = cost.shape[0]
     starts = np.array([x0[group == g][0] for g in range(n)])
     ends = np.array([x1[group == g][-1] for g in range(n)])
     lengths = np.bincount(group, model.route.length[model.route.length > 0], n)
-    total = float(lengths.sum())
-    min_len = min(float(st["minimum_reach"]), total)
+    min_len = min(float(st["minimum_reach"]), float(lengths.sum()))
     trans = annual * float(st["transition_cost"])
     allowed = feasible.copy()
-    best = None
-    searches = 0
-    while searches < 3 * opts.size:
-        searches += 1
+    first = best = None
+    best_margin = -np.inf
+    for _ in range(MAX_SEARCHES):
         try:
             found = dia.stepped_design(lengths, cost, transition_cost=trans,
                                        minimum_length=min_len, feasible=allowed)
         except ValueError:
-            break
-        bounds = [float(starts[first]) for first, _, _ in found.runs] + [float(ends[-1])]
+            break   # no design left that the rules allow
+        bounds = [float(starts[i]) for i, _, _ in found.runs] + [float(ends[-1])]
         variant = stepped_case(case, bounds, [float(opts[k]) for _, _, k in found.runs])
         # the steady margin first (cheap); the whole evaluation once it passes
         margin, x_fail, _ = steady_crown_margin(variant, props, steady, build_route(variant),
                                                 None)
-        best = (variant, found)
+        first = first or (variant, found)
+        if margin <= best_margin + 1e-3:
+            break   # larger sizes upstream no longer help (an intake too shallow, say)
+        best, best_margin = (variant, found), margin
         if margin >= 0:
             break
         # every size at and upstream of the failing point goes above the smallest there
@@ -287,29 +357,34 @@ def run(case, props, steady, prod, model, sizes, uniform_d, warns, methods):
         allowed[up, :int(found.option[up].min()) + 1] = False
     if best is None:
         warns.append(Warning_("diameter study", "no stepped design meets the minimum reach "
-                              f"length and the wall rules with the sizes {say.m(opts[0], 3)} to "
-                              f"{say.m(opts[-1], 3)}; only uniform diameters are compared",
+                              f"length and the wall rules with the sizes {say.m(opts[0], 3)} "
+                              f"to {say.m(opts[-1], 3)}; only uniform diameters are compared",
                               severity="note"))
         return None, None
+    if best_margin < 0:
+        best = first   # no repair passes: the cheapest design, shown failing
     variant, found = best
-    row, runs = design_row(case, props, steady, prod, model, variant, STEPPED)
-    row["annualized cost, the search's additive model [currency/year]"] = found.cost
-    rows = [row]
+    row, runs = design_row(case, props, steady, prod, model, variant, STEPPED, reaches)
     uni, _ = design_row(case, props, steady, prod, model, uniform_case(case, uniform_d),
-                        UNIFORM)
-    own, _ = design_row(case, props, steady, prod, model, case, OWN)
-    rows += [uni, own]
+                        UNIFORM, reaches)
+    own, _ = design_row(case, props, steady, prod, model, case, OWN, reaches, own_wall=True)
+    cost_key = "annualized cost [currency/year]"
     if not row["passes the checks"]:
         warns.append(Warning_("diameter study", "the stepped design found fails "
-                              f"{row['governing check']} after {searches} searches; it is "
-                              "shown for comparison, not recommended"))
-    elif row["annualized cost [currency/year]"] < uni["annualized cost [currency/year]"]:
-        saving = uni["annualized cost [currency/year]"] - row["annualized cost [currency/year]"]
+                              f"{row['governing check']}; it is shown for comparison, not "
+                              "recommended"))
+    elif row[cost_key] < uni[cost_key]:
         sizes_text = " / ".join(say.m(d, 3) for d in runs["diameter [m]"])
+        versus = ("the best uniform diameter" if uni["passes the checks"] else
+                  "the economic uniform diameter, which fails the checks")
         warns.append(Warning_("diameter study", f"a stepped pipe ({len(runs)} runs, "
                               f"{sizes_text}) costs "
-                              f"{saving:,.0f} {case.economics['currency']}/year less than the "
-                              "best uniform diameter and passes the same checks",
+                              f"{uni[cost_key] - row[cost_key]:,.0f} "
+                              f"{case.economics['currency']}/year less than {versus}; it "
+                              "passes the steady crown margin and the wall rules (the "
+                              "transient minimum is reported, not checked); the search's "
+                              f"own additive estimate was {found.cost:,.0f} "
+                              f"{case.economics['currency']}/year",
                               severity="note"))
     methods.add("Stepped diameters", "dynamic programming over the route's stations: each "
                 "reach at each of the sizes around the uniform recommendation, charged its "
@@ -317,8 +392,9 @@ def run(case, props, steady, prod, model, sizes, uniform_d, warns, methods):
                 "its own friction and local losses over the flow record, with the case's "
                 "transition cost per change of diameter and minimum run length "
                 "(diameter_study.transition_cost, minimum_reach); the design found is then "
-                "evaluated whole (its own water-hammer runs, plates, exact losses and the "
-                "checks of a uniform candidate), its sizes raised upstream of a failing "
-                "steady margin and the search run again",
+                "evaluated whole (its own water-hammer runs on the case's converged grid "
+                "with each run's own plate as its wall, plates, exact losses, the transition "
+                "costs, the checks of a uniform candidate), its sizes raised upstream of a "
+                "failing steady margin and the search run again while that helps",
                 "R. Bellman (1957), Dynamic Programming, Princeton University Press")
-    return runs, pd.DataFrame(rows)
+    return runs, pd.DataFrame([row, uni, own])

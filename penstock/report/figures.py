@@ -201,8 +201,8 @@ def uncertainty_figure(results, system: str):
 
 
 def stepped_figure(results, system: str):
-    """The stepped design over the profile: the pipe, and the diameter and plate of each
-    run beside the best uniform diameter and the case's own pipe."""
+    """The stepped design over the profile: the pipe, and the diameter and thickest plate
+    of each run beside the best uniform diameter."""
     lu = _units.label(report_unit("m", system))
     tu = _units.label(report_unit("mm", system))
     cv = lambda v, u="m": np.asarray(convert_value(np.asarray(v, float), u, system))  # noqa: E731
@@ -230,9 +230,9 @@ def stepped_figure(results, system: str):
     x = np.column_stack([runs["from chainage [m]"], runs["to chainage [m]"]]).ravel()
     d = np.repeat(runs["diameter [m]"].to_numpy(float), 2)
     a2.plot(cv(x), cv(d), color="C0", lw=2.2, label="stepped optimum")
-    end = float(runs["to chainage [m]"].iloc[-1])
+    start, end = float(runs["from chainage [m]"].iloc[0]), float(runs["to chainage [m]"].iloc[-1])
     uni = comp.loc["best uniform diameter", "first diameter [m]"]
-    a2.plot(cv([0.0, end]), cv([uni, uni]), color="C1", ls="--", lw=1.4,
+    a2.plot(cv([start, end]), cv([uni, uni]), color="C1", ls="--", lw=1.4,
             label="best uniform diameter")
     a2.set_xlabel(f"chainage [{lu}]")
     a2.set_ylabel(f"inside diameter [{lu}]")
@@ -249,8 +249,8 @@ def stepped_figure(results, system: str):
 
 FIGURES = {"route_profile": route_figure, "loss_breakdown": loss_figure,
            "duration_curves": duration_figure, "monthly_energy": monthly_energy_figure,
-           "design_flow_study": design_flow_figure, "water_hammer": hammer_figure, "uncertainty": uncertainty_figure,
-           "stepped_design": stepped_figure}
+           "design_flow_study": design_flow_figure, "water_hammer": hammer_figure,
+           "uncertainty": uncertainty_figure, "stepped_design": stepped_figure}
 
 
 #: Figures that need a table of a stage that may not have run.
