@@ -365,8 +365,11 @@ def _run(case, props, steady, prod, model, opts, uniform_d, reaches, warns, meth
         best = first   # no repair passes: the cheapest design, shown failing
     variant, found = best
     row, runs = design_row(case, props, steady, prod, model, variant, STEPPED, reaches)
-    uni, _ = design_row(case, props, steady, prod, model, uniform_case(case, uniform_d),
-                        UNIFORM, reaches)
+    if len(found.runs) == 1 and float(opts[found.runs[0][2]]) == float(uniform_d):
+        uni = {**row, "design": UNIFORM}   # the same pipe: evaluated once
+    else:
+        uni, _ = design_row(case, props, steady, prod, model, uniform_case(case, uniform_d),
+                            UNIFORM, reaches)
     own, _ = design_row(case, props, steady, prod, model, case, OWN, reaches, own_wall=True)
     cost_key = "annualized cost [currency/year]"
     if not row["passes the checks"]:
