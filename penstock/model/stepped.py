@@ -90,15 +90,16 @@ def stations(route, segments, losses):
 
 def reach_table(case, props, model, sizes):
     """Annualized cost of each reach built at each size, and whether the size may be
-    used there -> (group, x0, x1, cost (reaches, sizes), capital, lost energy [J/year],
-    feasible, plates (reaches, sizes) [m])."""
+    used there -> (group of each pipe reach, x0, x1, then per group and size: cost
+    [currency/year], capital [currency], lost energy [J/year], feasible; and the
+    annualizing factor, capital recovery plus O&M [1/year])."""
     route = model.route
     keep = route.length > 0
     group, x0, x1 = stations(route, case.segments, case.losses)
     length = route.length[keep]
     seg = route.element_segment[keep]
-    plate, _ = model.wall(sizes)                                    # (sizes, reaches)
-    profiles = model.walls(sizes)
+    profiles = model.walls(sizes)                                   # one per size
+    plate = np.array([p.reach_plate[keep] for p in profiles])      # (sizes, reaches)
     beyond = np.array([(p.beyond_plates[:-1] | p.beyond_plates[1:])[keep] for p in profiles])
     w = case.wall
     from .sizing import element_costs, wall_material
