@@ -211,6 +211,9 @@ class _Reader:
             return "the name of a CSV file inside the case folder"
         if f.kind == "integer":
             return "a whole number"
+        if f.kind == "choice_list":
+            return ("a list of distinct names among " + ", ".join(f"'{c}'" for c in f.choices)
+                    + f", e.g. [\"{f.choices[0]}\"]")
         if f.kind.endswith("_list"):
             example = {"flow_list": '["1.0 m^3/s", "2.0 m^3/s"]', "length_list": '["500 m"]',
                        "time_list": '["5 s", "10 s"]'}[f.kind]
@@ -249,6 +252,23 @@ class _Reader:
                 raise CaseError(self.file, key, f"{raw!r} is not a whole number")
             self._range(float(raw), f, key, raw)
             return int(raw)
+        if kind == "choice_list":
+            if not isinstance(raw, list) or not raw:
+                raise CaseError(self.file, key, f"{raw!r} is not a non-empty list; expected "
+                                f"{self._expect(f)}")
+            out = []
+            for i, item in enumerate(raw):
+                name = item.strip().lower() if isinstance(item, str) else None
+                if name not in f.choices:
+                    hint = _did_you_mean(str(item), f.choices)
+                    raise CaseError(self.file, f"{key}[{i + 1}]", f"{item!r} is not allowed; "
+                                    f"expected one of " + ", ".join(f"'{c}'" for c in f.choices)
+                                    + hint)
+                if name in out:
+                    raise CaseError(self.file, f"{key}[{i + 1}]", f"{item!r} is listed twice; "
+                                    "expected each name once")
+                out.append(name)
+            return out
         if kind.endswith("_list"):
             item_kind = kind[:-5]
             if not isinstance(raw, list):
@@ -485,7 +505,7 @@ def _as_written(raw) -> str:
 
 def _echo_value(val):
     if isinstance(val, list):
-        return ", ".join(f"{v:.6g}" for v in val) if val else ""
+        return ", ".join(v if isinstance(v, str) else f"{v:.6g}" for v in val) if val else ""
     if isinstance(val, float):
         return float(f"{val:.9g}")   # the SI value as read, without float noise
     return val

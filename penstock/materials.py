@@ -707,7 +707,9 @@ STEEL_PIPE_MATERIALS = ("welded_steel", "riveted_steel")
 _MODULUS_SOURCE = {
     "welded_steel": "astm_a36",
     "riveted_steel": "astm_a36",
-    "ductile_iron_cement_lined": "ductile_iron_awwa",
+    # EN 545, whose classes (to C100) the diameter study's ductile iron uses, so that a
+    # pipe the study proposes passes the case's own wall check
+    "ductile_iron_cement_lined": "ductile_iron_en545",
     "grp": "grp_awwa_c950",
     "hdpe": "hdpe_pe100",
 }

@@ -5,7 +5,8 @@ the template written by ``penstock new`` and the reference in the README.
 Defaults are written the way a user would write them, with their unit.
 
 Kinds are those of :data:`penstock.units.SI_UNITS`, plus ``text``, ``choice``,
-``file``, ``integer`` and lists: ``flow_list``, ``length_list``, ``time_list``.
+``file``, ``integer`` and lists: ``flow_list``, ``length_list``, ``time_list``,
+``choice_list``.
 """
 
 from __future__ import annotations
@@ -334,6 +335,11 @@ SECTIONS: tuple[Section, ...] = (
               minimum=0.0, maximum=1e9),
         Field("minimum_reach", "length", "Shortest run of one diameter in a stepped pipe.",
               default="100 m", minimum=0.0, maximum=1e5),
+        Field("materials", "choice_list", "Pipe materials the study compares, each at its "
+              "own best uniform size: welded steel (plates), PE100 (ISO 4427 SDR classes) "
+              "and ductile iron (EN 545 pressure classes). Their default prices are "
+              "illustrative only.", default=["welded_steel", "hdpe", "ductile_iron"],
+              choices=("welded_steel", "hdpe", "ductile_iron")),
     ), required=False),
     Section("uncertainty", "Monte Carlo of the energy and cost (run with samples > 0 or "
             "penstock run --samples N). Spreads default to zero; with all zero every sample "

@@ -517,6 +517,19 @@ CATALOGUE = [
         "profile.csv", ("column 'elevation", "repeats the quantity")),
     Bad("negative-rack-area", ALDER, _ed(TOML, 'rack_area = "6 m^2"', 'rack_area = "-6 m^2"'),
         TOML, ("loss 1.rack_area", "out of range")),
+    # ---- the materials of the diameter study (a list of names)
+    Bad("study-material-unknown", ALDER, _ed(TOML, "[uncertainty]", '[diameter_study]\n'
+        'materials = ["welded_steel", "grp"]\n\n[uncertainty]'), TOML,
+        ("diameter_study.materials[2]", "'grp' is not allowed", "'hdpe'")),
+    Bad("study-material-twice", ALDER, _ed(TOML, "[uncertainty]", '[diameter_study]\n'
+        'materials = ["hdpe", "HDPE"]\n\n[uncertainty]'), TOML,
+        ("diameter_study.materials[2]", "listed twice")),
+    Bad("study-materials-empty", ALDER, _ed(TOML, "[uncertainty]", '[diameter_study]\n'
+        'materials = []\n\n[uncertainty]'), TOML,
+        ("diameter_study.materials", "not a non-empty list")),
+    Bad("study-materials-not-a-list", ALDER, _ed(TOML, "[uncertainty]", '[diameter_study]\n'
+        'materials = "hdpe"\n\n[uncertainty]'), TOML,
+        ("diameter_study.materials", "not a non-empty list", "e.g. [")),
     Bad("tailwater-rating-above-headwater", MILLRACE,
         _put("tailwater.csv", "flow [m^3/s],level [m]\n0,112.0\n200,115.0\n"), TOML,
         ("levels", "not below the minimum headwater")),

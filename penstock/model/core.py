@@ -59,6 +59,7 @@ TABLE_ORDER = (
     "wall_profile",
     "stepped_design",
     "design_comparison",
+    "material_comparison",
     "uncertainty_summary",
     "uncertainty_samples",
     "uncertainty_energy_exceedance",
@@ -112,6 +113,7 @@ class Results:
     wall_profile: pd.DataFrame | None = None
     stepped_design: pd.DataFrame | None = None
     design_comparison: pd.DataFrame | None = None
+    material_comparison: pd.DataFrame | None = None
     uncertainty_summary: pd.DataFrame | None = None
     uncertainty_samples: pd.DataFrame | None = None
     uncertainty_energy_exceedance: pd.DataFrame | None = None

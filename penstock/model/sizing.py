@@ -42,7 +42,7 @@ from ..constants import J_PER_KWH, J_PER_MWH
 from ..materials import STEEL_PIPE_MATERIALS
 from ..materials import get_material as _get_material
 from ..route import build_route, uniform_pipe
-from . import stepped
+from . import material_study, stepped
 from .core import Methods, Say, Warning_
 from .stages import SizingHeadline, SizingStage
 
@@ -508,13 +508,16 @@ def run(case, props, steady, prod, ham, warns, methods, tick) -> dict:
     runs, comparison = stepped.run(case, props, steady, prod, model, sizes,
                                    recommended if recommended is not None else
                                    opt.selected_size, ham.grid_reaches, warns, methods)
+    tick("materials")
+    mats = material_study.run(case, props, steady, prod, model, sel, ham.grid_reaches, warns,
+                              methods)
     return SizingStage(
         diameter_sweep=sweep, diameter_candidates=cand,
         diameter_empirical_checks=pd.DataFrame(emp),
         diameter_sensitivity=pd.DataFrame(grid_rows),
         diameter_one_at_a_time=pd.DataFrame(oat),
         wall_profile=wall_profile,
-        stepped_design=runs, design_comparison=comparison,
+        stepped_design=runs, design_comparison=comparison, material_comparison=mats,
         model=model,
         headline=SizingHeadline(
             optimum_diameter=opt.diameter, selected_diameter=recommended,

@@ -128,8 +128,40 @@ def diameter_sheet(ws, ctx, title):
     _, last = sh.write_table(ws, _currency(convert_table(r.diameter_one_at_a_time,
                                                          ctx.system), cur), row=row + 1)
     if r.stepped_design is not None:
-        _stepped(ws, ctx, last + 3, cur)
+        last = _stepped(ws, ctx, last + 3, cur)
+    if r.material_comparison is not None and len(r.material_comparison):
+        last = _materials(ws, ctx, last + 3, cur)
     ctx.page(ws)
+
+
+def _transposed(ws, ctx, table, key, row, cur):
+    """``table`` with one column per row of ``key``, one row per quantity, each row in its
+    quantity's number format -> (first, last) rows written."""
+    comp = _currency(convert_table(table, ctx.system), cur).set_index(key)
+    comp = comp.T.rename_axis("quantity").reset_index()
+    first, last = sh.write_table(ws, comp, row=row, widths={"quantity": 48})
+    for i, name in enumerate(comp["quantity"]):   # each row in its quantity's format
+        fmt = ("#,##0" if f"[{cur}" in name or "/s]" in name else
+               "0.00" if "utilisation" in name else "0" if "[-]" in name else
+               "#,##0.0" if ("MWh" in name or "[t]" in name or "chainage" in name) else
+               "0.000")
+        for j in range(2, len(comp.columns) + 1):
+            if isinstance(ws.cell(row=first + i, column=j).value, (int, float)):
+                ws.cell(row=first + i, column=j).number_format = fmt
+    return first, last
+
+
+def _materials(ws, ctx, row, cur):
+    """Each allowed material at its own best uniform size, side by side."""
+    sh.put(ws, row, 1, "Materials, each at its best uniform size", font=sh.SUBTITLE)
+    sh.put(ws, row + 1, 1, "Welded steel is the study's recommendation above. PE100 and "
+           "ductile iron take, reach by reach, the lowest pressure class that carries the "
+           "design pressure head (no surge allowance above the rating) and stands full vacuum; "
+           "each size found is run whole (water hammer with its own wall, the steady "
+           "pressure margin at the crown). Their prices are illustrative defaults, not "
+           "prices: replace them by quotations before ranking the materials.", font=sh.NOTE)
+    _, last = _transposed(ws, ctx, ctx.r.material_comparison, "material", row + 2, cur)
+    return last
 
 
 def _stepped(ws, ctx, row, cur):
@@ -145,16 +177,7 @@ def _stepped(ws, ctx, row, cur):
            "then evaluated whole: its own water-hammer runs, real plates, exact losses and "
            "the checks of a candidate.", font=sh.NOTE)
     # one column per design, one row per quantity: three designs read side by side
-    comp = _currency(convert_table(r.design_comparison, ctx.system), cur).set_index("design")
-    comp = comp.T.rename_axis("quantity").reset_index()
-    first, last = sh.write_table(ws, comp, row=row + 2, widths={"quantity": 48})
-    for i, name in enumerate(comp["quantity"]):   # each row in its quantity's format
-        fmt = ("#,##0" if f"[{cur}" in name else "0" if "[-]" in name else
-               "#,##0.0" if ("MWh" in name or "[t]" in name or "chainage" in name) else
-               "0.000")
-        for j in range(2, len(comp.columns) + 1):
-            if isinstance(ws.cell(row=first + i, column=j).value, (int, float)):
-                ws.cell(row=first + i, column=j).number_format = fmt
+    _, last = _transposed(ws, ctx, r.design_comparison, "design", row + 2, cur)
     row = last + 2
     sh.put(ws, row, 1, "Runs of the stepped design", font=sh.SUBTITLE)
     runs = _currency(convert_table(r.stepped_design, ctx.system), cur)
@@ -174,4 +197,5 @@ def _stepped(ws, ctx, row, cur):
                           x_format="0", y_format="0.00", width=18, height=9)
     sh.add_line(ch, ws, scol, scol + 1, sfirst, slast, "stepped optimum", "1F77B4")
     ws.add_chart(ch, f"A{max(rlast, slast) + 2}")
+    return max(rlast, slast) + 2 + 18   # the chart's rows
 

@@ -1,0 +1,401 @@
+"""Diameter study, materials: PE100 and ductile iron, each at its own best uniform size,
+beside the welded-steel recommendation.
+
+Orchestration only (the walls, classes and prices are :mod:`penstock.pipeclasses`).  For
+each material the case allows (``diameter_study.materials``) and each of its sizes near the
+sweep's range:
+
+* **classes along the route**: each reach takes the lowest class that carries its design
+  pressure head (static at the flood level, at the invert, plus the transient rise) and
+  whose wall stands full vacuum at the site unstiffened with the case's buckling safety
+  factor (:func:`penstock.pipeclasses.reach_classes`).  A class carries no more than its
+  rated pressure: no surge allowance above the rating is taken;
+* **screening**: the rise is Allievi's for the case's closure, at most Joukowsky's, with
+  the wave speed of the size's heaviest class (the stiffest wall, the highest rise); the
+  capital is the classes' prices per metre plus the case's installation, civil and
+  contingency items; the energy lost is that of the pipe's own head loss over the flow
+  record (its bore at the heaviest class on the route, its own roughness);
+* **evaluation** of the cheapest sizes in turn, until one passes: the pipe built as a
+  case of its own, its load rejections by the method of characteristics on the case's
+  converged grid with the wall of its heaviest class (again until the classes settle),
+  and the checks of a steel candidate: the steady pressure margin at the crown, new and
+  aged, a class for every reach and a wall that stands full vacuum.
+
+The plastic's roughness grows linearly from its new to its aged value of the roughness
+table over the service life, so that the aged check and the mid-life energy basis mean
+what they mean for steel.
+"""
+
+from __future__ import annotations
+
+import copy
+import dataclasses
+
+import numpy as np
+import pandas as pd
+
+from .. import economics, friction, gradeline, pipeclasses, pipewall, surge, wavespeed
+from ..constants import J_PER_KWH, J_PER_MWH
+from ..materials import MATERIALS, pipe_wall_modulus
+from ..route import build_route
+from .core import Say, Warning_
+
+#: The families the study prices besides welded steel: the registry material, the pipe
+#: material of the roughness table, the standard and the illustrative price's key.
+FAMILIES = {
+    "hdpe": {"material": "hdpe_pe100", "pipe_material": "hdpe", "name": "PE100",
+             "standard": "ISO 4427-2 (PE100, C = 1.25)"},
+    "ductile_iron": {"material": "ductile_iron_en545",
+                     "pipe_material": "ductile_iron_cement_lined", "name": "ductile iron",
+                     "standard": "EN 545:2010 pressure classes"},
+}
+#: Sizes evaluated in full at most per material, cheapest first.
+MAX_EVALUATED = 4
+#: Passes of the classes and the water hammer at most (the wall sets the wave speed, the
+#: rise sets the classes).
+CLASS_PASSES = 3
+#: How far beyond the sweep's diameter bounds a material's bores are offered. [-]
+RANGE = (0.8, 1.5)
+
+
+@dataclasses.dataclass(frozen=True)
+class Size:
+    """One nominal size of a family and its classes, ascending (SI)."""
+
+    family: str
+    label: str
+    outside: float
+    bore: np.ndarray      # per class [m]
+    wall: np.ndarray      # per class, the wall the wave speed and vacuum check use [m]
+    heads: np.ndarray     # rated pressure heads [m]
+    labels: tuple
+    price: np.ndarray     # per class [currency/m]
+
+
+def sizes(family, case, props):
+    """The sizes of a family with their classes, walls and illustrative prices."""
+    f = FAMILIES[family]
+    mat = MATERIALS[f["material"]]
+    heads = np.asarray(pipeclasses.rated_head(np.asarray(mat.pressure_classes),
+                                              props.density))
+    per_kg = case.costs["steel_price"] / 1000.0
+    out = []
+    if family == "hdpe":
+        sdr = np.asarray(mat.sdr_series, float)
+        for od in pipeclasses.PE_OUTSIDE_DIAMETERS:
+            bore = np.asarray(pipeclasses.pe_bore(od, sdr))
+            wall = np.asarray(pipeclasses.pe_wall(od, sdr))
+            out.append(Size(family, f"OD {1e3 * od:.0f} mm", float(od), bore, wall, heads,
+                            mat.pressure_class_labels, _price(family, bore, wall, mat, per_kg)))
+    else:
+        for dn, de in pipeclasses.DUCTILE_IRON_OUTSIDE_DIAMETERS.items():
+            e_min = np.asarray(pipeclasses.ductile_iron_wall(
+                np.asarray(mat.pressure_classes), 1e-3 * de, mat.tensile_strength))
+            wall = np.asarray(pipeclasses.ductile_iron_nominal_wall(e_min, dn))
+            # the cement-lined bore taken as DN (common practice)
+            bore = np.full(wall.size, 1e-3 * dn)
+            out.append(Size(family, f"DN {dn}", 1e-3 * de, bore, wall, heads,
+                            mat.pressure_class_labels, _price(family, bore, wall, mat, per_kg)))
+    return out
+
+
+def _price(family, bore, wall, mat, per_kg):
+    return np.asarray(pipeclasses.illustrative_price_per_metre(family, bore, wall,
+                                                               mat.density, per_kg))
+
+
+class _Context:
+    """What every size of every family shares: the route, the flow record's weights and
+    the economics (from the steel study's :class:`~penstock.model.sizing.DiameterModel`)."""
+
+    def __init__(self, case, props, prod, model):
+        self.case, self.props, self.prod, self.model = case, props, prod, model
+        route = model.route
+        self.keep = model.lengths > 0
+        self.reach = model.lengths[self.keep]
+        self.s = model._s_nodes / model._s_nodes[-1]
+        self.z = route.elevation
+        self.length = float(model._s_nodes[-1])
+        self.hw_top = case.headwater_max if case.headwater_max is not None else case.headwater
+        self.h0 = case.headwater - float(route.elevation[-1])
+        self.crf = model.cost_model().crf
+
+    def roughness(self, family, years):
+        """(new roughness, linear growth rate) of the family's pipe, and the roughness after
+        ``years`` (None: new) [m], [m/year], [m]."""
+        pm = FAMILIES[family]["pipe_material"]
+        new = friction.material_roughness(pm, "new")
+        growth = (friction.material_roughness(pm, "aged") - new) / self.case.service_life
+        now = new if years is None else float(friction.aged_roughness(new, years, growth))
+        return new, growth, now
+
+
+def _modulus(family):
+    return pipe_wall_modulus(FAMILIES[family]["pipe_material"])
+
+
+def _least_for_vacuum(ctx, family, size):
+    """Index of the lightest class whose wall stands full vacuum unstiffened (len if none),
+    and the utilisation of every class [-]."""
+    mat = MATERIALS[FAMILIES[family]["material"]]
+    chk = pipewall.vacuum_check(size.wall, size.bore, _modulus(family), mat.poisson_ratio,
+                                external_pressure=ctx.props.atmospheric_pressure,
+                                safety_factor=ctx.case.wall["buckling_safety"])
+    ok = ~np.asarray(chk["needs_stiffeners"], bool)
+    return (int(np.argmax(ok)) if ok.any() else size.bore.size,
+            np.asarray(chk["utilisation"], float))
+
+
+def _classes(ctx, size, node_head, least):
+    """Class of each reach (pipe reaches only) and whether any reach is beyond the top."""
+    k = pipeclasses.reach_classes(node_head, size.heads, least)[ctx.keep]
+    return k, bool(np.any(k >= size.heads.size))
+
+
+def _money(ctx, size, k, bore):
+    """Capital [currency] of the reaches at classes ``k``."""
+    c = ctx.case.costs
+    kk = np.minimum(k, size.heads.size - 1)
+    parts = economics.pipe_cost_breakdown(
+        bore, ctx.reach, cost_per_metre=size.price[kk],
+        installation_factor=c["installation_factor"], civil_fixed=c["civil_fixed"],
+        civil_coefficient=c["civil_per_diameter"], civil_exponent=c["civil_exponent"],
+        contingency_factor=c["contingency"])
+    return float(np.sum(parts["total"]))
+
+
+def _lost(ctx, family, bore):
+    """Mean annual energy lost [J/year] to a uniform pipe of this bore and material."""
+    m = ctx.model
+    rough = ctx.roughness(family, m.roughness_years)[2]
+    h = m.pipe.head_loss(m.q_grid, bore, np.full(len(ctx.case.segments), rough),
+                         ctx.props.kinematic_viscosity)
+    return float(m.lost_to(h))
+
+
+def _annual(ctx, capital, lost):
+    e = ctx.case.economics
+    value = float(economics.lost_energy_value(lost, e["energy_price"] / J_PER_KWH))
+    return float(economics.annualized_cost(capital, ctx.crf, ctx.case.costs["om_fraction"],
+                                           value)), value
+
+
+def _wave_speed(ctx, family, bore, wall):
+    s = ctx.case.surge
+    mat = MATERIALS[FAMILIES[family]["material"]]
+    return float(wavespeed.pipe_wave_speed(ctx.props.bulk_modulus, ctx.props.density, bore,
+                                           wall, _modulus(family), mat.poisson_ratio,
+                                           case=s["restraint"]))
+
+
+def screen(ctx, family, size, steady):
+    """The screening estimate of a size: classes from Allievi's rise at the stiffest
+    class's wave speed, and the steady crown margin exactly -> dict (annualized cost,
+    feasible, bore)."""
+    from .sizing import steady_crown_margin
+
+    least, _ = _least_for_vacuum(ctx, family, size)
+    bore_top, wall_top = float(size.bore[-1]), float(size.wall[-1])
+    a = _wave_speed(ctx, family, bore_top, wall_top)
+    v = gradeline.mean_velocity(ctx.case.design_flow, bore_top)
+    rise = float(surge.allievi_rise_capped(ctx.length, v, ctx.h0,
+                                           ctx.case.surge["closure_time"], a))
+    head = ctx.hw_top - (ctx.z - 0.5 * bore_top) + rise * ctx.s
+    k, beyond = _classes(ctx, size, head, least)
+    bore = float(size.bore[min(int(k.max()), size.bore.size - 1)])
+    capital = _money(ctx, size, k, bore)
+    lost = _lost(ctx, family, bore)
+    annual, _ = _annual(ctx, capital, lost)
+    feasible = not beyond and least < size.bore.size
+    if feasible:   # the steady margin decides most sizes: exact, no water hammer needed
+        c = material_case(ctx.case, family, bore, float(size.wall[min(int(k.max()),
+                                                                      size.bore.size - 1)]))
+        feasible = steady_crown_margin(c, ctx.props, steady, build_route(c), bore)[0] >= 0
+    return {"size": size, "annual": annual, "feasible": feasible, "bore": bore}
+
+
+def material_case(case, family, bore, wall):
+    """A copy of the case with every pipe segment of this family, bore and wall; the
+    case's own wave speed or pipe modulus (given for its own pipe) no longer applies."""
+    pm = FAMILIES[family]["pipe_material"]
+    new = friction.material_roughness(pm, "new")
+    growth = (friction.material_roughness(pm, "aged") - new) / case.service_life
+    c = copy.copy(case)
+    c.segments = [dataclasses.replace(s, diameter=float(bore), material=pm, roughness=new,
+                                      wall_thickness=float(wall),
+                                      roughness_growth=growth if growth > 0 else None)
+                  for s in case.segments]
+    c.surge = dict(case.surge, wave_speed=None, pipe_modulus=None)
+    return c
+
+
+def evaluate(ctx, family, size, steady, reaches):
+    """One size built whole: its classes settled with its own water hammer, its costs and
+    checks -> a row of the comparison."""
+    from . import sizing
+
+    case, props = ctx.case, ctx.props
+    least, use = _least_for_vacuum(ctx, family, size)
+    top = size.bore.size
+    # the first run has the wall of the heaviest class (the highest wave speed, the safe
+    # side); each next run the wall of the heaviest class the last one needed, until the
+    # two agree (a lighter wall lowers the rise, so the classes only come down)
+    j, settled = top - 1, False
+    for _ in range(CLASS_PASSES):
+        c = material_case(case, family, float(size.bore[j]), float(size.wall[j]))
+        head, rise, pmin, route = sizing.moc_design_head(c, props, reaches)
+        k, beyond = _classes(ctx, size, head, least)
+        j_new = min(int(k.max()), top - 1)
+        if j_new == j:
+            settled = True
+            break
+        j = j_new
+    kk = np.minimum(k, top - 1)
+    bore = float(size.bore[int(kk.max())])
+    wall = float(size.wall[int(kk.max())])
+    if not settled:   # the last run had a heavier wall than the classes need: its rise is
+        c = material_case(case, family, bore, wall)   # on the safe side; the pipe as built
+        route = build_route(c)
+    capital = _money(ctx, size, k, bore)
+    lost = _lost(ctx, family, bore)
+    annual, value = _annual(ctx, capital, lost)
+    margin, at, flow_case = sizing.steady_crown_margin(c, props, steady, route, bore)
+    failures = []
+    if margin < 0:
+        failures.append(f"the steady pressure margin at the crown ({flow_case}, minimum "
+                        "headwater)")
+    if beyond:
+        failures.append("the pressure classes (a reach above the highest class)")
+    if least >= top:
+        failures.append("vacuum buckling of the unstiffened wall, at every class")
+    x = route.chainage[:-1][ctx.keep]
+    x1 = route.chainage[1:][ctx.keep]
+    e0 = ctx.prod.headline.mean_annual_energy + ctx.model.case_lost
+    f = FAMILIES[family]
+    return {
+        "material": f["name"], "standard": f["standard"], "size": size.label,
+        "inside diameter [m]": bore,
+        "classes along the route": _runs(x, x1, kk, size.labels),
+        "lightest class": size.labels[int(kk.min())],
+        "heaviest class": size.labels[int(kk.max())],
+        "wave speed [m/s]": _wave_speed(ctx, family, bore, wall),
+        "capital cost [currency]": capital,
+        "energy lost [MWh/year]": lost / J_PER_MWH,
+        "mean annual energy [MWh]": (e0 - lost) / J_PER_MWH,
+        "value of energy lost [currency/year]": value,
+        "annualized capital [currency/year]": ctx.crf * capital,
+        "operation and maintenance [currency/year]": case.costs["om_fraction"] * capital,
+        "annualized cost [currency/year]": annual,
+        "maximum surge rise [m]": rise,
+        "minimum steady pressure margin at the crown, minimum headwater [m]": margin,
+        "at chainage [m]": at,
+        "minimum transient pressure head at the crown, minimum headwater [m]":
+            float(np.min(pmin)),
+        "largest vacuum-buckling utilisation [-]": float(use[int(kk.min())]),
+        "passes the checks": not failures,
+        "governing check": "; ".join(failures) if failures else "all pass",
+        "prices": "illustrative defaults, not prices",
+    }
+
+
+def _runs(x0, x1, k, labels):
+    """'PN10 0-640 m; PN16 640-1,210 m': the runs of one class along the route."""
+    out, a = [], 0
+    for i in range(1, k.size + 1):
+        if i == k.size or k[i] != k[a]:
+            out.append(f"{labels[int(k[a])]} {x0[a]:,.0f}–{x1[i - 1]:,.0f} m")
+            a = i
+    return "; ".join(out)
+
+
+def steel_row(case, props, row):
+    """The welded-steel recommendation's candidate row in the comparison's columns."""
+    from .sizing import wall_material
+
+    d = float(row["diameter [m]"])
+    thin, thick = row["thinnest plate [mm]"], row["thickest plate [mm]"]
+    steel = wall_material(case)
+    a = float(wavespeed.pipe_wave_speed(props.bulk_modulus, props.density, d, 1e-3 * thick,
+                                        steel.elastic_modulus, case.surge["poisson_ratio"],
+                                        case=case.surge["restraint"]))
+    keys = ("capital cost [currency]", "energy lost [MWh/year]", "mean annual energy [MWh]",
+            "value of energy lost [currency/year]", "annualized capital [currency/year]",
+            "operation and maintenance [currency/year]", "annualized cost [currency/year]",
+            "maximum surge rise [m]",
+            "minimum steady pressure margin at the crown, minimum headwater [m]",
+            "at chainage [m]",
+            "minimum transient pressure head at the crown, minimum headwater [m]",
+            "largest vacuum-buckling utilisation [-]", "passes the checks", "governing check")
+    out = {"material": "welded steel", "standard": f"{steel.description} plates",
+           "size": f"D {1e3 * d:.0f} mm", "inside diameter [m]": d,
+           "classes along the route": f"plates {thin:.0f} to {thick:.0f} mm",
+           "lightest class": f"{thin:.0f} mm plate", "heaviest class": f"{thick:.0f} mm plate",
+           "wave speed [m/s]": a}
+    out.update({k: row[k] for k in keys})
+    out["prices"] = "the case's steel price model"
+    return out
+
+
+def run(case, props, steady, prod, model, steel, reaches, warns, methods):
+    """The material comparison: one row per material the case allows, each at its best
+    uniform size (steel: the study's recommendation, ``steel`` its candidate row or None).
+    """
+    say = Say(case.unit_system)
+    allowed = case.diameter_study["materials"]
+    rows = []
+    if "welded_steel" in allowed and steel is not None:
+        rows.append(steel_row(case, props, steel))
+    others = [f for f in allowed if f in FAMILIES]
+    if not others:
+        return pd.DataFrame(rows)
+    ctx = _Context(case, props, prod, model)
+    lo, hi = model.bounds()
+    workable = model.smallest_workable()
+    for family in others:
+        name = FAMILIES[family]["name"]
+        near = [sz for sz in sizes(family, case, props)
+                if lo * RANGE[0] <= sz.bore[0] and sz.bore[-1] <= hi * RANGE[1]
+                and sz.bore[-1] >= workable]
+        screened = sorted((screen(ctx, family, sz, steady) for sz in near), key=lambda r: r["annual"])
+        feasible = [r for r in screened if r["feasible"]]
+        if not feasible:
+            top = MATERIALS[FAMILIES[family]["material"]].pressure_class_labels[-1]
+            warns.append(Warning_("diameter study", f"no {name} size near the sweep's range "
+                                  f"({say.m(lo * RANGE[0], 3)} to {say.m(hi * RANGE[1], 3)}) "
+                                  f"carries the design pressure head with a class up to {top}, "
+                                  "keeps the steady pressure margin at the crown and has a wall "
+                                  "that stands full vacuum: the material is left out of the "
+                                  "comparison", severity="note"))
+            continue
+        best = None
+        for r in feasible[:MAX_EVALUATED]:
+            row = evaluate(ctx, family, r["size"], steady, reaches)
+            if best is None or (row["passes the checks"] and not best["passes the checks"]):
+                best = row
+            if row["passes the checks"]:
+                break
+        if not best["passes the checks"]:
+            warns.append(Warning_("diameter study", f"none of the {min(len(feasible), MAX_EVALUATED)}"
+                                  f" cheapest {name} sizes passes the checks (the cheapest, "
+                                  f"{best['size']}, fails {best['governing check']})"))
+        rows.append(best)
+    warns.append(Warning_("diameter study", "the prices of "
+                          + " and ".join(FAMILIES[f]["name"] for f in others)
+                          + " in the material comparison are illustrative defaults (a "
+                          "multiple of the case's steel price per kilogram of pipe), not "
+                          "prices: the comparison ranks nothing until they are replaced by "
+                          "quotations", severity="note"))
+    methods.add("Diameter study, materials", "each material at its own best uniform size: "
+                "every reach in the lowest class that carries its design pressure head (static "
+                "at the flood level plus the rise, no surge allowance above the rating) and "
+                "whose wall stands full vacuum unstiffened; sizes screened with Allievi's rise "
+                "at the stiffest class's wave speed, the cheapest then run whole (load "
+                "rejections by the method of characteristics with the wall of the heaviest "
+                "class, again until the classes settle) with the steel candidates' checks; "
+                "PE walls d_n/SDR, ductile-iron walls e = PFA·SF·DE/(2·R_m + PFA·SF) with SF 3 "
+                "plus the casting tolerance (1.3 + 0.001·DN) mm, the lined bore taken as DN; "
+                "roughness growing linearly from new to aged over the service life",
+                "ISO 4427-2:2019; EN 545:2010 (the wall rule and tolerance from memory, the "
+                "walls checked against the standard's table); Timoshenko & Gere (1961) for "
+                "the vacuum check")
+    return pd.DataFrame(rows)

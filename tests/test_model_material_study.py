@@ -1,0 +1,119 @@
+"""The material comparison: each material's design, built as a case of its own, must pass
+the checks the tool makes of any pipe, with the classes the comparison says.
+
+Invariants across stages (the walls and class ratings themselves are checked against the
+standards' tables in tests/test_pipeclasses.py).
+"""
+
+from __future__ import annotations
+
+import copy
+import re
+
+import numpy as np
+import pytest
+
+from penstock import pipeclasses
+from penstock.materials import MATERIALS
+from penstock.model import material_study, run_case
+
+MARGIN = "minimum steady pressure margin at the crown, minimum headwater [m]"
+LOW = "minimum pressure head at the crown, minimum headwater [m]"
+RUN = re.compile(r"(\S+) ([\d,.]+)–([\d,.]+) m")
+
+
+def _runs(text):
+    return [(label, float(a.replace(",", "")), float(b.replace(",", "")))
+            for label, a, b in RUN.findall(text)]
+
+
+def _design_case(case, row, family):
+    """The row's pipe as a case: its bore, and the wall of its heaviest class."""
+    mat = MATERIALS[material_study.FAMILIES[family]["material"]]
+    size = next(s for s in material_study.sizes(family, case, _props(case))
+                if s.label == row["size"])
+    j = mat.pressure_class_labels.index(row["heaviest class"])
+    return material_study.material_case(case, family, row["inside diameter [m]"],
+                                        float(size.wall[j])), mat
+
+
+def _props(case):
+    from penstock import water
+    return water.water_properties(case.temperature, case.altitude)
+
+
+@pytest.mark.parametrize(("demo", "family", "name"), [
+    ("alder-gorge-high-head", "ductile_iron", "ductile iron"),
+    ("millrace-flats-low-head", "hdpe", "PE100"),
+])
+def test_material_design_passes_the_tools_checks_as_its_own_case(demo_run, demo, family,
+                                                                  name):
+    case, r = demo_run(demo, samples=0)
+    rows = r.material_comparison.set_index("material")
+    # the steel column is the study's recommendation
+    assert rows.loc["welded steel", "inside diameter [m]"] == r.headline.selected_diameter
+    row = rows.loc[name]
+    assert bool(row["passes the checks"])
+    variant, mat = _design_case(case, row, family)
+    own = run_case(variant, samples=0)
+    # the steady margin is the Pressure checks' own
+    low = own.pressure_checks[LOW].min()
+    assert low >= case.pressure_margin - 1e-9
+    assert row[MARGIN] == pytest.approx(low - case.pressure_margin, abs=1e-6)
+    # its surge is that of its own wall on a converged grid (the tool's own 0.5 %; the
+    # comparison ran on the steel case's converged grid)
+    assert row["maximum surge rise [m]"] == pytest.approx(own.headline.max_surge_rise,
+                                                          rel=0.01)
+    # every reach's class carries the design pressure line the water-hammer stage finds
+    line = own.design_pressure_line
+    x = line["chainage [m]"].to_numpy()
+    h = line["design pressure head at the invert [m]"].to_numpy()
+    labels = list(mat.pressure_class_labels)
+    runs = _runs(row["classes along the route"])
+    assert runs[0][1] == 0.0 and runs[-1][2] == pytest.approx(x[-1])
+    for label, x0, x1 in runs:
+        rated = float(pipeclasses.rated_head(mat.pressure_classes[labels.index(label)],
+                                             _props(case).density))
+        inside = (x >= x0 - 1e-6) & (x <= x1 + 1e-6)
+        assert h[inside].max() <= rated * (1 + 1e-3), (label, x0, x1)
+    # and the case's own wall check passes the wall it was given
+    assert (own.own_wall_checks["verdict"] == "passes").all()
+
+
+def test_a_higher_head_never_takes_a_lighter_class():
+    heads = np.array([40.0, 64.0, 100.0, 160.0])
+    low = pipeclasses.reach_classes([10, 50, 90], heads)
+    high = pipeclasses.reach_classes([20, 70, 150], heads)
+    assert np.all(high >= low)
+
+
+def test_the_case_restricts_the_materials(demo_run):
+    case, r = demo_run("millrace-flats-low-head", samples=0)
+    assert set(r.material_comparison["material"]) == {"welded steel", "PE100", "ductile iron"}
+    only = copy.copy(case)
+    only.diameter_study = {**case.diameter_study, "materials": ["hdpe"]}
+    out = run_case(only, samples=0)
+    assert list(out.material_comparison["material"]) == ["PE100"]
+    steel = copy.copy(case)
+    steel.diameter_study = {**case.diameter_study, "materials": ["welded_steel"]}
+    out = run_case(steel, samples=0)
+    assert list(out.material_comparison["material"]) == ["welded steel"]
+    assert not out.cautions["message"].str.contains("illustrative defaults").any()
+
+
+def test_illustrative_prices_are_a_caution_and_a_column(demo_run):
+    _, r = demo_run("millrace-flats-low-head", samples=0)
+    assert r.cautions["message"].str.contains("illustrative defaults").any()
+    others = r.material_comparison.set_index("material").drop(index="welded steel")
+    assert (others["prices"] == "illustrative defaults, not prices").all()
+
+
+def test_a_head_above_every_class_leaves_the_material_out(demo_run):
+    """The high-head demo's design head is above PE100's highest class (PN32, about 326 m
+    of water): no PE size is offered, and a caution says why."""
+    case, r = demo_run("alder-gorge-high-head", samples=0)
+    assert "PE100" not in set(r.material_comparison["material"])
+    top = float(pipeclasses.rated_head(MATERIALS["hdpe_pe100"].pressure_classes[-1],
+                                       _props(case).density))
+    assert r.design_pressure_line["design pressure head at the invert [m]"].max() > top
+    assert r.cautions["message"].str.contains("no PE100 size").any()
