@@ -607,6 +607,7 @@ def load_case(path) -> Case:
         _flow_record,
         _level_series,
         _levels_not_below,
+        _price_table,
         _rating,
         _surge,
     )
@@ -701,6 +702,22 @@ def load_case(path) -> Case:
             study["minimum"] >= study["maximum"]:
         raise CaseError(CASE_FILE, "diameter_study.maximum", f"{study['maximum']:g} m is not "
                         f"above the minimum {study['minimum']:g} m")
+    for family, key in (("hdpe", "pe100_prices"), ("ductile_iron", "ductile_iron_prices")):
+        if study[key] is None:
+            continue
+        if family not in study["materials"]:
+            raise CaseError(CASE_FILE, f"diameter_study.{key}", f"is given but '{family}' is not "
+                            "among diameter_study.materials; expected the material listed there, "
+                            "or no price table")
+        study[key] = _price_table(rd, study[key], family)
+    given = doc.get("diameter_study")
+    if isinstance(given, dict) and "minimum_reach" in given:
+        z = profile["elevation"].to_numpy()
+        along = float(np.sum(np.hypot(np.diff(ch), np.diff(z))))
+        if study["minimum_reach"] > along:
+            raise CaseError(CASE_FILE, "diameter_study.minimum_reach", f"{study['minimum_reach']:g}"
+                            f" m is longer than the route ({along:.1f} m along the pipe); "
+                            "expected at most the route's length")
     if turbine["efficiency_table"] is not None:
         from .turbines import TURBINE_TYPES
 

@@ -241,3 +241,55 @@ def _surge(rd: _Reader, surge: dict, chainage: np.ndarray) -> dict:
             raise CaseError(CASE_FILE, f"surge.record_at[{i + 1}]", f"chainage {x:g} m is off "
                             f"the route ({chainage[0]:g} to {chainage[-1]:g} m)")
     return surge
+
+
+def _price_table(rd: _Reader, path: Path, family: str) -> pd.DataFrame:
+    """A price table of a pressure-class pipe family -> SI columns ``size`` [m] (the
+    nominal size: PE outside diameter, ductile-iron DN), ``class`` [Pa] (the rated
+    pressure, snapped to the family's class) and ``price`` [currency/m]."""
+    from . import pipeclasses
+    from .materials import MATERIALS
+
+    name = path.name
+    df = rd.table(path, (("size", "length"), ("class", "pressure"),
+                         ("price", "price_per_length")), max_rows=2000)
+    if family == "hdpe":
+        series, what = pipeclasses.PE_OUTSIDE_DIAMETERS, "PE100 outside diameter (ISO 4427-2)"
+        mat = MATERIALS["hdpe_pe100"]
+    else:
+        series = 1e-3 * np.array(list(pipeclasses.DUCTILE_IRON_OUTSIDE_DIAMETERS), float)
+        what = "ductile-iron DN (EN 545)"
+        mat = MATERIALS["ductile_iron_en545"]
+    classes = np.asarray(mat.pressure_classes, float)
+    size, cls, price = (df[c].to_numpy() for c in ("size", "class", "price"))
+    out_size, out_cls = np.empty_like(size), np.empty_like(cls)
+    for i in range(len(df)):
+        row = f"row {rd.line(name, i)}"
+        j = int(np.argmin(np.abs(series - size[i])))
+        if abs(series[j] - size[i]) > 5e-4:
+            raise CaseError(name, f"{row}, column 'size'", f"{1e3 * size[i]:g} mm is not a "
+                            f"{what}; expected one of " + ", ".join(
+                                f"{1e3 * v:.0f}" for v in series) + " mm")
+        k = int(np.argmin(np.abs(classes - cls[i])))
+        if abs(classes[k] - cls[i]) > 5e-3 * classes[k]:
+            raise CaseError(name, f"{row}, column 'class'", f"{cls[i] / 1e5:g} bar is not a "
+                            f"class of {mat.description}; expected one of " + ", ".join(
+                                f"{c / 1e5:g}" for c in classes) + " bar")
+        if not price[i] > 0:
+            raise CaseError(name, f"{row}, column 'price'", f"{price[i]:g} is not above zero; "
+                            "expected the delivered price per metre")
+        if i and series[j] == out_size[i - 1] and classes[k] <= out_cls[i - 1]:
+            raise CaseError(name, f"{row}, column 'class'", f"{classes[k] / 1e5:g} bar does not "
+                            f"increase from the row before ({out_cls[i - 1] / 1e5:g} bar) for the "
+                            "same size; expected each size's classes once, in increasing order")
+        out_size[i], out_cls[i] = series[j], classes[k]
+    seen = set()
+    for i, key in enumerate(zip(out_size, out_cls, strict=True)):
+        if key in seen:
+            raise CaseError(name, f"row {rd.line(name, i)}", "repeats a size and class of an "
+                            "earlier row; expected each pair once")
+        seen.add(key)
+    rd.echo.append({"section": "diameter_study", "key": f"diameter_study.{'pe100' if family == 'hdpe' else family}_prices",
+                    "as written": name, "value (SI)": f"{len(df)} prices, "
+                    f"{len(set(out_size.tolist()))} sizes", "SI unit": "1/m", "source": name})
+    return pd.DataFrame({"size": out_size, "class": out_cls, "price": price})

@@ -63,6 +63,9 @@ COLUMN_BOUNDS: dict[str, tuple[float | None, float | None]] = {
     "exceedance": (None, None),       # 0 to 100 %, checked with its own message
     "opening": (None, None),
     "efficiency": (None, None),
+    "size": (0.01, 20.0),             # pipe sizes of a price table [m]
+    "class": (1e4, 1e8),              # rated pressures of a price table [Pa]
+    "price": (0.0, 1e8),              # pipe prices [currency/m]
 }
 
 
@@ -340,6 +343,18 @@ SECTIONS: tuple[Section, ...] = (
               "and ductile iron (EN 545 pressure classes). Their default prices are "
               "illustrative only.", default=["welded_steel", "hdpe", "ductile_iron"],
               choices=("welded_steel", "hdpe", "ductile_iron")),
+        Field("pe100_prices", "file", "CSV of PE100 pipe prices: nominal outside diameter "
+              "(e.g. 630 mm), class by its rated pressure PN (e.g. 10 bar) and delivered price "
+              "per metre; only the sizes and classes it lists are offered. Default: "
+              "illustrative prices.", optional=True,
+              columns=(("size", "length"), ("class", "pressure"),
+                       ("price", "price_per_length"))),
+        Field("ductile_iron_prices", "file", "CSV of ductile-iron pipe prices: DN as a length "
+              "(e.g. 600 mm), class by its allowable operating pressure PFA (C40: 40 bar) and "
+              "delivered price per metre; only the sizes and classes it lists are offered. "
+              "Default: illustrative prices.", optional=True,
+              columns=(("size", "length"), ("class", "pressure"),
+                       ("price", "price_per_length"))),
     ), required=False),
     Section("uncertainty", "Monte Carlo of the energy and cost (run with samples > 0 or "
             "penstock run --samples N). Spreads default to zero; with all zero every sample "

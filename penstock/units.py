@@ -245,7 +245,7 @@ def to_si(values, unit: str, kind: str):
     """Convert numbers given in ``unit`` to the SI unit of ``kind``."""
     ureg = registry()
     si = SI_UNITS[kind]
-    q = ureg.Quantity(values, unit)
+    q = ureg.Quantity(values, "1" + unit if unit.startswith("/") else unit)   # "/m", "/ft"
     return q.to(si).magnitude if si else q.to("dimensionless").magnitude
 
 

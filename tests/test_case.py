@@ -323,6 +323,16 @@ def _escape(d: Path):
     edit_file(d / TOML, 'profile = "profile.csv"', 'profile = "../x.csv"')
 
 
+def _prices(rows: str):
+    """A PE100 price table with these data rows, named by the case."""
+    def mutate(d: Path):
+        (d / "pe.csv").write_text("size [mm],class [bar],price [/m]\n" + rows,
+                                  encoding="utf-8")
+        edit_file(d / TOML, "[economics]", '[diameter_study]\npe100_prices = "pe.csv"\n\n'
+                  "[economics]")
+    return mutate
+
+
 def _cp1252_flow_header(d: Path):
     """A header saved by a spreadsheet in Windows-1252: 'flow [m\xb3/s]' (superscript 3)."""
     p = d / "flows.csv"
@@ -530,6 +540,26 @@ CATALOGUE = [
     Bad("study-materials-not-a-list", ALDER, _ed(TOML, "[uncertainty]", '[diameter_study]\n'
         'materials = "hdpe"\n\n[uncertainty]'), TOML,
         ("diameter_study.materials", "not a non-empty list", "e.g. [")),
+    # ---- a price table of the material comparison
+    Bad("price-size-not-in-series", MILLRACE, _prices("1800,6.3,2100\n650,10,900\n"),
+        "pe.csv", ("row 3", "column 'size'", "650 mm is not a PE100 outside diameter"),
+        csv_row="650,10,900"),
+    Bad("price-class-not-a-class", MILLRACE, _prices("1800,11,2100\n"), "pe.csv",
+        ("row 2", "column 'class'", "11 bar is not a class"), csv_row="1800,11,2100"),
+    Bad("price-classes-not-increasing", MILLRACE,
+        _prices("1800,10,3300\n1800,6.3,2100\n"), "pe.csv",
+        ("row 3", "column 'class'", "does not increase"), csv_row="1800,6.3,2100"),
+    Bad("price-size-missing", MILLRACE, _prices("1800,6.3,2100\n,10,3300\n"), "pe.csv",
+        ("row 3", "column 'size [mm]'", "is empty"), csv_row=",10,3300"),
+    Bad("price-table-for-unlisted-material", MILLRACE, lambda d: (
+        (d / "di.csv").write_text("size [mm],class [bar],price [/m]\n600,40,900\n",
+                                  encoding="utf-8"),
+        edit_file(d / TOML, "[economics]", '[diameter_study]\nmaterials = ["welded_steel", '
+                  '"hdpe"]\nductile_iron_prices = "di.csv"\n\n[economics]')), TOML,
+        ("diameter_study.ductile_iron_prices", "'ductile_iron' is not among")),
+    Bad("minimum-reach-longer-than-route", MILLRACE, _ed(TOML, "[economics]",
+        '[diameter_study]\nminimum_reach = "2 km"\n\n[economics]'), TOML,
+        ("diameter_study.minimum_reach", "longer than the route")),
     Bad("tailwater-rating-above-headwater", MILLRACE,
         _put("tailwater.csv", "flow [m^3/s],level [m]\n0,112.0\n200,115.0\n"), TOML,
         ("levels", "not below the minimum headwater")),

@@ -13,6 +13,8 @@ import re
 import numpy as np
 import pytest
 
+import penstock
+from conftest import copy_demo, edit_file
 from penstock import pipeclasses
 from penstock.materials import MATERIALS
 from penstock.model import material_study, run_case
@@ -32,7 +34,7 @@ def _design_case(case, row, family):
     mat = MATERIALS[material_study.FAMILIES[family]["material"]]
     size = next(s for s in material_study.sizes(family, case, _props(case))
                 if s.label == row["size"])
-    j = mat.pressure_class_labels.index(row["heaviest class"])
+    j = size.labels.index(row["heaviest class"])
     return material_study.material_case(case, family, row["inside diameter [m]"],
                                         float(size.wall[j])), mat
 
@@ -117,3 +119,47 @@ def test_a_head_above_every_class_leaves_the_material_out(demo_run):
                                        _props(case).density))
     assert r.design_pressure_line["design pressure head at the invert [m]"].max() > top
     assert r.cautions["message"].str.contains("no PE100 size").any()
+
+
+PE_PRICES = """size [mm],class [bar],price [/m]
+1800,6.3,2100
+1800,10,3300
+2000,6.3,2600
+2000,10,4000
+2500,6.3,4100
+"""
+
+
+def test_a_price_table_sets_the_sizes_classes_and_prices(tmp_path):
+    folder = copy_demo("millrace-flats-low-head", tmp_path)
+    (folder / "pe_prices.csv").write_text(PE_PRICES, encoding="utf-8")
+    edit_file(folder / "site.toml", "[economics]",
+              '[diameter_study]\npe100_prices = "pe_prices.csv"\n\n[economics]')
+    case = penstock.load_case(folder)
+    table = case.diameter_study["pe100_prices"]
+    assert table["class"].tolist()[:2] == pytest.approx([6.3e5, 1e6])
+    sizes = material_study.sizes("hdpe", case, _props(case))
+    assert [s.label for s in sizes] == ["OD 1800 mm", "OD 2000 mm", "OD 2500 mm"]
+    assert sizes[2].labels == ("PN6.3",) and sizes[2].price.tolist() == [4100.0]
+    r = run_case(case, samples=0)
+    row = r.material_comparison.set_index("material").loc["PE100"]
+    assert row["size"] in {"OD 1800 mm", "OD 2000 mm", "OD 2500 mm"}
+    assert row["prices"] == "the case's price table"
+    assert set(_runs(row["classes along the route"])[i][0]
+               for i in range(len(_runs(row["classes along the route"])))) <= {"PN6.3", "PN10"}
+    # the capital: each reach's length at its class's price, plus the case's items
+    size = next(s for s in sizes if s.label == row["size"])
+    c = case.costs
+    runs = _runs(row["classes along the route"])
+    length = r.stepped_design["length along the pipe [m]"].sum()   # one run on this route
+    assert len(runs) == 1
+    price = dict(zip(size.labels, size.price, strict=True))[runs[0][0]]
+    from penstock import economics
+    civil = float(economics.civil_cost_per_metre(row["inside diameter [m]"], c["civil_fixed"],
+                                                 c["civil_per_diameter"], c["civil_exponent"]))
+    by_hand = (price * (1 + c["installation_factor"]) + civil) * length * (1 + c["contingency"])
+    assert row["capital cost [currency]"] == pytest.approx(by_hand, rel=1e-9)
+    # the caution names only the material still on illustrative prices
+    notes = r.cautions["message"]
+    note = notes[notes.str.contains("illustrative defaults")].iloc[0]
+    assert "ductile iron" in note and "PE100" not in note

@@ -70,10 +70,43 @@ class Size:
     heads: np.ndarray     # rated pressure heads [m]
     labels: tuple
     price: np.ndarray     # per class [currency/m]
+    quoted: bool = False  # prices from the case's table (else illustrative)
+
+    def only(self, keep, price):
+        """The size with the classes ``keep`` (a boolean mask) only, at ``price``."""
+        return dataclasses.replace(
+            self, bore=self.bore[keep], wall=self.wall[keep], heads=self.heads[keep],
+            labels=tuple(np.asarray(self.labels, dtype=object)[keep]),
+            price=np.asarray(price, float), quoted=True)
+
+
+#: The case key of each family's price table.
+PRICE_KEYS = {"hdpe": "pe100_prices", "ductile_iron": "ductile_iron_prices"}
 
 
 def sizes(family, case, props):
-    """The sizes of a family with their classes, walls and illustrative prices."""
+    """The sizes of a family with their classes, walls and prices: the case's price table
+    where it gives one (only the sizes and classes it lists), else illustrative ones."""
+    table = case.diameter_study.get(PRICE_KEYS[family])
+    out = _all_sizes(family, case, props)
+    if table is None:
+        return [sz for sz, _ in out]
+    mat = MATERIALS[FAMILIES[family]["material"]]
+    classes = np.asarray(mat.pressure_classes, float)
+    priced = []
+    for sz, nominal in out:
+        rows = table[np.isclose(table["size"].to_numpy(), nominal, rtol=0, atol=1e-9)]
+        if rows.empty:
+            continue
+        keep = np.isin(classes, rows["class"].to_numpy())
+        price = rows.set_index("class").loc[classes[keep], "price"].to_numpy()
+        priced.append(sz.only(keep, price))
+    return priced
+
+
+def _all_sizes(family, case, props):
+    """Every size of the family with all its classes and illustrative prices, each with its
+    nominal size as a price table gives it (PE: outside diameter, ductile iron: DN) [m]."""
     f = FAMILIES[family]
     mat = MATERIALS[f["material"]]
     heads = np.asarray(pipeclasses.rated_head(np.asarray(mat.pressure_classes),
@@ -85,8 +118,9 @@ def sizes(family, case, props):
         for od in pipeclasses.PE_OUTSIDE_DIAMETERS:
             bore = np.asarray(pipeclasses.pe_bore(od, sdr))
             wall = np.asarray(pipeclasses.pe_wall(od, sdr))
-            out.append(Size(family, f"OD {1e3 * od:.0f} mm", float(od), bore, wall, heads,
-                            mat.pressure_class_labels, _price(family, bore, wall, mat, per_kg)))
+            out.append((Size(family, f"OD {1e3 * od:.0f} mm", float(od), bore, wall, heads,
+                             mat.pressure_class_labels, _price(family, bore, wall, mat, per_kg)),
+                        float(od)))
     else:
         for dn, de in pipeclasses.DUCTILE_IRON_OUTSIDE_DIAMETERS.items():
             e_min = np.asarray(pipeclasses.ductile_iron_wall(
@@ -94,8 +128,9 @@ def sizes(family, case, props):
             wall = np.asarray(pipeclasses.ductile_iron_nominal_wall(e_min, dn))
             # the cement-lined bore taken as DN (common practice)
             bore = np.full(wall.size, 1e-3 * dn)
-            out.append(Size(family, f"DN {dn}", 1e-3 * de, bore, wall, heads,
-                            mat.pressure_class_labels, _price(family, bore, wall, mat, per_kg)))
+            out.append((Size(family, f"DN {dn}", 1e-3 * de, bore, wall, heads,
+                             mat.pressure_class_labels, _price(family, bore, wall, mat, per_kg)),
+                        1e-3 * dn))
     return out
 
 
@@ -294,7 +329,8 @@ def evaluate(ctx, family, size, steady, reaches):
         "largest vacuum-buckling utilisation [-]": float(use[int(kk.min())]),
         "passes the checks": not failures,
         "governing check": "; ".join(failures) if failures else "all pass",
-        "prices": "illustrative defaults, not prices",
+        "prices": ("the case's price table" if size.quoted else
+                   "illustrative defaults, not prices"),
     }
 
 
@@ -379,12 +415,16 @@ def run(case, props, steady, prod, model, steel, reaches, warns, methods):
                                   f" cheapest {name} sizes passes the checks (the cheapest, "
                                   f"{best['size']}, fails {best['governing check']})"))
         rows.append(best)
-    warns.append(Warning_("diameter study", "the prices of "
-                          + " and ".join(FAMILIES[f]["name"] for f in others)
-                          + " in the material comparison are illustrative defaults (a "
-                          "multiple of the case's steel price per kilogram of pipe), not "
-                          "prices: the comparison ranks nothing until they are replaced by "
-                          "quotations", severity="note"))
+    default = [f for f in others if case.diameter_study.get(PRICE_KEYS[f]) is None]
+    if default:
+        warns.append(Warning_("diameter study", "the prices of "
+                              + " and ".join(FAMILIES[f]["name"] for f in default)
+                              + " in the material comparison are illustrative defaults (a "
+                              "multiple of the case's steel price per kilogram of pipe), not "
+                              "prices: the comparison ranks nothing until they are replaced by "
+                              "quotations (diameter_study."
+                              + " and diameter_study.".join(PRICE_KEYS[f] for f in default)
+                              + ")", severity="note"))
     methods.add("Diameter study, materials", "each material at its own best uniform size: "
                 "every reach in the lowest class that carries its design pressure head (static "
                 "at the flood level plus the rise, no surge allowance above the rating) and "

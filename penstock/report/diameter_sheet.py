@@ -158,8 +158,9 @@ def _materials(ws, ctx, row, cur):
            "ductile iron take, reach by reach, the lowest pressure class that carries the "
            "design pressure head (no surge allowance above the rating) and stands full vacuum; "
            "each size found is run whole (water hammer with its own wall, the steady "
-           "pressure margin at the crown). Their prices are illustrative defaults, not "
-           "prices: replace them by quotations before ranking the materials.", font=sh.NOTE)
+           "pressure margin at the crown). Their prices are the case's price tables where it "
+           "gives them, else illustrative defaults that are not prices: replace them by "
+           "quotations before ranking the materials.", font=sh.NOTE)
     _, last = _transposed(ws, ctx, ctx.r.material_comparison, "material", row + 2, cur)
     return last
 
