@@ -36,6 +36,7 @@ __all__ = [
     "TabulatedPower",
     "energy_summary",
     "mean_annual_weights",
+    "flow_grid_weights",
     "net_head",
     "design_flow_study",
 ]
@@ -227,6 +228,46 @@ def mean_annual_weights(index):
         return np.where(complete[pos], 1.0 / complete.sum(), 0.0)
     duration = len(index) * step.total_seconds()
     return np.full(len(index), HOURS_PER_YEAR * SECONDS_PER_HOUR / duration)
+
+
+def flow_grid_weights(flow, weight, grid):
+    """Spread per-step weights onto a uniform flow grid by linear interpolation.
+
+    Parameters
+    ----------
+    flow : array_like
+        Flow at each step, within ``[grid[0], grid[-1]]``. [m^3/s]
+    weight : array_like
+        Weight of each step (e.g. mean-annual weight × flow × efficiency). [any]
+    grid : array_like
+        Uniform flow grid starting at 0, at least two points. [m^3/s]
+
+    Returns
+    -------
+    numpy.ndarray
+        ``W`` on the grid with ``W @ f(grid) == sum(weight * f_lin(flow))`` for any ``f``,
+        ``f_lin`` its piecewise-linear interpolant on the grid: a quantity linear in a
+        function of the flow (the energy lost to a head loss) then costs one dot product
+        per function. [any]
+
+    Raises
+    ------
+    ValueError
+        A grid that is not uniform from 0, or a flow outside it.
+    """
+    q = np.asarray(flow, dtype=float)
+    w = np.asarray(weight, dtype=float)
+    g = np.asarray(grid, dtype=float)
+    if g.ndim != 1 or g.size < 2 or g[0] != 0.0 or not np.allclose(np.diff(g), g[1],
+                                                                     rtol=1e-9, atol=0):
+        raise ValueError("grid: expected a uniform 1-D grid from 0 with at least two points")
+    if np.any(q < 0) or np.any(q > g[-1] * (1 + 1e-12)):
+        raise ValueError(f"flow: expected flows within [0, {g[-1]:g}] m^3/s")
+    n = g.size
+    pos = q / g[1]
+    i = np.clip(np.floor(pos).astype(int), 0, n - 2)
+    frac = pos - i
+    return np.bincount(i, w * (1 - frac), n) + np.bincount(i + 1, w * frac, n)
 
 
 def simulate_plant(river_flow, gross_head, rated_flow_per_unit, *, density, n_units=1,
@@ -631,7 +672,8 @@ def design_flow_study(index, river_flow, gross_head, *, density, head_loss=None,
                       n_units=1, turbine_type="francis", efficiency_table=None,
                       minimum_relative_flow=None, design_exceedances=None, design_flows=None,
                       gearbox_efficiency=1.0, generator_efficiency=1.0,
-                      transformer_efficiency=1.0, availability=1.0, head_gain=None):
+                      transformer_efficiency=1.0, availability=1.0, head_gain=None,
+                      flow_grid=None):
     """Installed capacity, mean annual energy and capacity factor against design flow.
 
     Parameters
@@ -670,6 +712,10 @@ def design_flow_study(index, river_flow, gross_head, *, density, head_loss=None,
     head_gain : callable, optional
         Head added at the turbine against total flow (a draft tube), as in
         :func:`simulate_plant`. [m]
+    flow_grid : array_like, optional
+        A uniform flow grid from 0 covering the design flows: the study then also returns
+        each design flow's dispatch as :func:`flow_grid_weights` of the mean-annual
+        weight × turbined flow × turbine efficiency. [m^3/s]
 
     Returns
     -------
@@ -678,6 +724,8 @@ def design_flow_study(index, river_flow, gross_head, *, density, head_loss=None,
         flows), ``design_flow`` [m^3/s], ``installed_capacity`` [W],
         ``mean_annual_energy`` [J], ``capacity_factor`` [-],
         ``mean_annual_friction_loss`` [J], ``mean_annual_spill_energy`` [J].
+    weights : numpy.ndarray
+        Only with ``flow_grid``: shape (design flows, grid points). [m^3/s/year]
 
     Notes
     -----
@@ -710,7 +758,8 @@ def design_flow_study(index, river_flow, gross_head, *, density, head_loss=None,
     common = dict(density=density, n_units=n_units, turbine_type=turbine_type,
                   efficiency_table=efficiency_table, head_loss=head_loss, head_gain=head_gain,
                   minimum_relative_flow=minimum_relative_flow, **drive)
-    rows = []
+    rows, grid_weights = [], []
+    annual = mean_annual_weights(index) if flow_grid is not None else None
     gross_at_rated = float(np.max(gross_head))
     for design_p, design_q in zip(p, flows):
         rated = design_q / n_units
@@ -732,4 +781,11 @@ def design_flow_study(index, river_flow, gross_head, *, density, head_loss=None,
                      "capacity_factor": summary.capacity_factor,
                      "mean_annual_friction_loss": summary.mean_annual_friction_loss,
                      "mean_annual_spill_energy": summary.mean_annual_spill_energy})
+        if flow_grid is not None:
+            qt = np.asarray(operation.turbined_flow, dtype=float)
+            grid_weights.append(flow_grid_weights(
+                qt, annual * qt * np.asarray(operation.turbine_efficiency, dtype=float),
+                flow_grid))
+    if flow_grid is not None:
+        return pd.DataFrame(rows), np.array(grid_weights).reshape(len(rows), -1)
     return pd.DataFrame(rows)

@@ -318,6 +318,10 @@ SECTIONS: tuple[Section, ...] = (
               default="15 %", minimum=0.0, maximum=2.0),
         Field("om_fraction", "fraction", "Yearly operation and maintenance as a fraction of "
               "the capital cost.", default="1 %", minimum=0.0, maximum=0.2),
+        Field("plant_cost_per_kw", "dimensionless", "Capital cost of the plant (turbines, "
+              "generators, powerhouse) per kW of installed capacity, in the economics "
+              "currency, for the design flow x diameter study. The default is illustrative "
+              "only.", default=1500.0, minimum=0.0, maximum=1e6),
     ), required=False),
     Section("diameter_study", "Sweep and optimum of a uniform penstock diameter, and the stepped diameters along the route.", (
         Field("minimum", "length", "Smallest diameter of the sweep; default: the diameter "

@@ -63,9 +63,15 @@ def test_material_design_passes_the_tools_checks_as_its_own_case(demo_run, demo,
     assert low >= case.pressure_margin - 1e-9
     assert row[MARGIN] == pytest.approx(low - case.pressure_margin, abs=1e-6)
     # its surge is that of its own wall on a converged grid (the tool's own 0.5 %; the
-    # comparison ran on the steel case's converged grid)
-    assert row["maximum surge rise [m]"] == pytest.approx(own.headline.max_surge_rise,
-                                                          rel=0.01)
+    # comparison ran on the steel case's converged grid), or above it where the
+    # comparison's run had a heavier wall than the classes it then chose (the safe side)
+    as_built = 1e3 * float(variant.segments[0].wall_thickness)
+    if row["wall of the water-hammer runs [mm]"] == pytest.approx(as_built, rel=1e-12):
+        assert row["maximum surge rise [m]"] == pytest.approx(own.headline.max_surge_rise,
+                                                              rel=0.01)
+    else:
+        assert row["wall of the water-hammer runs [mm]"] > as_built
+        assert row["maximum surge rise [m]"] >= own.headline.max_surge_rise * (1 - 0.01)
     # every reach's class carries the design pressure line the water-hammer stage finds
     line = own.design_pressure_line
     x = line["chainage [m]"].to_numpy()

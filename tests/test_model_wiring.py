@@ -19,7 +19,7 @@ from penstock import (
     turbines,
     water,
 )
-from penstock.model import run_case
+from penstock.model import run_case, sizing
 
 
 class Spy:
@@ -63,17 +63,30 @@ def test_diameter_study_wiring(monkeypatch, alder):
         assert kw["handling_rule"] == w["handling_rule"]
         assert kw["external_pressure"] == pytest.approx(props.atmospheric_pressure)
         assert kw["buckling_safety"] == w["buckling_safety"]
-    for _, kw in spies["vacuum_check"].calls:
-        assert kw["corrosion_allowance"] == w["corrosion_allowance"]
+    steel_e = sizing.wall_material(case).elastic_modulus
+    calls = spies["vacuum_check"].calls
+    assert any(args[2] == steel_e for args, _ in calls)
+    for args, kw in calls:
         assert kw["safety_factor"] == w["buckling_safety"]
-    # the costs: the case's steel price and factors
+        # steel keeps the case's corrosion allowance; PE and ductile iron carry none
+        assert kw.get("corrosion_allowance", 0.0) == (
+            w["corrosion_allowance"] if args[2] == steel_e else 0.0)
+    # the costs: the case's steel price and factors; the other materials by the metre,
+    # with the case's installation, civil and contingency terms
     c = case.costs
-    for _, kw in spies["pipe_cost_breakdown"].calls:
-        assert kw["cost_per_tonne"] in (pytest.approx(c["steel_price"]),
-                                        pytest.approx(0.8 * c["steel_price"]),
-                                        pytest.approx(1.2 * c["steel_price"]))
-        assert kw["fabrication_factor"] == c["fabrication_factor"]
+    calls = spies["pipe_cost_breakdown"].calls
+    assert any("cost_per_tonne" in kw for _, kw in calls)
+    assert any("cost_per_metre" in kw for _, kw in calls)
+    for _, kw in calls:
         assert kw["contingency_factor"] == c["contingency"]
+        assert kw["installation_factor"] == c["installation_factor"]
+        if "cost_per_tonne" in kw:
+            assert kw["cost_per_tonne"] in (pytest.approx(c["steel_price"]),
+                                            pytest.approx(0.8 * c["steel_price"]),
+                                            pytest.approx(1.2 * c["steel_price"]))
+            assert kw["fabrication_factor"] == c["fabrication_factor"]
+        else:
+            assert "fabrication_factor" not in kw and np.all(kw["cost_per_metre"] > 0)
     e = case.economics
     kws = [kw for _, kw in spies["annual_cost_model"].calls]
     assert any(kw["energy_price"] == pytest.approx(e["energy_price"] / 3.6e6)

@@ -60,6 +60,7 @@ TABLE_ORDER = (
     "stepped_design",
     "design_comparison",
     "material_comparison",
+    "flow_diameter_study",
     "uncertainty_summary",
     "uncertainty_samples",
     "uncertainty_energy_exceedance",
@@ -114,6 +115,7 @@ class Results:
     stepped_design: pd.DataFrame | None = None
     design_comparison: pd.DataFrame | None = None
     material_comparison: pd.DataFrame | None = None
+    flow_diameter_study: pd.DataFrame | None = None
     uncertainty_summary: pd.DataFrame | None = None
     uncertainty_samples: pd.DataFrame | None = None
     uncertainty_energy_exceedance: pd.DataFrame | None = None

@@ -54,8 +54,9 @@ MAX_EVALUATED = 4
 #: Passes of the classes and the water hammer at most (the wall sets the wave speed, the
 #: rise sets the classes).
 CLASS_PASSES = 3
-#: How far beyond the sweep's diameter bounds a material's bores are offered. [-]
-RANGE = (0.8, 1.5)
+#: How far below and above the sweep's diameter bounds a material's bores are offered. [-]
+RANGE_BELOW = 0.8
+RANGE_ABOVE = 1.5
 
 
 @dataclasses.dataclass(frozen=True)
@@ -241,12 +242,12 @@ def screen(ctx, family, size, steady):
     capital = _money(ctx, size, k, bore)
     lost = _lost(ctx, family, bore)
     annual, _ = _annual(ctx, capital, lost)
+    top = min(int(k.max()), size.bore.size - 1)
     feasible = not beyond and least < size.bore.size
     if feasible:   # the steady margin decides most sizes: exact, no water hammer needed
-        c = material_case(ctx.case, family, bore, float(size.wall[min(int(k.max()),
-                                                                      size.bore.size - 1)]))
+        c = material_case(ctx.case, family, bore, float(size.wall[top]))
         feasible = steady_crown_margin(c, ctx.props, steady, build_route(c), bore)[0] >= 0
-    return {"size": size, "annual": annual, "feasible": feasible, "bore": bore}
+    return {"size": size, "annual": annual, "feasible": feasible, "bore": bore, "top": top}
 
 
 def material_case(case, family, bore, wall):
@@ -272,24 +273,25 @@ def evaluate(ctx, family, size, steady, reaches):
     case, props = ctx.case, ctx.props
     least, use = _least_for_vacuum(ctx, family, size)
     top = size.bore.size
-    # the first run has the wall of the heaviest class (the highest wave speed, the safe
-    # side); each next run the wall of the heaviest class the last one needed, until the
-    # two agree (a lighter wall lowers the rise, so the classes only come down)
-    j, settled = top - 1, False
+    # the first run has the wall of the heaviest class the screening needed; where the
+    # run's own rise needs a heavier class, the run is repeated with that class's wall
+    # (a heavier wall raises the wave speed and the rise, so the classes only go up); where
+    # it needs lighter classes only, its rise is on the safe side and stands
+    j, settled = min(int(screen(ctx, family, size, steady)["top"]), top - 1), False
     for _ in range(CLASS_PASSES):
         c = material_case(case, family, float(size.bore[j]), float(size.wall[j]))
         head, rise, pmin, route = sizing.moc_design_head(c, props, reaches)
         k, beyond = _classes(ctx, size, head, least)
         j_new = min(int(k.max()), top - 1)
-        if j_new == j:
+        if j_new <= j or beyond:
             settled = True
             break
         j = j_new
+    run_wall = float(size.wall[j])   # the wall of the run whose rise is reported
     kk = np.minimum(k, top - 1)
     bore = float(size.bore[int(kk.max())])
-    wall = float(size.wall[int(kk.max())])
-    if not settled:   # the last run had a heavier wall than the classes need: its rise is
-        c = material_case(case, family, bore, wall)   # on the safe side; the pipe as built
+    if bore != float(size.bore[j]):   # the pipe as built (PE: a lighter class, a wider bore)
+        c = material_case(case, family, bore, float(size.wall[int(kk.max())]))
         route = build_route(c)
     capital = _money(ctx, size, k, bore)
     lost = _lost(ctx, family, bore)
@@ -303,6 +305,8 @@ def evaluate(ctx, family, size, steady, reaches):
         failures.append("the pressure classes (a reach above the highest class)")
     if least >= top:
         failures.append("vacuum buckling of the unstiffened wall, at every class")
+    if not settled:
+        failures.append("the classes and the water hammer did not settle")
     x = route.chainage[:-1][ctx.keep]
     x1 = route.chainage[1:][ctx.keep]
     e0 = ctx.prod.headline.mean_annual_energy + ctx.model.case_lost
@@ -313,7 +317,8 @@ def evaluate(ctx, family, size, steady, reaches):
         "classes along the route": _runs(x, x1, kk, size.labels),
         "lightest class": size.labels[int(kk.min())],
         "heaviest class": size.labels[int(kk.max())],
-        "wave speed [m/s]": _wave_speed(ctx, family, bore, wall),
+        "wall of the water-hammer runs [mm]": 1e3 * run_wall,
+        "wave speed [m/s]": _wave_speed(ctx, family, float(size.bore[j]), run_wall),
         "capital cost [currency]": capital,
         "energy lost [MWh/year]": lost / J_PER_MWH,
         "mean annual energy [MWh]": (e0 - lost) / J_PER_MWH,
@@ -383,21 +388,21 @@ def run(case, props, steady, prod, model, steel, reaches, warns, methods):
         rows.append(steel_row(case, props, steel))
     others = [f for f in allowed if f in FAMILIES]
     if not others:
-        return pd.DataFrame(rows)
+        return pd.DataFrame(rows) if rows else None
     ctx = _Context(case, props, prod, model)
     lo, hi = model.bounds()
     workable = model.smallest_workable()
     for family in others:
         name = FAMILIES[family]["name"]
         near = [sz for sz in sizes(family, case, props)
-                if lo * RANGE[0] <= sz.bore[0] and sz.bore[-1] <= hi * RANGE[1]
+                if lo * RANGE_BELOW <= sz.bore[0] and sz.bore[-1] <= hi * RANGE_ABOVE
                 and sz.bore[-1] >= workable]
         screened = sorted((screen(ctx, family, sz, steady) for sz in near), key=lambda r: r["annual"])
         feasible = [r for r in screened if r["feasible"]]
         if not feasible:
             top = MATERIALS[FAMILIES[family]["material"]].pressure_class_labels[-1]
             warns.append(Warning_("diameter study", f"no {name} size near the sweep's range "
-                                  f"({say.m(lo * RANGE[0], 3)} to {say.m(hi * RANGE[1], 3)}) "
+                                  f"({say.m(lo * RANGE_BELOW, 3)} to {say.m(hi * RANGE_ABOVE, 3)}) "
                                   f"carries the design pressure head with a class up to {top}, "
                                   "keeps the steady pressure margin at the crown and has a wall "
                                   "that stands full vacuum: the material is left out of the "
@@ -438,4 +443,4 @@ def run(case, props, steady, prod, model, steel, reaches, warns, methods):
                 "ISO 4427-2:2019; EN 545:2010 (the wall rule and tolerance from memory, the "
                 "walls checked against the standard's table); Timoshenko & Gere (1961) for "
                 "the vacuum check")
-    return pd.DataFrame(rows)
+    return pd.DataFrame(rows) if rows else None

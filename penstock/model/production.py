@@ -23,7 +23,7 @@ from ..errors import CaseError
 from ..schema import CASE_FILE
 from ..turbines import TURBINE_TYPES
 from .core import Say, Warning_
-from .stages import Operation, ProductionHeadline, ProductionStage
+from .stages import DesignFlows, Operation, ProductionHeadline, ProductionStage
 
 
 def _residual(case, index, river):
@@ -198,17 +198,21 @@ def run(case, props, steady, warns, methods, tick) -> dict:
                               "flows from Q10 to Q60 are left out: zero (the river is below the "
                               "residual flow) or more than the penstock can carry",
                               severity="note"))
-    study = energy.design_flow_study(index, river, gross, density=rho, head_loss=penstock_loss,
-                                     head_gain=dt_recovery,
-                                     residual=residual, n_units=n, turbine_type=ttype,
-                                     efficiency_table=table, minimum_relative_flow=min_rel,
-                                     design_flows=q_study[feasible],
-                                     availability=t["availability"], **drive) \
-        if feasible.any() else pd.DataFrame(columns=[
-            "design_exceedance", "design_flow", "installed_capacity", "mean_annual_energy",
-            "capacity_factor", "mean_annual_friction_loss", "mean_annual_spill_energy"],
-            dtype=float)
+    # the case's own design flow joins the study's for the design flow x diameter study,
+    # whose dispatch at each design flow comes back as weights on a flow grid
+    q_1d = q_study[feasible]
+    own = not np.any(np.isclose(q_1d, case.design_flow, rtol=1e-9, atol=0))
+    q_all = np.append(q_1d, case.design_flow) if own else q_1d
+    flow_grid = np.linspace(0.0, float(q_all.max()) * 1.0001, 512)
+    study_all, weights = energy.design_flow_study(
+        index, river, gross, density=rho, head_loss=penstock_loss, head_gain=dt_recovery,
+        residual=residual, n_units=n, turbine_type=ttype, efficiency_table=table,
+        minimum_relative_flow=min_rel, design_flows=q_all, availability=t["availability"],
+        flow_grid=flow_grid, **drive)
+    study = study_all.iloc[:q_1d.size].copy()
     study["design_exceedance"] = p_study[feasible]
+    study_all["design_exceedance"] = np.append(p_study[feasible], [np.nan] * int(own))
+    out["design_flows"] = DesignFlows(table=study_all, grid=flow_grid, weights=weights)
     out["design_flow_study"] = pd.DataFrame({
         "design flow exceedance [%]": 100 * study["design_exceedance"],
         "design flow [m^3/s]": study["design_flow"],

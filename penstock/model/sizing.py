@@ -42,7 +42,7 @@ from ..constants import J_PER_KWH, J_PER_MWH
 from ..materials import STEEL_PIPE_MATERIALS
 from ..materials import get_material as _get_material
 from ..route import build_route, uniform_pipe
-from . import material_study, stepped
+from . import flow_diameter, material_study, stepped
 from .core import Methods, Say, Warning_
 from .stages import SizingHeadline, SizingStage
 
@@ -125,13 +125,7 @@ class DiameterModel:
         # linear-interpolation weights of w_t·Q_t·η_t on a flow grid
         q_top = max(float(q.max()), case.design_flow) * 1.0001
         self.q_grid = np.linspace(0.0, q_top, n_flow)
-        dq = self.q_grid[1]
-        pos = q / dq
-        i = np.clip(np.floor(pos).astype(int), 0, n_flow - 2)
-        frac = pos - i
-        w = q * eta * self.annual
-        self.weights = (np.bincount(i, w * (1 - frac), n_flow)
-                        + np.bincount(i + 1, w * frac, n_flow))
+        self.weights = energy.flow_grid_weights(q, q * eta * self.annual, self.q_grid)
         self.route = build_route(uniform_case(case, 1.0))   # same nodes at any D
         self.pipe = uniform_pipe(case)
         self.lengths = self.route.length
@@ -145,6 +139,7 @@ class DiameterModel:
         # energy at any D follows from the actual energy: E(D) = E + lost(case) - lost(D)
         self.case_lost = (float(self._lost(self.weights @ case_loss(self.q_grid)))
                           if case_loss is not None else None)
+        self.case_loss = case_loss   # the case's own penstock loss [m] of the total flow
         self.moc_runs = {}   # diameter -> design head etc. (_moc_design_head)
         self.moc_reaches = None   # the water-hammer stage's grid; run() sets it
         # the case's own pipe's equivalent wave speed, for the sweep's Allievi rise and its
@@ -157,6 +152,11 @@ class DiameterModel:
         p = energy.electrical_power(np.ones_like(head), head, self.props.density, 1.0,
                                     **self.drive)
         return np.asarray(p) * self.availability * self.op.step_seconds
+
+    def lost_weighted(self, weighted_head):
+        """Mean annual energy lost [J/year] to Σ_t w_t·Q_t·η_t·h_t given on any dispatch's
+        flow-grid weights (``weights @ head_loss``) [m·m^3/s·year^-1]."""
+        return self._lost(weighted_head)
 
     def lost_to(self, head_loss):
         """Mean annual energy lost [J/year] to a head loss given at each flow of
@@ -253,19 +253,22 @@ class DiameterModel:
         return float(self._lost(np.sum(self.annual * q * eta * h)))
 
     # ------------------------------------------------------------------ wall and cost
-    def design_head(self, d, rise=None):
-        """Design pressure head at each route node: static + transient rise [m]."""
+    def design_head(self, d, rise=None, flow=None):
+        """Design pressure head at each route node: static + transient rise [m]; the rise
+        of a load rejection from ``flow`` (default the design flow)."""
         z = self.route.elevation
         static = self.case.headwater - z
         if rise is None:
-            rise = self.allievi_rise(d)
+            rise = self.allievi_rise(d, flow)
         s = self._s_nodes / self._s_nodes[-1]
         return static[None, :] + np.asarray(rise, float)[..., None] * s
 
-    def allievi_rise(self, d):
-        """Allievi's slow-closure rise, at most Joukowsky's (rapid closure governs)."""
+    def allievi_rise(self, d, flow=None):
+        """Allievi's slow-closure rise, at most Joukowsky's (rapid closure governs), from
+        ``flow`` (default the design flow) [m^3/s]."""
         case = self.case
-        v = gradeline.mean_velocity(case.design_flow, np.asarray(d, float))
+        q = case.design_flow if flow is None else flow
+        v = gradeline.mean_velocity(q, np.asarray(d, float))
         h0 = case.headwater - float(self.route.elevation[-1])
         return np.asarray(surge.allievi_rise_capped(float(self._s_nodes[-1]), v, h0,
                                                     case.surge["closure_time"],
@@ -295,12 +298,13 @@ class DiameterModel:
             req.append(p.reach_required[keep])
         return np.array(plate), np.array(req)
 
-    def costs(self, d, thickness=None, smooth=True, steel_factor=1.0):
+    def costs(self, d, thickness=None, smooth=True, steel_factor=1.0, flow=None):
         """Capital cost items of the pipe for diameters ``d`` (summed over the reaches).
 
         ``smooth`` uses the required (unrounded) thickness, which keeps the cost a smooth
         function of D for the optimizer; the candidate table uses the real plates.
-        ``steel_factor`` scales the steel price and the items charged on it.
+        ``steel_factor`` scales the steel price and the items charged on it; ``flow`` is
+        the design flow of the wall's surge (default the case's) [m^3/s].
         """
         d = np.atleast_1d(np.asarray(d, float))
         reach = self.lengths[self.lengths > 0]
@@ -309,23 +313,23 @@ class DiameterModel:
         out = {}
         for a in range(0, d.size, block):
             t = None if thickness is None else np.atleast_2d(thickness)[a:a + block]
-            part = self._block_costs(d[a:a + block], reach, t, smooth, steel_factor)
+            part = self._block_costs(d[a:a + block], reach, t, smooth, steel_factor, flow)
             for k, v in part.items():
                 out.setdefault(k, []).append(v)
         return {k: np.concatenate(v) for k, v in out.items()}
 
-    def _block_costs(self, d, reach, thickness, smooth, steel_factor):
+    def _block_costs(self, d, reach, thickness, smooth, steel_factor, flow=None):
         if thickness is None:
-            plate, req = self.wall(d)
+            plate, req = self.wall(d, None if flow is None else self.design_head(d, flow=flow))
             thickness = req if smooth else plate
         thickness = np.atleast_2d(thickness)
         parts = element_costs(self.case, d[:, None], reach[None, :], thickness, steel_factor)
         return {k: np.broadcast_to(np.asarray(v), (d.size, reach.size)).sum(axis=1)
                 for k, v in parts.items()}
 
-    def capital(self, d, thickness=None, smooth=True, steel_factor=1.0):
-        """Pipe capital cost [currency] for diameters ``d``."""
-        return self.costs(d, thickness, smooth, steel_factor)["total"]
+    def capital(self, d, thickness=None, smooth=True, steel_factor=1.0, flow=None):
+        """Pipe capital cost [currency] for diameters ``d`` (wall surge from ``flow``)."""
+        return self.costs(d, thickness, smooth, steel_factor, flow)["total"]
 
     def steel_mass(self, d, thickness):
         return self.costs(d, thickness)["mass"]
@@ -508,6 +512,9 @@ def run(case, props, steady, prod, ham, warns, methods, tick) -> dict:
     runs, comparison = stepped.run(case, props, steady, prod, model, sizes,
                                    recommended if recommended is not None else
                                    opt.selected_size, ham.grid_reaches, warns, methods)
+    tick("design flow and diameter")
+    flow_d, flow_d_best = flow_diameter.run(case, props, prod, model, warns, methods,
+                                            selected=recommended)
     tick("materials")
     mats = material_study.run(case, props, steady, prod, model, sel, ham.grid_reaches, warns,
                               methods)
@@ -518,6 +525,7 @@ def run(case, props, steady, prod, ham, warns, methods, tick) -> dict:
         diameter_one_at_a_time=pd.DataFrame(oat),
         wall_profile=wall_profile,
         stepped_design=runs, design_comparison=comparison, material_comparison=mats,
+        flow_diameter_study=flow_d,
         model=model,
         headline=SizingHeadline(
             optimum_diameter=opt.diameter, selected_diameter=recommended,
@@ -527,6 +535,12 @@ def run(case, props, steady, prod, ham, warns, methods, tick) -> dict:
             selected_wall_max=sel["thickest plate [mm]"] / 1e3 if sel else None,
             selected_row=sel,
             crf=base.crf,
+            best_design_flow=None if flow_d_best is None else
+            float(flow_d_best["design flow [m^3/s]"]),
+            best_flow_diameter=None if flow_d_best is None else
+            float(flow_d_best["diameter [m]"]),
+            best_net_value=None if flow_d_best is None else
+            float(flow_d_best["annualized net value [currency/year]"]),
         ),
     )
 
@@ -634,21 +648,39 @@ def steady_crown_margin(case, props, steady, route, d):
     for the pipe new and aged to the end of its service life, less the margin -> (margin
     [m], chainage [m], flow case)."""
     pipe = ~route.is_reservoir
-    drawdown = case.headwater - case.headwater_min
-    sets = [(None, "")]
-    if any(s.roughness_growth for s in case.segments):
-        sets.append((route.aged_roughness(case.segments, case.service_life),
-                     f", after {case.service_life:g} years"))
     worst = (np.inf, None, None)
-    for rough, tag in sets:
-        g = route.grade_lines(steady.flows, case.headwater, props.kinematic_viscosity, rough)
-        p = gradeline.crown_pressure_head(g.pressure_head[:, pipe], route.node_diameter[pipe],
-                                          drawdown)
+    for p, tag in _crown_pressures(case, props, route, steady.flows):
         i, j = np.unravel_index(np.argmin(p), p.shape)
         if p[i, j] < worst[0]:
             worst = (float(p[i, j]), float(route.chainage[pipe][j]),
                      steady.flow_names[i] + tag)
     return worst[0] - case.pressure_margin, worst[1], worst[2]
+
+
+def _crown_pressures(case, props, route, flows):
+    """Steady pressure head at the crown of each pipe node, minimum headwater, at each of
+    ``flows``, for the pipe new and aged to the end of its service life -> [(array
+    (flows, nodes) [m], label)]."""
+    pipe = ~route.is_reservoir
+    drawdown = case.headwater - case.headwater_min
+    sets = [(None, "")]
+    if any(s.roughness_growth for s in case.segments):
+        sets.append((route.aged_roughness(case.segments, case.service_life),
+                     f", after {case.service_life:g} years"))
+    out = []
+    for rough, tag in sets:
+        g = route.grade_lines(np.asarray(flows, float), case.headwater,
+                              props.kinematic_viscosity, rough)
+        out.append((gradeline.crown_pressure_head(g.pressure_head[:, pipe],
+                                                  route.node_diameter[pipe], drawdown), tag))
+    return out
+
+
+def crown_margin_by_flow(case, props, route, flows):
+    """The least steady crown pressure head less the case's margin at each of ``flows``
+    (minimum headwater; new and aged pipe) [m]."""
+    return np.min([p.min(axis=1) for p, _ in _crown_pressures(case, props, route, flows)],
+                  axis=0) - case.pressure_margin
 
 
 def candidate_row(case, props, steady, prod, model, d):

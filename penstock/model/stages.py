@@ -71,6 +71,9 @@ class SizingHeadline:
     selected_wall_max: float | None = None      # [m]
     selected_row: dict | None = None            # the recommended candidate's row
     crf: float | None = None                    # capital recovery factor [1/year]
+    best_design_flow: float | None = None       # design flow x diameter optimum [m^3/s]
+    best_flow_diameter: float | None = None     # its diameter [m]
+    best_net_value: float | None = None         # its annualized net value [currency/year]
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -138,6 +141,16 @@ class Operation:
 
 
 @dataclass
+class DesignFlows:
+    """The design-flow study's flows (the case's own last, when not among them), for the
+    design flow x diameter study."""
+
+    table: pd.DataFrame               # energy.design_flow_study's columns (SI)
+    grid: np.ndarray                  # uniform flow grid from 0 [m^3/s]
+    weights: np.ndarray               # (design flows, grid) dispatch weights [m^3/s/year]
+
+
+@dataclass
 class ProductionStage:
     """Energy over the flow record, turbines and setting (:mod:`penstock.model.production`)."""
 
@@ -151,6 +164,7 @@ class ProductionStage:
     draft_tube: pd.DataFrame | None
     operation: Operation
     headline: ProductionHeadline
+    design_flows: DesignFlows | None = None
 
 
 @dataclass
@@ -184,6 +198,7 @@ class SizingStage:
     stepped_design: pd.DataFrame | None = None
     design_comparison: pd.DataFrame | None = None
     material_comparison: pd.DataFrame | None = None
+    flow_diameter_study: pd.DataFrame | None = None
     model: object | None = None       # penstock.model.sizing.DiameterModel
     headline: SizingHeadline = field(default_factory=SizingHeadline)
 

@@ -3,6 +3,8 @@
 from __future__ import annotations
 
 from openpyxl.chart import BarChart, Reference
+from openpyxl.formatting.rule import ColorScaleRule
+from openpyxl.styles import Font
 from openpyxl.utils import get_column_letter
 
 from ..constants import J_PER_MWH
@@ -145,7 +147,53 @@ def design_flow_sheet(ws, ctx, title):
                            width=16, height=11)
     sh.add_line(ch2, ws, 2, 3, first, last, "installed capacity [kW]", "D62728", markers=True)
     ws.add_chart(ch2, f"F{chart_row}")
+    if r.flow_diameter_study is not None:
+        _flow_and_diameter(ws, ctx, last + 3)
     ctx.page(ws)
+
+
+def _flow_and_diameter(ws, ctx, row):
+    """The annualized net value over design flow x diameter, as a colour-scaled matrix."""
+    r, h = ctx.r, ctx.r.headline
+    cur = r.case.economics["currency"]
+    fu, lu = ctx.u("m^3/s"), ctx.u("m")
+    sh.put(ws, row, 1, "Design flow and diameter together", font=sh.SUBTITLE)
+    if h.best_design_flow is not None:
+        best = (f"Optimum of the grid: design flow {ctx.v(h.best_design_flow, 'm^3/s'):.3g} "
+                f"{fu} with a uniform diameter of {ctx.v(h.best_flow_diameter, 'm'):.3f} {lu}, "
+                f"{h.best_net_value:,.0f} {cur}/year.")
+    else:
+        best = "No cell keeps the steady pressure margin at the crown: no optimum."
+    sh.put(ws, row + 1, 1, best, font=sh.BODY)
+    sh.put(ws, row + 2, 1, "Annualized net value [" + cur + "/year] = energy price × mean "
+           "annual energy − (capital recovery + O&M) × (pipe capital + plant cost per kW × "
+           f"installed capacity), plant cost {r.case.costs['plant_cost_per_kw']:,.0f} {cur}/kW "
+           "(an illustrative default unless the case gives costs.plant_cost_per_kw). Rows: "
+           "uniform inside diameter (pipe wall of the sweep, Allievi rise); columns: design "
+           "flow. Cells in grey italics fail the steady pressure margin at the crown at "
+           "minimum headwater. The whole grid is in flow_diameter_study.csv.", font=sh.NOTE)
+    t = r.flow_diameter_study
+    value = t.pivot(index="diameter [m]", columns="design flow [m^3/s]",
+                    values="annualized net value [currency/year]")
+    ok = t.pivot(index="diameter [m]", columns="design flow [m^3/s]",
+                 values="passes the steady margin").to_numpy(bool)
+    top = row + 3
+    sh.put(ws, top, 1, f"D [{lu}] \\ design flow [{fu}]", font=sh.HEADER).fill = \
+        sh.HEADER_FILL
+    for j, q in enumerate(value.columns, start=2):
+        sh.put(ws, top, j, float(ctx.v(q, "m^3/s")), font=sh.HEADER, fmt="0.000").fill = \
+            sh.HEADER_FILL
+    grey = Font(name=sh.FONT, size=10, italic=True, color="808080")
+    for i, d in enumerate(value.index, start=1):
+        sh.put(ws, top + i, 1, float(ctx.v(d, "m")), fmt="0.000")
+        for j, v in enumerate(value.iloc[i - 1], start=2):
+            sh.put(ws, top + i, j, float(v), fmt="#,##0",
+                   font=sh.BODY if ok[i - 1, j - 2] else grey)
+    area = f"B{top + 1}:{get_column_letter(value.shape[1] + 1)}{top + value.shape[0]}"
+    ws.conditional_formatting.add(area, ColorScaleRule(
+        start_type="min", start_color="F8696B", mid_type="percentile", mid_value=50,
+        mid_color="FFEB84", end_type="max", end_color="63BE7B"))
+    return top + value.shape[0]
 
 
 def turbine_sheet(ws, ctx, title):

@@ -247,16 +247,59 @@ def stepped_figure(results, system: str):
     return fig
 
 
+def flow_diameter_figure(results, system: str):
+    """Contours of the annualized net value over design flow and diameter, the cells that
+    fail the steady crown margin shaded, the optimum and the case's own design marked."""
+    t = results.flow_diameter_study
+    fu = _units.label(report_unit("m^3/s", system))
+    lu = _units.label(report_unit("m", system))
+    cur = results.case.economics.get("currency", "")
+    grid = t.pivot(index="design flow [m^3/s]", columns="diameter [m]",
+                   values="annualized net value [currency/year]")
+    ok = t.pivot(index="design flow [m^3/s]", columns="diameter [m]",
+                 values="passes the steady margin").to_numpy(bool)
+    q = np.asarray(convert_value(grid.index.to_numpy(float), "m^3/s", system))
+    d = np.asarray(convert_value(grid.columns.to_numpy(float), "m", system))
+    v = grid.to_numpy(float) / 1e6
+    fig, ax = plt.subplots(figsize=(9, 5.6), dpi=110)
+    filled = ax.contourf(d, q, v, levels=14, cmap="viridis")
+    ax.contour(d, q, v, levels=filled.levels, colors="k", linewidths=0.4, alpha=0.5)
+    fig.colorbar(filled, ax=ax, label=f"annualized net value [million {cur}/year]".replace(
+        "  ", " "))
+    if (~ok).any():
+        ax.contourf(d, q, (~ok).astype(float), levels=[0.5, 1.5], colors="none",
+                    hatches=["//"])
+        ax.plot([], [], " ", label="hatched: fails the steady crown margin")
+    h = results.headline
+    if h.best_design_flow is not None:
+        ax.plot(convert_value(h.best_flow_diameter, "m", system),
+                convert_value(h.best_design_flow, "m^3/s", system), "r*", ms=14,
+                label="optimum")
+    if h.selected_diameter is not None:
+        ax.plot(convert_value(h.selected_diameter, "m", system),
+                convert_value(results.case.design_flow, "m^3/s", system), "wo", mec="k",
+                ms=8, label="case's design flow, recommended diameter")
+    ax.set_xlabel(f"inside diameter [{lu}]")
+    ax.set_ylabel(f"design flow [{fu}]")
+    ax.set_title(f"{results.case.name}: design flow and diameter")
+    ax.legend(fontsize=8, loc="upper center", bbox_to_anchor=(0.5, -0.11), ncol=3,
+              frameon=False)
+    _fixed_layout(fig, 0.09, 0.97, 0.2, 0.93)
+    return fig
+
+
 FIGURES = {"route_profile": route_figure, "loss_breakdown": loss_figure,
            "duration_curves": duration_figure, "monthly_energy": monthly_energy_figure,
            "design_flow_study": design_flow_figure, "water_hammer": hammer_figure,
-           "uncertainty": uncertainty_figure, "stepped_design": stepped_figure}
+           "uncertainty": uncertainty_figure, "stepped_design": stepped_figure,
+           "flow_and_diameter": flow_diameter_figure}
 
 
 #: Figures that need a table of a stage that may not have run.
 NEEDS = {"duration_curves": "flow_duration", "monthly_energy": "energy_by_month",
          "design_flow_study": "design_flow_study", "water_hammer": "transient_envelope",
-         "uncertainty": "uncertainty_summary", "stepped_design": "stepped_design"}
+         "uncertainty": "uncertainty_summary", "stepped_design": "stepped_design",
+         "flow_and_diameter": "flow_diameter_study"}
 
 
 def write_figures(results, folder, system: str) -> list[str]:
