@@ -277,3 +277,26 @@ def test_mean_annual_weights_give_the_summary_mean(periods, freq):
 def test_net_head_convention():
     assert en.net_head(100.0, 7.0) == 93.0
     assert en.net_head(100.0, 7.0, 0.4) == pytest.approx(93.4)
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.lists(st.floats(0.0, 10.0), min_size=1, max_size=50),
+       st.lists(st.floats(-5.0, 5.0), min_size=4, max_size=4))
+def test_flow_grid_weights_integrate_any_function_of_the_flow(flows, coef):
+    """W @ f(grid) is the weighted sum of f's linear interpolant at the flows, for any f:
+    checked against numpy's own interpolation of a cubic."""
+    q = np.asarray(flows)
+    w = np.linspace(0.5, 2.0, q.size)
+    grid = np.linspace(0.0, 10.0, 37)
+    f = np.polyval(coef, grid)
+    weights = en.flow_grid_weights(q, w, grid)
+    assert weights @ f == pytest.approx(np.sum(w * np.interp(q, grid, f)), rel=1e-9,
+                                        abs=1e-9)
+    assert weights.sum() == pytest.approx(w.sum())
+
+
+def test_flow_grid_weights_refuse_a_bad_grid_or_flow():
+    with pytest.raises(ValueError, match="uniform"):
+        en.flow_grid_weights([1.0], [1.0], [0.0, 1.0, 3.0])
+    with pytest.raises(ValueError, match="within"):
+        en.flow_grid_weights([4.0], [1.0], np.linspace(0, 3, 4))

@@ -35,10 +35,11 @@ from .core import Say, Warning_
 N_DIAMETERS = 30
 
 
-def run(case, props, prod, model, warns, methods, selected=None):
+def run(case, props, prod, model, warns, methods, selected=None, diameters=None):
     """The design flow x diameter table (one row per cell) and its optimum row, or
     (None, None) when the production stage gave no design flows; ``selected`` is the
-    diameter study's recommendation [m], kept inside the grid."""
+    diameter study's recommendation [m], kept inside the grid; ``diameters`` replaces the
+    grid's diameters [m]."""
     from .sizing import crown_margin_by_flow, uniform_case
 
     flows = prod.design_flows
@@ -53,7 +54,8 @@ def run(case, props, prod, model, warns, methods, selected=None):
     own = max([s.diameter for s in case.segments] + ([selected] if selected else []))
     hi = max(hi, float(dia.economic_velocity_diameter(qd.max(), dia.SWEEP_VELOCITIES[1])),
              1.3 * own)
-    d = np.geomspace(lo, hi, N_DIAMETERS)
+    d = np.geomspace(lo, hi, N_DIAMETERS) if diameters is None else \
+        np.asarray(diameters, float)
     grid = flows.grid
     loss = np.array([model.loss_on_grid(di, grid) for di in d])          # (D, grid) [m]
     lost = model.lost_weighted(flows.weights @ loss.T)                           # (Qd, D) [J/yr]
