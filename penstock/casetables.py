@@ -289,7 +289,8 @@ def _price_table(rd: _Reader, path: Path, family: str) -> pd.DataFrame:
             raise CaseError(name, f"row {rd.line(name, i)}", "repeats a size and class of an "
                             "earlier row; expected each pair once")
         seen.add(key)
-    rd.echo.append({"section": "diameter_study", "key": f"diameter_study.{'pe100' if family == 'hdpe' else family}_prices",
+    key = "pe100_prices" if family == "hdpe" else f"{family}_prices"
+    rd.echo.append({"section": "diameter_study", "key": f"diameter_study.{key}",
                     "as written": name, "value (SI)": f"{len(df)} prices, "
                     f"{len(set(out_size.tolist()))} sizes", "SI unit": "1/m", "source": name})
     return pd.DataFrame({"size": out_size, "class": out_cls, "price": price})

@@ -115,8 +115,10 @@ def test_a_larger_design_flow_never_raises_the_steady_margin(demo_run):
     assert np.all(np.diff(m.to_numpy(), axis=0) <= 1e-9)
     # and the cells said to pass are those of a non-negative margin
     t = r.flow_diameter_study
-    assert (t["passes the steady margin"] == (t[
-        "minimum steady pressure margin at the crown, minimum headwater [m]"] >= 0)).all()
+    assert (t["passes the steady margin"] == (t["carries the design flow"] & (t[
+        "minimum steady pressure margin at the crown, minimum headwater [m]"] >= 0))).all()
+    # a cell that does not carry its design flow has no energy, and loses most of its head
+    assert t.loc[~t["carries the design flow"], "mean annual energy [MWh]"].isna().all()
 
 
 def test_the_plant_cost_is_a_caution_unless_given(demo_run):

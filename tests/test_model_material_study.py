@@ -12,9 +12,9 @@ import re
 
 import numpy as np
 import pytest
+from conftest import copy_demo, edit_file
 
 import penstock
-from conftest import copy_demo, edit_file
 from penstock import pipeclasses
 from penstock.materials import MATERIALS
 from penstock.model import material_study, run_case

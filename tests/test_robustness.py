@@ -92,6 +92,9 @@ ALLOWED_MISSING = {
     # no recommended diameter: the annualized cost is not sampled (a note says so)
     ("uncertainty_samples", "annualized cost [currency/year]"): True,
     ("water_hammer_checks", "value"): lambda row: "shortest closure" in str(row["quantity"]),
+    # a pipe too small to carry a design flow has no energy or value there
+    **{("flow_diameter_study", c): (lambda row: not row["carries the design flow"])
+       for c in ("mean annual energy [MWh]", "annualized net value [currency/year]")},
     # a pipe with no wall thickness or no strength data is not checked (a note says so)
     **{("own_wall_checks", c): (lambda row: str(row["verdict"]).startswith("not checked"))
        for c in ("wall thickness [mm]", "allowable stress [MPa]", "allowable pressure head [m]")},

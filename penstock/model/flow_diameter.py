@@ -33,6 +33,9 @@ from .core import Say, Warning_
 
 #: Diameters of the grid (geometric, over the diameter study's sweep range).
 N_DIAMETERS = 30
+#: Least share of the gross head a pipe must leave at the maximum plant flow to carry a
+#: design flow (the design-flow study's rule). [-]
+CARRY_FRACTION = 0.05
 
 
 def run(case, props, prod, model, warns, methods, selected=None, diameters=None):
@@ -70,11 +73,17 @@ def run(case, props, prod, model, warns, methods, selected=None, diameters=None)
     ratio = case.maximum_flow / case.design_flow
     margin = np.array([crown_margin_by_flow(case, props, build_route(uniform_case(case, di)),
                                             qd * ratio) for di in d]).T   # (Qd, D)
-    ok = margin >= 0
+    # the energy re-basing holds while the plant runs as with the case's pipe: a pipe that
+    # loses more than 95 % of the gross head at the maximum plant flow does not carry the
+    # design flow (the design-flow study's own rule)
+    gross = prod.headline.gross_head
+    carries = np.array([model.loss_on_grid(di, qd * ratio) for di in d]).T < \
+        (1.0 - CARRY_FRACTION) * gross
+    e = np.where(carries, e, np.nan)
+    value = np.where(carries, value, np.nan)
+    ok = carries & (margin >= 0)
     table = pd.DataFrame({
         "design flow [m^3/s]": np.repeat(qd, d.size),
-        "design flow exceedance [%]": np.repeat(100 * t["design_exceedance"].to_numpy(float),
-                                                d.size),
         "diameter [m]": np.tile(d, qd.size),
         "installed capacity [kW]": np.repeat(t["installed_capacity"].to_numpy(float) / 1e3,
                                              d.size),
@@ -83,15 +92,17 @@ def run(case, props, prod, model, warns, methods, selected=None, diameters=None)
         "plant capital [currency]": np.repeat(plant, d.size),
         "annualized net value [currency/year]": value.ravel(),
         "minimum steady pressure margin at the crown, minimum headwater [m]": margin.ravel(),
+        "carries the design flow": carries.ravel(),
         "passes the steady margin": ok.ravel(),
     })
     methods.add("Design flow and diameter", "annualized net value = energy price × mean "
                 "annual energy − (capital recovery factor + O&M fraction) × (pipe capital + "
                 "plant cost per kW × installed capacity), on the design-flow study's flows and "
-                f"{N_DIAMETERS} diameters over the sweep's range (widened for the largest design flow "
-                "and to 1.3 times the case's and the recommended diameter); the energy at each diameter "
-                "re-based from the case's pipe by the energy lost at each design flow's own "
-                "dispatch; cells that fail the steady crown margin at minimum headwater are "
+                f"{N_DIAMETERS} diameters over the sweep's range (widened for the largest "
+                "design flow and to 1.3 times the case's and the recommended diameter); the "
+                "energy at each diameter re-based from the case's pipe by the energy lost at "
+                "each design flow's own dispatch; cells that fail the steady crown margin at "
+                "minimum headwater, or whose pipe loses more than 95 % of the gross head, are "
                 "excluded", "see Diameter study and Design-flow study")
     warns.append(Warning_("design flow and diameter", "the plant cost per kW "
                           f"({case.costs['plant_cost_per_kw']:,.0f} in the economics currency) "

@@ -397,7 +397,8 @@ def run(case, props, steady, prod, model, steel, reaches, warns, methods):
         near = [sz for sz in sizes(family, case, props)
                 if lo * RANGE_BELOW <= sz.bore[0] and sz.bore[-1] <= hi * RANGE_ABOVE
                 and sz.bore[-1] >= workable]
-        screened = sorted((screen(ctx, family, sz, steady) for sz in near), key=lambda r: r["annual"])
+        screened = sorted((screen(ctx, family, sz, steady) for sz in near),
+                          key=lambda r: r["annual"])
         feasible = [r for r in screened if r["feasible"]]
         if not feasible:
             top = MATERIALS[FAMILIES[family]["material"]].pressure_class_labels[-1]
@@ -416,7 +417,8 @@ def run(case, props, steady, prod, model, steel, reaches, warns, methods):
             if row["passes the checks"]:
                 break
         if not best["passes the checks"]:
-            warns.append(Warning_("diameter study", f"none of the {min(len(feasible), MAX_EVALUATED)}"
+            tried = min(len(feasible), MAX_EVALUATED)
+            warns.append(Warning_("diameter study", f"none of the {tried}"
                                   f" cheapest {name} sizes passes the checks (the cheapest, "
                                   f"{best['size']}, fails {best['governing check']})"))
         rows.append(best)

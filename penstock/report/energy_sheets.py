@@ -165,24 +165,34 @@ def _flow_and_diameter(ws, ctx, row):
     else:
         best = "No cell keeps the steady pressure margin at the crown: no optimum."
     sh.put(ws, row + 1, 1, best, font=sh.BODY)
-    sh.put(ws, row + 2, 1, "Annualized net value [" + cur + "/year] = energy price × mean "
-           "annual energy − (capital recovery + O&M) × (pipe capital + plant cost per kW × "
-           f"installed capacity), plant cost {r.case.costs['plant_cost_per_kw']:,.0f} {cur}/kW "
-           "(an illustrative default unless the case gives costs.plant_cost_per_kw). Rows: "
-           "uniform inside diameter (pipe wall of the sweep, Allievi rise); columns: design "
-           "flow. Cells in grey italics fail the steady pressure margin at the crown at "
-           "minimum headwater. The whole grid is in flow_diameter_study.csv.", font=sh.NOTE)
+    notes = [
+        f"Annualized net value [{cur}/year] = energy price × mean annual energy − (capital "
+        "recovery + O&M) × (pipe capital + plant cost per kW × installed capacity);",
+        f"plant cost {r.case.costs['plant_cost_per_kw']:,.0f} {cur}/kW (an illustrative "
+        "default unless the case gives costs.plant_cost_per_kw).",
+        "Rows: uniform inside diameter (pipe wall of the sweep, Allievi rise); columns: design "
+        "flow. Grey italics: fails the steady pressure margin at the crown at minimum "
+        "headwater;",
+        "empty: the pipe loses more than 95 % of the gross head at that design flow. The whole "
+        "grid is in flow_diameter_study.csv.",
+    ]
+    for k, text in enumerate(notes):
+        sh.put(ws, row + 2 + k, 1, text, font=sh.NOTE)
+    row += len(notes) - 1
     t = r.flow_diameter_study
     value = t.pivot(index="diameter [m]", columns="design flow [m^3/s]",
                     values="annualized net value [currency/year]")
     ok = t.pivot(index="diameter [m]", columns="design flow [m^3/s]",
                  values="passes the steady margin").to_numpy(bool)
     top = row + 3
-    sh.put(ws, top, 1, f"D [{lu}] \\ design flow [{fu}]", font=sh.HEADER).fill = \
+    sh.put(ws, top, 1, f"inside diameter [{lu}]", font=sh.HEADER).fill = \
         sh.HEADER_FILL
     for j, q in enumerate(value.columns, start=2):
-        sh.put(ws, top, j, float(ctx.v(q, "m^3/s")), font=sh.HEADER, fmt="0.000").fill = \
-            sh.HEADER_FILL
+        cell = sh.put(ws, top, j, f"Q {ctx.v(q, 'm^3/s'):.3f} {fu} [{cur}/year]",
+                      font=sh.HEADER)
+        cell.fill, cell.alignment = sh.HEADER_FILL, sh.WRAP
+        letter = get_column_letter(j)
+        ws.column_dimensions[letter].width = max(ws.column_dimensions[letter].width or 0, 11)
     grey = Font(name=sh.FONT, size=10, italic=True, color="808080")
     for i, d in enumerate(value.index, start=1):
         sh.put(ws, top + i, 1, float(ctx.v(d, "m")), fmt="0.000")
