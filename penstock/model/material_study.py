@@ -356,7 +356,11 @@ def steel_row(case, props, row):
     d = float(row["diameter [m]"])
     thin, thick = row["thinnest plate [mm]"], row["thickest plate [mm]"]
     steel = wall_material(case)
-    a = float(wavespeed.pipe_wave_speed(props.bulk_modulus, props.density, d, 1e-3 * thick,
+    # the candidate's water hammer runs with the case's own walls (the handling minimum
+    # where a segment gives none), the largest of them setting the highest wave speed
+    run_wall = max(s.wall_thickness if s.wall_thickness is not None else
+                   float(pipewall.minimum_handling_thickness(d)) for s in case.segments)
+    a = float(wavespeed.pipe_wave_speed(props.bulk_modulus, props.density, d, run_wall,
                                         steel.elastic_modulus, case.surge["poisson_ratio"],
                                         case=case.surge["restraint"]))
     keys = ("capital cost [currency]", "energy lost [MWh/year]", "mean annual energy [MWh]",
@@ -371,7 +375,7 @@ def steel_row(case, props, row):
            "size": f"D {1e3 * d:.0f} mm", "inside diameter [m]": d,
            "classes along the route": f"plates {thin:.0f} to {thick:.0f} mm",
            "lightest class": f"{thin:.0f} mm plate", "heaviest class": f"{thick:.0f} mm plate",
-           "wave speed [m/s]": a}
+           "wall of the water-hammer runs [mm]": 1e3 * run_wall, "wave speed [m/s]": a}
     out.update({k: row[k] for k in keys})
     out["prices"] = "the case's steel price model"
     return out
