@@ -36,6 +36,7 @@ examples:
 examples:
   penstock compare cases/alder-gorge-high-head --diameters 1.0,1.1,1.2
   penstock compare cases/cedar-fork-us-units --diameters "60 in,66 in,72 in" --out cmp.xlsx
+  penstock compare cases/millrace-flats-low-head --designs
   penstock compare cases/alder-gorge-high-head my-variant --out variants.xlsx
 """,
     "new": """\
@@ -241,7 +242,7 @@ def cmd_compare(args) -> int:
 
     from .model import run_case
     from .model.core import Say
-    from .report.compare import case_comparison, diameter_comparison
+    from .report.compare import case_comparison, design_comparison, diameter_comparison
     from .report.publish import check_output_file
 
     cases = [load_case(c) for c in args.case]
@@ -250,15 +251,31 @@ def cmd_compare(args) -> int:
             raise CaseError("--out", "", "is empty; expected a workbook name, e.g. --out "
                             "comparison.xlsx")
         check_output_file(Path(args.out), [c.folder for c in cases])   # fail fast
+    if args.designs and (args.diameters or len(cases) > 1):
+        raise CaseError("--designs", "", "compares the designs of one case; give one case "
+                        "folder and no --diameters")
     if args.diameters and len(cases) > 1:
         raise CaseError("--diameters", "", "compares the diameters of one case; give one case "
                         "folder, or leave --diameters out to compare several cases")
-    if not args.diameters and len(cases) < 2:
+    if not args.diameters and not args.designs and len(cases) < 2:
         raise CaseError("--diameters", "", "is missing; give --diameters for one case, or "
                         "two or more case folders")
     tick, close = _progress(args.quiet)
     try:
-        if args.diameters:
+        if args.designs:
+            case = cases[0]
+            results = run_case(case, progress=tick, proceed=args.run_anyway)
+            system = args.units or case.unit_system
+            table = design_comparison(results, system)
+            if table.empty:
+                raise CaseError(case.slug, "", "the diameter study does not apply to this case "
+                                "(see its cautions)")
+            title = f"Design comparison - {case.name}"
+            notes = ["Each design evaluated whole: its own water-hammer runs, walls or classes "
+                     "and the steady pressure margin at the crown; the prices of materials "
+                     "other than steel are illustrative unless the case gives a price table."]
+            version, name = results.version, case.name
+        elif args.diameters:
             case = cases[0]
             case.diameter_study = {**case.diameter_study,
                                    "candidates": _diameters(args.diameters, case)}
@@ -409,6 +426,9 @@ def build_parser() -> argparse.ArgumentParser:
     sp.add_argument("-q", "--quiet", action="store_true", help="print nothing on success")
     sp.add_argument("--diameters", metavar="LIST", help="comma-separated inside diameters, in "
                     "the case's length unit unless written with one (e.g. 1.2,1.4 or 48 in)")
+    sp.add_argument("--designs", action="store_true", help="compare the designs of one case: "
+                    "the stepped diameters, the best uniform diameter, the case's own pipe and "
+                    "each material of diameter_study.materials at its best size")
     sp.add_argument("--out", metavar="PATH", help="also write the comparison as a workbook")
     sp.add_argument("--run-anyway", action="store_true", help="go on with a case the tool's "
                     "own checks find physically impossible (see penstock run --help)")

@@ -375,6 +375,43 @@ def test_case_comparison_matches_rows_and_shows_the_recommendation(demos):
     assert row["millrace-flats-low-head"].endswith(" m")
 
 
+def test_design_comparison_sets_every_design_side_by_side(demos):
+    """penstock compare --designs: the stepped, uniform and own steel designs and each
+    material, with the numbers of their own tables (converted for a US report)."""
+    from penstock.report.compare import design_comparison
+
+    r = demos["alder-gorge-high-head"]
+    table = design_comparison(r, "si").set_index("quantity")
+    assert list(table.columns) == (
+        [f"steel: {d}" for d in r.design_comparison["design"]]
+        + [f"{m}: best uniform size" for m in r.material_comparison["material"]])
+    cost = "annualized cost [USD/year]"
+    for _, row in r.material_comparison.iterrows():
+        assert table.loc[cost, f"{row['material']}: best uniform size"] == \
+            row["annualized cost [currency/year]"]
+    stepped = r.design_comparison.set_index("design").iloc[0]
+    assert table.loc["capital cost [USD]", table.columns[0]] == \
+        stepped["capital cost, with the changes of diameter [currency]"]
+    us = design_comparison(r, "us").set_index("quantity")
+    rise = "maximum surge rise [ft]"
+    assert us.loc[rise, table.columns[0]] == pytest.approx(
+        table.loc["maximum surge rise [m]", table.columns[0]] / 0.3048)
+
+
+def test_compare_designs_writes_a_workbook(tmp_path):
+    out = tmp_path / "designs.xlsx"
+    code, _, err = run_cli(["compare", CASES / "millrace-flats-low-head", "--designs",
+                            "--out", out, "--quiet"])
+    assert code == 0, err
+    from openpyxl import load_workbook
+    ws = load_workbook(out).active
+    heads = [c.value for c in next(r for r in ws.iter_rows() if r[0].value == "quantity")]
+    assert "PE100: best uniform size" in heads and "steel: stepped optimum" in heads
+    code, _, err = run_cli(["compare", CASES / "millrace-flats-low-head", "--designs",
+                            "--diameters", "2.5"])
+    assert code == 2 and "--designs" in err and len(err.strip().splitlines()) == 1
+
+
 def test_stage_tables_are_results_tables():
     """Each stage's table fields are Results attributes of the same name."""
     import dataclasses

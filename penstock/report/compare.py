@@ -38,6 +38,59 @@ def diameter_comparison(results, system: str) -> pd.DataFrame:
     return out.reset_index()
 
 
+#: Rows of a design comparison, shared by the stepped designs and the materials.
+DESIGN_ROWS = [
+    "capital cost [currency]", "annualized capital [currency/year]",
+    "operation and maintenance [currency/year]", "energy lost [MWh/year]",
+    "value of energy lost [currency/year]", "annualized cost [currency/year]",
+    "maximum surge rise [m]",
+    "minimum steady pressure margin at the crown, minimum headwater [m]", "at chainage [m]",
+    "minimum transient pressure head at the crown, minimum headwater [m]",
+    "passes the checks", "governing check",
+]
+
+
+def design_comparison(results, system: str) -> pd.DataFrame:
+    """The designs of one case side by side: the stepped optimum, the best uniform diameter
+    and the case's own pipe (welded steel), then each material at its best uniform size;
+    one row per quantity, one column per design."""
+    cur = results.case.economics["currency"]
+    cols = {}
+    if results.design_comparison is not None:
+        dc = results.design_comparison.rename(columns={
+            "capital cost, with the changes of diameter [currency]": "capital cost [currency]"})
+        for _, row in dc.iterrows():
+            cols[f"steel: {row['design']}"] = dict(
+                row, pipe=f"welded steel, {row['first diameter [m]']:.3f} m to "
+                f"{row['last diameter [m]']:.3f} m, {_changes(row['changes of diameter [-]'])}")
+    if results.material_comparison is not None:
+        for _, row in results.material_comparison.iterrows():
+            cols[f"{row['material']}: best uniform size"] = dict(
+                row, pipe=f"{row['size']}, inside {row['inside diameter [m]']:.3f} m; "
+                f"{row['classes along the route']}; prices: {row['prices']}")
+    if not cols:
+        return pd.DataFrame()
+    rows = ["pipe", *DESIGN_ROWS]
+    table = pd.DataFrame({name: [c.get(q) for q in rows] for name, c in cols.items()})
+    table.insert(0, "quantity", rows)
+    # each quantity in the report's units: convert column-wise as a one-row table
+    out = []
+    for q, values in zip(rows, table.drop(columns="quantity").to_numpy(), strict=True):
+        if q in ("pipe", "passes the checks", "governing check"):
+            out.append((q, list(values)))
+            continue
+        conv = convert_table(pd.DataFrame({q: pd.to_numeric(values)}), system)
+        out.append((conv.columns[0].replace("[currency", f"[{cur}"), conv.iloc[:, 0].tolist()))
+    return pd.DataFrame({"quantity": [q for q, _ in out],
+                         **{name: [v[k] for _, v in out] for k, name in enumerate(cols)}})
+
+
+def _changes(n) -> str:
+    n = int(n)
+    return "no change of diameter" if n == 0 else \
+        f"{n} change{'s' if n > 1 else ''} of diameter"
+
+
 RECOMMENDED = "recommended uniform pipe diameter (diameter study)"
 
 
