@@ -62,7 +62,7 @@ def run(case, props, prod, model, warns, methods, selected=None, diameters=None)
     grid = flows.grid
     loss = np.array([model.loss_on_grid(di, grid) for di in d])          # (D, grid) [m]
     lost = model.lost_weighted(flows.weights @ loss.T)                           # (Qd, D) [J/yr]
-    lost_case = model.lost_weighted(flows.weights @ model.case_loss(grid))   # (Qd,)
+    lost_case = model.lost_weighted(flows.weights @ flows.head_loss(grid))   # (Qd,)
     e = t["mean_annual_energy"].to_numpy(float)[:, None] + lost_case[:, None] - lost
     pipe = np.array([model.capital(d, flow=q) for q in qd])               # (Qd, D)
     plant = case.costs["plant_cost_per_kw"] * t["installed_capacity"].to_numpy(float) / 1e3

@@ -23,6 +23,7 @@ from ..errors import CaseError
 from ..schema import CASE_FILE
 from ..turbines import TURBINE_TYPES
 from .core import Say, Warning_
+from . import steady as steady_stage
 from .stages import DesignFlows, Operation, ProductionHeadline, ProductionStage
 
 
@@ -204,15 +205,22 @@ def run(case, props, steady, warns, methods, tick) -> dict:
     own = not np.any(np.isclose(q_1d, case.design_flow, rtol=1e-9, atol=0))
     q_all = np.append(q_1d, case.design_flow) if own else q_1d
     flow_grid = np.linspace(0.0, float(q_all.max()) * 1.0001, 512)
+    # the pipe's loss computed up to the study's largest flow (the energy stage's own
+    # interpolant stops at 1.5 times the maximum plant flow)
+    study_loss = penstock_loss if q_all.max() <= 1.5 * case.maximum_flow else \
+        steady_stage.loss_function(case, steady.route, props,
+                                   steady_stage.energy_roughness(case, steady.route),
+                                   q_top=1.05 * float(q_all.max()))
     study_all, weights = energy.design_flow_study(
-        index, river, gross, density=rho, head_loss=penstock_loss, head_gain=dt_recovery,
+        index, river, gross, density=rho, head_loss=study_loss, head_gain=dt_recovery,
         residual=residual, n_units=n, turbine_type=ttype, efficiency_table=table,
         minimum_relative_flow=min_rel, design_flows=q_all, availability=t["availability"],
         flow_grid=flow_grid, **drive)
     study = study_all.iloc[:q_1d.size].copy()
     study["design_exceedance"] = p_study[feasible]
     study_all["design_exceedance"] = np.append(p_study[feasible], [np.nan] * int(own))
-    out["design_flows"] = DesignFlows(table=study_all, grid=flow_grid, weights=weights)
+    out["design_flows"] = DesignFlows(table=study_all, grid=flow_grid, weights=weights,
+                                      head_loss=study_loss)
     out["design_flow_study"] = pd.DataFrame({
         "design flow exceedance [%]": 100 * study["design_exceedance"],
         "design flow [m^3/s]": study["design_flow"],

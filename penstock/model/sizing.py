@@ -139,7 +139,6 @@ class DiameterModel:
         # energy at any D follows from the actual energy: E(D) = E + lost(case) - lost(D)
         self.case_lost = (float(self._lost(self.weights @ case_loss(self.q_grid)))
                           if case_loss is not None else None)
-        self.case_loss = case_loss   # the case's own penstock loss [m] of the total flow
         self.moc_runs = {}   # diameter -> design head etc. (_moc_design_head)
         self.moc_reaches = None   # the water-hammer stage's grid; run() sets it
         # the case's own pipe's equivalent wave speed, for the sweep's Allievi rise and its

@@ -148,6 +148,7 @@ class DesignFlows:
     table: pd.DataFrame               # energy.design_flow_study's columns (SI)
     grid: np.ndarray                  # uniform flow grid from 0 [m^3/s]
     weights: np.ndarray               # (design flows, grid) dispatch weights [m^3/s/year]
+    head_loss: Callable               # the case's penstock loss [m] the study used
 
 
 @dataclass

@@ -8,7 +8,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from .. import friction, gradeline, hydrology
+from .. import friction, gradeline
 from ..diameter import USUAL_PENSTOCK_VELOCITY
 from ..route import build_route
 from ..turbines import TURBINE_TYPES
@@ -125,21 +125,17 @@ def energy_roughness(case, route):
     return None if years is None else route.aged_roughness(case.segments, years)
 
 
-def loss_function(case, route, props, roughness=None, points: int = 400):
+def loss_function(case, route, props, roughness=None, points: int = 400, q_top=None):
     """Penstock head loss as a vectorized function of the total flow [m^3/s] -> [m].
 
     ``roughness`` replaces the route's element roughness (e.g. at mid-life). [m]
 
-    The losses are computed exactly on a geometric grid of flows from 1e-4 to 1.5
-    times the maximum plant flow (or 1.05 times the record's flow exceeded 10 % of the
-    time, the largest design flow of the design-flow study, where that is larger) and
-    interpolated in between by :func:`penstock.gradeline.quadratic_loss_interpolant`
-    (relative error below 1e-5; tests/test_model.py checks it against direct evaluation).
+    The losses are computed exactly on a geometric grid of flows from 1e-4 to ``q_top``
+    (default 1.5 times the maximum plant flow) and interpolated in between by
+    :func:`penstock.gradeline.quadratic_loss_interpolant` (relative error below 1e-5;
+    tests/test_model.py checks it against direct evaluation).
     """
-    q_top = 1.5 * case.maximum_flow
-    if case.flow_record is not None and len(case.flow_record):
-        q10 = float(hydrology.flow_at_exceedance(case.flow_record.to_numpy(float), 0.10))
-        q_top = max(q_top, 1.05 * q10)
+    q_top = 1.5 * case.maximum_flow if q_top is None else float(q_top)
     grid = np.geomspace(1e-4 * q_top, q_top, points)
     return gradeline.quadratic_loss_interpolant(
         grid, route.total_head_loss(grid, props.kinematic_viscosity, roughness))
