@@ -17,7 +17,9 @@ sweep's range:
   record (its bore at the heaviest class on the route, its own roughness);
 * **evaluation** of the cheapest sizes in turn, until one passes: the pipe built as a
   case of its own, its load rejections by the method of characteristics on the case's
-  converged grid with the wall of its heaviest class (again until the classes settle),
+  converged grid with the wall of the heaviest class the screening chose (repeated with a
+  heavier wall where the run needs a heavier class; a run that needs only lighter classes
+  stands, its rise on the safe side),
   and the checks of a steel candidate: the steady pressure margin at the crown, new and
   aged, a class for every reach and a wall that stands full vacuum.
 
@@ -442,7 +444,8 @@ def run(case, props, steady, prod, model, steel, reaches, warns, methods):
                 "whose wall stands full vacuum unstiffened; sizes screened with Allievi's rise "
                 "at the stiffest class's wave speed, the cheapest then run whole (load "
                 "rejections by the method of characteristics with the wall of the heaviest "
-                "class, again until the classes settle) with the steel candidates' checks; "
+                "class the screening chose, repeated where a heavier class is needed) with "
+                "the steel candidates' checks; "
                 "PE walls d_n/SDR, ductile-iron walls e = PFA·SF·DE/(2·R_m + PFA·SF) with SF 3 "
                 "plus the casting tolerance (1.3 + 0.001·DN) mm, the lined bore taken as DN; "
                 "roughness growing linearly from new to aged over the service life",
