@@ -13,7 +13,7 @@ import numpy as np
 import pandas as pd
 
 from .case import CaseError, _Reader
-from .schema import CASE_FILE, SECTIONS_BY_NAME
+from .schema import CASE_FILE, PRICE_COLUMNS, SECTIONS_BY_NAME
 
 
 def _flow_record(rd: _Reader, path: Path, gap_method: str) -> pd.Series:
@@ -251,8 +251,7 @@ def _price_table(rd: _Reader, path: Path, family: str) -> pd.DataFrame:
     from .materials import MATERIALS
 
     name = path.name
-    df = rd.table(path, (("size", "length"), ("class", "pressure"),
-                         ("price", "price_per_length")), max_rows=2000)
+    df = rd.table(path, PRICE_COLUMNS, max_rows=2000)
     if family == "hdpe":
         series, what = pipeclasses.PE_OUTSIDE_DIAMETERS, "PE100 outside diameter (ISO 4427-2)"
         mat = MATERIALS["hdpe_pe100"]

@@ -120,6 +120,9 @@ class Section:
 
 TURBINE_TYPE_CHOICES = ("pelton", "turgo", "crossflow", "francis", "kaplan", "propeller")
 
+#: Columns of a pipe price table of the material comparison (diameter_study.*_prices).
+PRICE_COLUMNS = (("size", "length"), ("class", "pressure"), ("price", "price_per_length"))
+
 SECTIONS: tuple[Section, ...] = (
     Section("site", "Who and where.", (
         Field("name", "text", "Site name, printed on every report page.", max_chars=120),
@@ -350,15 +353,11 @@ SECTIONS: tuple[Section, ...] = (
         Field("pe100_prices", "file", "CSV of PE100 pipe prices: nominal outside diameter "
               "(e.g. 630 mm), class by its rated pressure PN (e.g. 10 bar) and delivered price "
               "per metre; only the sizes and classes it lists are offered. Default: "
-              "illustrative prices.", optional=True,
-              columns=(("size", "length"), ("class", "pressure"),
-                       ("price", "price_per_length"))),
+              "illustrative prices.", optional=True, columns=PRICE_COLUMNS),
         Field("ductile_iron_prices", "file", "CSV of ductile-iron pipe prices: DN as a length "
               "(e.g. 600 mm), class by its allowable operating pressure PFA (C40: 40 bar) and "
               "delivered price per metre; only the sizes and classes it lists are offered. "
-              "Default: illustrative prices.", optional=True,
-              columns=(("size", "length"), ("class", "pressure"),
-                       ("price", "price_per_length"))),
+              "Default: illustrative prices.", optional=True, columns=PRICE_COLUMNS),
     ), required=False),
     Section("uncertainty", "Monte Carlo of the energy and cost (run with samples > 0 or "
             "penstock run --samples N). Spreads default to zero; with all zero every sample "

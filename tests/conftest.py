@@ -4,6 +4,8 @@
   temporary folder, so a test can break it without touching ``cases/``.
 * the ``demo_run`` fixture runs each bundled demo once per test session (and worker):
   ``demo_run(name, samples=None)`` gives ``(case, results)``, shared, to be read only.
+* :func:`study_parts` runs a demo's steady, energy and wave-speed stages and builds its
+  diameter model, for tests of the diameter study's pieces.
 * :func:`write_case` writes a case folder from a TOML text and CSV texts.
 * :func:`run_cli` runs ``penstock.cli.main(argv)`` in-process and returns
   ``(exit code, stdout, stderr)``.  An exception escaping ``main`` is caught and its
@@ -25,6 +27,29 @@ import pytest
 REPO = Path(__file__).resolve().parents[1]
 CASES = REPO / "cases"
 DEMO_CASES = ("alder-gorge-high-head", "cedar-fork-us-units", "millrace-flats-low-head")
+
+
+def study_parts(name: str, energy_basis: bool = True):
+    """``(case, props, steady, production, model, warns, methods)`` of a demo: its steady
+    and energy stages and the diameter study's model (roughness of the energy basis, or
+    new with ``energy_basis=False``), with a methods table that records nothing."""
+    import penstock
+    from penstock import surge, water
+    from penstock.model import hammer, production, sizing
+    from penstock.model import steady as steady_stage
+
+    case = penstock.load_case(CASES / name)
+    props = water.water_properties(case.temperature, case.altitude)
+    warns, methods = [], type("M", (), {"add": lambda *a: None})()
+    st_ = steady_stage.run(case, props, warns, methods, lambda n: None)
+    prod = production.run(case, props, st_, warns, methods, lambda n: None)
+    speeds, table = hammer.wave_speeds(case, props, warns, methods)
+    lengths = (table["to chainage [m]"] - table["from chainage [m]"]).to_numpy()
+    model = sizing.DiameterModel(
+        case, props, prod, case_loss=st_.head_loss,
+        roughness_years=st_.energy_roughness_years if energy_basis else None,
+        wave_speed=surge.equivalent_wave_speed(lengths, speeds))
+    return case, props, st_, prod, model, warns, methods
 
 
 def copy_demo(name: str, dest: Path) -> Path:

@@ -11,34 +11,19 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-from conftest import CASES
+from conftest import study_parts
 
-import penstock
-from penstock import economics, surge, water
+from penstock import economics
 from penstock.constants import J_PER_KWH, J_PER_MWH
-from penstock.model import flow_diameter, hammer, production, sizing
-from penstock.model import steady as steady_stage
+from penstock.model import flow_diameter
 
 VALUE = "annualized net value [currency/year]"
 
 
-def _stages(name):
-    case = penstock.load_case(CASES / name)
-    props = water.water_properties(case.temperature, case.altitude)
-    warns, methods = [], type("M", (), {"add": lambda *a: None})()
-    st_ = steady_stage.run(case, props, warns, methods, lambda n: None)
-    prod = production.run(case, props, st_, warns, methods, lambda n: None)
-    speeds, table = hammer.wave_speeds(case, props, warns, methods)
-    lengths = (table["to chainage [m]"] - table["from chainage [m]"]).to_numpy()
-    model = sizing.DiameterModel(case, props, prod, case_loss=st_.head_loss,
-                                 roughness_years=st_.energy_roughness_years,
-                                 wave_speed=surge.equivalent_wave_speed(lengths, speeds))
-    return case, props, prod, model, warns, methods
-
-
 @pytest.fixture(scope="module")
 def low():
-    return _stages("millrace-flats-low-head")
+    case, props, _, prod, model, warns, methods = study_parts("millrace-flats-low-head")
+    return case, props, prod, model, warns, methods
 
 
 def test_along_the_diameter_it_is_the_diameter_study(low):

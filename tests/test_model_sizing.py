@@ -10,13 +10,14 @@ from pathlib import Path
 import numpy as np
 import numpy_financial as npf
 import pytest
+from conftest import study_parts
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import penstock
-from penstock import friction, surge, water
+from penstock import friction, water
 from penstock.materials import get_material
-from penstock.model import hammer, production, sizing, steady
+from penstock.model import sizing
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 
@@ -28,15 +29,7 @@ def lowhead(demo_run):
 
 @pytest.fixture(scope="module")
 def model():
-    case = penstock.load_case(CASES / "alder-gorge-high-head")
-    props = water.water_properties(case.temperature, case.altitude)
-    warns, methods = [], type("M", (), {"add": lambda *a: None})()
-    st_ = steady.run(case, props, warns, methods, lambda n: None)
-    prod = production.run(case, props, st_, warns, methods, lambda n: None)
-    speeds, table = hammer.wave_speeds(case, props, warns, methods)
-    lengths = (table["to chainage [m]"] - table["from chainage [m]"]).to_numpy()
-    return sizing.DiameterModel(case, props, prod, case_loss=st_.head_loss,
-                                wave_speed=surge.equivalent_wave_speed(lengths, speeds))
+    return study_parts("alder-gorge-high-head", energy_basis=False)[4]
 
 
 @pytest.mark.parametrize("d", [0.75, 0.9, 1.05, 1.3])

@@ -14,12 +14,10 @@ import copy
 
 import numpy as np
 import pytest
-from conftest import CASES, copy_demo, edit_file
+from conftest import copy_demo, edit_file, study_parts
 
 import penstock
-from penstock import surge, water
-from penstock.model import hammer, production, run_case, sizing, stepped
-from penstock.model import steady as steady_stage
+from penstock.model import run_case, sizing, stepped
 
 HIGH = "alder-gorge-high-head"
 MARGIN = "minimum steady pressure margin at the crown, minimum headwater [m]"
@@ -33,16 +31,7 @@ def high(demo_run):
 
 @pytest.fixture(scope="module")
 def parts():
-    case = penstock.load_case(CASES / HIGH)
-    props = water.water_properties(case.temperature, case.altitude)
-    warns, methods = [], type("M", (), {"add": lambda *a: None})()
-    st_ = steady_stage.run(case, props, warns, methods, lambda n: None)
-    prod = production.run(case, props, st_, warns, methods, lambda n: None)
-    speeds, table = hammer.wave_speeds(case, props, warns, methods)
-    lengths = (table["to chainage [m]"] - table["from chainage [m]"]).to_numpy()
-    model = sizing.DiameterModel(case, props, prod, case_loss=st_.head_loss,
-                                 roughness_years=st_.energy_roughness_years,
-                                 wave_speed=surge.equivalent_wave_speed(lengths, speeds))
+    case, props, _, _, model, _, _ = study_parts(HIGH)
     return case, props, model
 
 
@@ -194,6 +183,5 @@ def test_stepped_case_keeps_each_segment_and_joins_slivers(parts):
     assert small[0].start == pytest.approx(seg_end - 1.0)
     assert all(s.diameter == 1.5 for s in c.segments if s.end <= seg_end - 1.0 + 1e-9)
     # and the case built this way runs whole
-    from penstock.model import sizing
     head, rise, _, _ = sizing.moc_design_head(c, props, 20)
     assert np.all(np.isfinite(head)) and rise > 0

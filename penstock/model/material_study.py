@@ -159,13 +159,17 @@ class _Context:
         self.crf = model.cost_model().crf
 
     def roughness(self, family, years):
-        """(new roughness, linear growth rate) of the family's pipe, and the roughness after
-        ``years`` (None: new) [m], [m/year], [m]."""
-        pm = FAMILIES[family]["pipe_material"]
-        new = friction.material_roughness(pm, "new")
-        growth = (friction.material_roughness(pm, "aged") - new) / self.case.service_life
-        now = new if years is None else float(friction.aged_roughness(new, years, growth))
-        return new, growth, now
+        """The family's roughness after ``years`` (None: new) [m]."""
+        new, growth = roughness(self.case, family)
+        return new if years is None else float(friction.aged_roughness(new, years, growth))
+
+
+def roughness(case, family):
+    """The family's new roughness [m] and the linear growth rate [m/year] that takes it to
+    the roughness table's aged value at the end of the case's service life."""
+    pm = FAMILIES[family]["pipe_material"]
+    new = friction.material_roughness(pm, "new")
+    return new, (friction.material_roughness(pm, "aged") - new) / case.service_life
 
 
 def _modulus(family):
@@ -205,7 +209,7 @@ def _money(ctx, size, k, bore):
 def _lost(ctx, family, bore):
     """Mean annual energy lost [J/year] to a uniform pipe of this bore and material."""
     m = ctx.model
-    rough = ctx.roughness(family, m.roughness_years)[2]
+    rough = ctx.roughness(family, m.roughness_years)
     h = m.pipe.head_loss(m.q_grid, bore, np.full(len(ctx.case.segments), rough),
                          ctx.props.kinematic_viscosity)
     return float(m.lost_to(h))
@@ -240,11 +244,11 @@ def screen(ctx, family, size, steady):
                                            ctx.case.surge["closure_time"], a))
     head = ctx.hw_top - (ctx.z - 0.5 * bore_top) + rise * ctx.s
     k, beyond = _classes(ctx, size, head, least)
-    bore = float(size.bore[min(int(k.max()), size.bore.size - 1)])
+    top = min(int(k.max()), size.bore.size - 1)
+    bore = float(size.bore[top])
     capital = _money(ctx, size, k, bore)
     lost = _lost(ctx, family, bore)
     annual, _ = _annual(ctx, capital, lost)
-    top = min(int(k.max()), size.bore.size - 1)
     feasible = not beyond and least < size.bore.size
     if feasible:   # the steady margin decides most sizes: exact, no water hammer needed
         c = material_case(ctx.case, family, bore, float(size.wall[top]))
@@ -256,8 +260,7 @@ def material_case(case, family, bore, wall):
     """A copy of the case with every pipe segment of this family, bore and wall; the
     case's own wave speed or pipe modulus (given for its own pipe) no longer applies."""
     pm = FAMILIES[family]["pipe_material"]
-    new = friction.material_roughness(pm, "new")
-    growth = (friction.material_roughness(pm, "aged") - new) / case.service_life
+    new, growth = roughness(case, family)
     c = copy.copy(case)
     c.segments = [dataclasses.replace(s, diameter=float(bore), material=pm, roughness=new,
                                       wall_thickness=float(wall),
@@ -267,19 +270,20 @@ def material_case(case, family, bore, wall):
     return c
 
 
-def evaluate(ctx, family, size, steady, reaches):
-    """One size built whole: its classes settled with its own water hammer, its costs and
-    checks -> a row of the comparison."""
+def evaluate(ctx, family, screened, steady, reaches):
+    """One size built whole from its screening (:func:`screen`): its classes settled with
+    its own water hammer, its costs and checks -> a row of the comparison."""
     from . import sizing
 
     case, props = ctx.case, ctx.props
+    size = screened["size"]
     least, use = _least_for_vacuum(ctx, family, size)
     top = size.bore.size
     # the first run has the wall of the heaviest class the screening needed; where the
     # run's own rise needs a heavier class, the run is repeated with that class's wall
     # (a heavier wall raises the wave speed and the rise, so the classes only go up); where
     # it needs lighter classes only, its rise is on the safe side and stands
-    j, settled = min(int(screen(ctx, family, size, steady)["top"]), top - 1), False
+    j, settled = screened["top"], False
     for _ in range(CLASS_PASSES):
         c = material_case(case, family, float(size.bore[j]), float(size.wall[j]))
         head, rise, pmin, route = sizing.moc_design_head(c, props, reaches)
@@ -417,7 +421,7 @@ def run(case, props, steady, prod, model, steel, reaches, warns, methods):
             continue
         best = None
         for r in feasible[:MAX_EVALUATED]:
-            row = evaluate(ctx, family, r["size"], steady, reaches)
+            row = evaluate(ctx, family, r, steady, reaches)
             if best is None or (row["passes the checks"] and not best["passes the checks"]):
                 best = row
             if row["passes the checks"]:
