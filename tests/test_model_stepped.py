@@ -127,6 +127,22 @@ def test_stepped_design_passes_the_checks_run_as_a_case_of_its_own(high):
     # cheaper than the best uniform diameter that passes the same checks
     assert row["annualized cost [currency/year]"] < \
         _rows(r).loc[stepped.UNIFORM, "annualized cost [currency/year]"]
+    # the same pipe gives the same thrusts: its reducers, bends and closed ends as the
+    # water-hammer stage finds them on the design run as a case of its own (the design
+    # pressure line differs by the surge's grid tolerance, 0.5 % of the rise)
+    mine, theirs = r.stepped_thrusts, own.fitting_thrusts
+    assert list(mine["chainage [m]"]) == pytest.approx(list(theirs["chainage [m]"]))
+    assert (mine["fitting"] == "reducer, change of diameter").sum() == len(runs) - 1
+    assert list(mine["chainage [m]"][mine["fitting"] == "reducer, change of diameter"]) == \
+        pytest.approx(list(runs["from chainage [m]"].iloc[1:]))
+    tol = 0.005 * row["maximum surge rise [m]"]
+    assert np.allclose(mine["design pressure head at the invert [m]"],
+                       theirs["design pressure head at the invert [m]"], rtol=0, atol=tol)
+    for col in ("thrust, steady flow with momentum [kN]", "inlet diameter [m]",
+                "outlet diameter [m]"):
+        assert np.allclose(mine[col], theirs[col], rtol=1e-9), col
+    assert np.allclose(mine["governing thrust [kN]"], theirs["governing thrust [kN]"],
+                       rtol=tol / mine["design pressure head at the invert [m]"].min())
 
 
 def test_a_transition_cost_above_every_saving_gives_a_uniform_pipe(high):

@@ -791,4 +791,14 @@ def test_diameter_sheet_shows_the_stepped_design_beside_the_uniform_and_own_pipe
         assert any("Stepped design" in str(ch.title.tx.rich.p[0].r[0].t)
                    for ch in ws._charts if ch.title is not None)
         assert (d.book.parent / "stepped_design.png").is_file()
+        # the thrust at its reducers, bends and closed ends, in the report's units
+        forces = _label_row(ws, "Thrust at the stepped design's reducers", runs, prefix=True)
+        heads = [ws.cell(row=forces + 2, column=c).value for c in range(1, 10)]
+        assert heads[0] == "fitting"
+        col = 1 + next(i for i, h in enumerate(heads) if h.startswith("governing thrust ["))
+        kn = r.stepped_thrusts["governing thrust [kN]"].to_numpy()
+        got = [ws.cell(row=forces + 3 + i, column=col).value for i in range(len(kn))]
+        assert got == pytest.approx(kn / 4.4482216152605 if r.case.unit_system == "us"
+                                    else kn, rel=1e-9)
+        assert (d.book.parent / "stepped_thrusts.csv").is_file()
     assert checked >= 2   # the high-head demo (SI) and the US-units demo

@@ -59,6 +59,7 @@ TABLE_ORDER = (
     "wall_profile",
     "stepped_design",
     "design_comparison",
+    "stepped_thrusts",
     "material_comparison",
     "flow_diameter_study",
     "uncertainty_summary",
@@ -114,6 +115,7 @@ class Results:
     wall_profile: pd.DataFrame | None = None
     stepped_design: pd.DataFrame | None = None
     design_comparison: pd.DataFrame | None = None
+    stepped_thrusts: pd.DataFrame | None = None
     material_comparison: pd.DataFrame | None = None
     flow_diameter_study: pd.DataFrame | None = None
     uncertainty_summary: pd.DataFrame | None = None

@@ -755,10 +755,15 @@ def _sides_at(x, values, at):
     return v, v
 
 
-def fitting_thrusts(case, props, steady, design_x, design_head, methods):
+def fitting_thrusts(case, props, steady, design_x, design_head, methods=None):
     """Thrust on each bend and each change of diameter, for anchor-block design: the
     design pressure (static at the flood level plus the surge) with no flow, and the
-    steady state at the largest study flow with its momentum; the larger governs."""
+    steady state at the largest study flow with its momentum; the larger governs.
+
+    ``steady`` needs ``route``, ``flows`` and ``gl`` (the grade lines of ``case``'s own
+    pipe at normal headwater, :func:`penstock.model.steady.run`); ``design_x`` and
+    ``design_head`` are the design pressure line [m], [m]. The method is recorded when
+    ``methods`` is given."""
     from .. import thrust
 
     segs = case.segments
@@ -806,14 +811,15 @@ def fitting_thrusts(case, props, steady, design_x, design_head, methods):
                      "steady pressure head at the centreline, inlet [m]": h_steady,
                      "thrust, steady flow with momentum [kN]": f_steady / 1e3,
                      "governing thrust [kN]": max(f_design, f_steady) / 1e3})
-    methods.add("Thrust at bends, changes of diameter and closed ends", "resultant of p·A "
-                "and ρ·Q·V at both ends, R = √(a² + b² − 2ab·cos θ) (2·(pA + ρQV)·sin(θ/2) for "
-                "one bore, p·A on a closed valve or end), in the plane of the bend; the "
-                "design pressure line with no flow, and the steady state at the largest "
-                "study flow with the grade line's pressure on each side; the weight of water "
-                "and pipe in a vertical bend, bifurcations and the field test pressure are "
-                "not included", "linear-momentum balance of a control "
-                "volume; AWWA M11 thrust restraint T = 2pA·sin(Δ/2) (from memory)")
+    if methods is not None:
+        methods.add("Thrust at bends, changes of diameter and closed ends", "resultant of "
+                    "p·A and ρ·Q·V at both ends, R = √(a² + b² − 2ab·cos θ) (2·(pA + ρQV)·"
+                    "sin(θ/2) for one bore, p·A on a closed valve or end), in the plane of the "
+                    "bend; the design pressure line with no flow, and the steady state at the "
+                    "largest study flow with the grade line's pressure on each side; the "
+                    "weight of water and pipe in a vertical bend, bifurcations and the field "
+                    "test pressure are not included", "linear-momentum balance of a control "
+                    "volume; AWWA M11 thrust restraint T = 2pA·sin(Δ/2) (from memory)")
     columns = ["fitting", "chainage [m]", "deflection [deg]", "inlet diameter [m]",
                "outlet diameter [m]", "design pressure head at the invert [m]",
                "thrust, design pressure, no flow [kN]", "flow of the steady case [m^3/s]",

@@ -508,7 +508,7 @@ def run(case, props, steady, prod, ham, warns, methods, tick) -> dict:
     wall_profile = _wall_profile(case, model, recommended if recommended is not None else
                                  opt.selected_size)
     tick("stepped diameters")
-    runs, comparison = stepped.run(case, props, steady, prod, model, sizes,
+    runs, comparison, stepped_forces = stepped.run(case, props, steady, prod, model, sizes,
                                    recommended if recommended is not None else
                                    opt.selected_size, ham.grid_reaches, warns, methods)
     tick("design flow and diameter")
@@ -523,7 +523,8 @@ def run(case, props, steady, prod, ham, warns, methods, tick) -> dict:
         diameter_sensitivity=pd.DataFrame(grid_rows),
         diameter_one_at_a_time=pd.DataFrame(oat),
         wall_profile=wall_profile,
-        stepped_design=runs, design_comparison=comparison, material_comparison=mats,
+        stepped_design=runs, design_comparison=comparison, stepped_thrusts=stepped_forces,
+        material_comparison=mats,
         flow_diameter_study=flow_d,
         model=model,
         headline=SizingHeadline(

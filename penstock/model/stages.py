@@ -198,6 +198,7 @@ class SizingStage:
     wall_profile: pd.DataFrame | None = None
     stepped_design: pd.DataFrame | None = None
     design_comparison: pd.DataFrame | None = None
+    stepped_thrusts: pd.DataFrame | None = None
     material_comparison: pd.DataFrame | None = None
     flow_diameter_study: pd.DataFrame | None = None
     model: object | None = None       # penstock.model.sizing.DiameterModel

@@ -29,6 +29,7 @@ from __future__ import annotations
 
 import copy
 import dataclasses
+import types
 
 import numpy as np
 import pandas as pd
@@ -188,13 +189,17 @@ def with_plates(variant, runs):
     return c
 
 
-def design_row(case, props, steady, prod, model, variant, name, reaches, own_wall=False):
+def design_row(case, props, steady, prod, model, variant, name, reaches, own_wall=False,
+               thrusts=False):
     """One design evaluated whole: its own route and load rejections on a grid of
     ``reaches`` over the pipe, real plates, exact energy lost, the checks of a uniform
-    candidate -> (row dict, run table). Unless ``own_wall`` (the case's own pipe, whose
-    walls are given), the water hammer is run again with each run's thickest plate as its
-    wall until the plates stop changing, so that the wave speed is that of the wall
-    priced. The capital includes the case's transition cost per change of diameter."""
+    candidate -> (row dict, run table, thrust table or None). Unless ``own_wall`` (the
+    case's own pipe, whose walls are given), the water hammer is run again with each run's
+    thickest plate as its wall until the plates stop changing, so that the wave speed is
+    that of the wall priced. The capital includes the case's transition cost per change of
+    diameter. With ``thrusts``, the thrust at each bend, change of diameter and closed end
+    of the design, from its own design pressure line and steady grade line
+    (:func:`design_thrusts`)."""
     from .sizing import (
         element_costs,
         moc_design_head,
@@ -271,7 +276,23 @@ def design_row(case, props, steady, prod, model, variant, name, reaches, own_wal
         "passes the checks": not failures,
         "governing check": "; ".join(failures) if failures else "all pass",
     }
-    return row, runs
+    forces = design_thrusts(variant, props, steady, route, head) if thrusts else None
+    return row, runs, forces
+
+
+def design_thrusts(variant, props, steady, route, head):
+    """Thrust at each bend, change of diameter (reducer) and closed end of a design, for
+    anchor-block design: :func:`penstock.model.hammer.fitting_thrusts` with the design's
+    own design pressure line ``head`` at ``route``'s nodes [m] and its own steady grade
+    lines at the study flows (normal headwater, new pipe)."""
+    from .hammer import fitting_thrusts
+
+    own = types.SimpleNamespace(route=route, flows=steady.flows, gl=route.grade_lines(
+        np.asarray(steady.flows, float), variant.headwater, props.kinematic_viscosity))
+    table = fitting_thrusts(variant, props, own, route.chainage, head)
+    reducer = table["fitting"].str.startswith("change of diameter")
+    table.loc[reducer, "fitting"] = "reducer, change of diameter"
+    return table
 
 
 def run_table(variant, route, plate, items):
@@ -300,7 +321,8 @@ def run_table(variant, route, plate, items):
 
 def run(case, props, steady, prod, model, sizes, uniform_d, reaches, warns, methods):
     """The stepped optimum beside the best uniform diameter and the case's own pipe ->
-    (stepped design runs, design comparison), or (None, None) when no search runs.
+    (stepped design runs, design comparison, thrust at the stepped design's bends,
+    reducers and closed ends), or (None, None, None) when no search runs.
 
     ``uniform_d`` is the uniform recommendation (or the economic size when none passes),
     ``reaches`` the water-hammer grid of the case's own pipe (converged), on which every
@@ -311,14 +333,14 @@ def run(case, props, steady, prod, model, sizes, uniform_d, reaches, warns, meth
         warns.append(Warning_("diameter study", "only one size lies near the uniform "
                               "recommendation, so no stepped design is studied",
                               severity="note"))
-        return None, None
+        return None, None, None
     try:
         return _run(case, props, steady, prod, model, opts, uniform_d, reaches, warns,
                     methods, say)
     except ValueError as err:   # a design the water hammer cannot run: say so, run on
         warns.append(Warning_("diameter study", f"the stepped design could not be "
                               f"evaluated ({err}); only uniform diameters are compared"))
-        return None, None
+        return None, None, None
 
 
 def _run(case, props, steady, prod, model, opts, uniform_d, reaches, warns, methods, say):
@@ -361,17 +383,19 @@ def _run(case, props, steady, prod, model, opts, uniform_d, reaches, warns, meth
                               f"length and the wall rules with the sizes {say.m(opts[0], 3)} "
                               f"to {say.m(opts[-1], 3)}; only uniform diameters are compared",
                               severity="note"))
-        return None, None
+        return None, None, None
     if best_margin < 0:
         best = first   # no repair passes: the cheapest design, shown failing
     variant, found = best
-    row, runs = design_row(case, props, steady, prod, model, variant, STEPPED, reaches)
+    row, runs, forces = design_row(case, props, steady, prod, model, variant, STEPPED,
+                                   reaches, thrusts=True)
     if len(found.runs) == 1 and float(opts[found.runs[0][2]]) == float(uniform_d):
         uni = {**row, "design": UNIFORM}   # the same pipe: evaluated once
     else:
-        uni, _ = design_row(case, props, steady, prod, model, uniform_case(case, uniform_d),
-                            UNIFORM, reaches)
-    own, _ = design_row(case, props, steady, prod, model, case, OWN, reaches, own_wall=True)
+        uni, _, _ = design_row(case, props, steady, prod, model,
+                               uniform_case(case, uniform_d), UNIFORM, reaches)
+    own, _, _ = design_row(case, props, steady, prod, model, case, OWN, reaches,
+                           own_wall=True)
     cost_key = "annualized cost [currency/year]"
     if not row["passes the checks"]:
         warns.append(Warning_("diameter study", "the stepped design found fails "
@@ -401,4 +425,4 @@ def _run(case, props, steady, prod, model, opts, uniform_d, reaches, warns, meth
                 "costs, the checks of a uniform candidate), its sizes raised upstream of a "
                 "failing steady margin and the search run again while that helps",
                 "R. Bellman (1957), Dynamic Programming, Princeton University Press")
-    return runs, pd.DataFrame([row, uni, own])
+    return runs, pd.DataFrame([row, uni, own]), forces

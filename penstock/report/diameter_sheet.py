@@ -198,5 +198,21 @@ def _stepped(ws, ctx, row, cur):
                           x_format="0", y_format="0.00", width=18, height=9)
     sh.add_line(ch, ws, scol, scol + 1, sfirst, slast, "stepped optimum", "1F77B4")
     ws.add_chart(ch, f"A{max(rlast, slast) + 2}")
-    return max(rlast, slast) + 2 + 18   # the chart's rows
+    last = max(rlast, slast) + 2 + 18   # the chart's rows
+    forces = r.stepped_thrusts
+    if forces is not None and len(forces):
+        row = last + 2
+        sh.put(ws, row, 1, "Thrust at the stepped design's reducers, bends and closed ends, "
+               "for the anchor blocks (from its own design pressure line and steady grade "
+               "line; in the plane of the bend, without the weight of water and pipe)",
+               font=sh.SUBTITLE)
+        sh.put(ws, row + 1, 1, "The steady case's flow and pressure: stepped_thrusts.csv.",
+               font=sh.NOTE)
+        shown = forces[["fitting", "chainage [m]", "deflection [deg]", "inlet diameter [m]",
+                        "outlet diameter [m]", "design pressure head at the invert [m]",
+                        "thrust, design pressure, no flow [kN]",
+                        "thrust, steady flow with momentum [kN]", "governing thrust [kN]"]]
+        _, last = sh.write_table(ws, convert_table(shown, ctx.system), row=row + 2,
+                                 widths={"fitting": 30})
+    return last
 
