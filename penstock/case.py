@@ -702,6 +702,11 @@ def load_case(path) -> Case:
             study["minimum"] >= study["maximum"]:
         raise CaseError(CASE_FILE, "diameter_study.maximum", f"{study['maximum']:g} m is not "
                         f"above the minimum {study['minimum']:g} m")
+    for i, family in enumerate(study["stepped_materials"], start=1):
+        if family not in study["materials"]:
+            raise CaseError(CASE_FILE, f"diameter_study.stepped_materials[{i}]", f"'{family}' "
+                            "is not among diameter_study.materials; expected a material the "
+                            "study compares")
     for family, key in (("hdpe", "pe100_prices"), ("ductile_iron", "ductile_iron_prices")):
         if study[key] is None:
             continue

@@ -350,6 +350,11 @@ SECTIONS: tuple[Section, ...] = (
               "and ductile iron (EN 545 pressure classes). Their default prices are "
               "illustrative only.", default=["welded_steel", "hdpe", "ductile_iron"],
               choices=("welded_steel", "hdpe", "ductile_iron")),
+        Field("stepped_materials", "choice_list", "Pipe materials the stepped design may use "
+              "along the route, reach by reach (each must be among the materials compared); a "
+              "change of material is charged as a change of diameter. Default welded steel "
+              "only, since the other materials' default prices are illustrative.",
+              default=["welded_steel"], choices=("welded_steel", "hdpe", "ductile_iron")),
         Field("pe100_prices", "file", "CSV of PE100 pipe prices: nominal outside diameter "
               "(e.g. 630 mm), class by its rated pressure PN (e.g. 10 bar) and delivered price "
               "per metre; only the sizes and classes it lists are offered. Default: "

@@ -540,6 +540,14 @@ CATALOGUE = [
     Bad("study-materials-not-a-list", ALDER, _ed(TOML, "[uncertainty]", '[diameter_study]\n'
         'materials = "hdpe"\n\n[uncertainty]'), TOML,
         ("diameter_study.materials", "not a non-empty list", "e.g. [")),
+    Bad("stepped-material-not-compared", ALDER, _ed(TOML, "[uncertainty]", '[diameter_study]\n'
+        'materials = ["welded_steel", "hdpe"]\nstepped_materials = ["welded_steel", '
+        '"ductile_iron"]\n\n[uncertainty]'), TOML,
+        ("diameter_study.stepped_materials[2]", "'ductile_iron' is not among "
+         "diameter_study.materials")),
+    Bad("stepped-material-unknown", ALDER, _ed(TOML, "[uncertainty]", '[diameter_study]\n'
+        'stepped_materials = ["welded_steel", "grp"]\n\n[uncertainty]'), TOML,
+        ("diameter_study.stepped_materials[2]", "'grp' is not allowed")),
     # ---- a price table of the material comparison
     Bad("price-size-not-in-series", MILLRACE, _prices("1800,6.3,2100\n650,10,900\n"),
         "pe.csv", ("row 3", "column 'size'", "650 mm is not a PE100 outside diameter"),

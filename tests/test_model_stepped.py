@@ -11,17 +11,21 @@ design, run as a case of its own, must pass the Pressure checks it is said to pa
 from __future__ import annotations
 
 import copy
+import re
 
 import numpy as np
 import pytest
 from conftest import copy_demo, edit_file, study_parts
 
 import penstock
-from penstock.model import run_case, sizing, stepped
+from penstock import pipeclasses
+from penstock.materials import MATERIALS
+from penstock.model import material_study, run_case, sizing, stepped
 
 HIGH = "alder-gorge-high-head"
 MARGIN = "minimum steady pressure margin at the crown, minimum headwater [m]"
 LOW = "minimum pressure head at the crown, minimum headwater [m]"
+RUN = re.compile(r"(\S+) ([\d,.]+)–([\d,.]+) m")
 
 
 @pytest.fixture(scope="module")
@@ -89,7 +93,7 @@ def test_best_uniform_row_equals_its_candidate_row_where_the_water_hammer_does_n
     for col in ("energy lost [MWh/year]", "value of energy lost [currency/year]", MARGIN,
                 "at chainage [m]", "head loss at design flow [m]"):
         assert uni[col] == pytest.approx(cand[col], rel=1e-9, abs=1e-9), col
-    assert uni["changes of diameter [-]"] == 0
+    assert uni["changes of diameter or material [-]"] == 0
 
 
 def test_own_row_loses_the_energy_stage_s_energy(high, parts):
@@ -153,7 +157,7 @@ def test_a_transition_cost_above_every_saving_gives_a_uniform_pipe(high):
     out = run_case(dear, samples=0)
     assert len(out.stepped_design) == 1
     row = out.design_comparison.set_index("design").loc[stepped.STEPPED]
-    assert row["changes of diameter [-]"] == 0
+    assert row["changes of diameter or material [-]"] == 0
     # never dearer than the best uniform pipe in the search's own terms
     assert row["annualized cost [currency/year]"] <= _rows(r).loc[
         stepped.UNIFORM, "annualized cost [currency/year]"] * (1 + 1e-9)
@@ -201,3 +205,93 @@ def test_stepped_case_keeps_each_segment_and_joins_slivers(parts):
     # and the case built this way runs whole
     head, rise, _, _ = sizing.moc_design_head(c, props, 20)
     assert np.all(np.isfinite(head)) and rise > 0
+
+
+@pytest.fixture(scope="module")
+def mixed(high):
+    """The high-head demo with its stepped search free to use ductile iron and PE100 reach
+    by reach beside welded steel."""
+    case = copy.copy(high[0])
+    case.diameter_study = {**case.diameter_study,
+                           "stepped_materials": ["welded_steel", "hdpe", "ductile_iron"]}
+    return case, run_case(case, samples=0)
+
+
+def _as_a_case(case, runs):
+    """The runs table's pipe as a case: each run's diameter and material, steel at its
+    thickest plate, a class run at the wall of its heaviest class."""
+    family = {f["name"]: k for k, f in material_study.FAMILIES.items()}
+    bounds = list(runs["from chainage [m]"]) + [float(runs["to chainage [m]"].iloc[-1])]
+    mats = [None if m == stepped.STEEL else (family[m], w / 1e3)
+            for m, w in zip(runs["material"], runs["thickest wall [mm]"], strict=True)]
+    return stepped.with_plates(stepped.stepped_case(case, bounds, list(runs["diameter [m]"]),
+                                                    materials=mats), runs)
+
+
+def test_a_stepped_design_of_mixed_materials_passes_the_tools_checks_as_its_own_case(mixed):
+    """A recommended design passes every check the tool makes, whatever its materials: the
+    demo's mixed design (ductile iron above, steel below), run as a case of its own, passes
+    the Pressure checks with the margin given, its surge is its own walls', every class
+    carries the water-hammer stage's design pressure line, the case's own wall check
+    passes, and its thrusts are the stage's."""
+    case, r = mixed
+    runs = r.stepped_design
+    row = _rows(r).loc[stepped.STEPPED]
+    assert runs["material"].nunique() > 1   # ductile iron above, steel below, at the
+    assert row["passes the checks"]         # demo's illustrative prices
+    assert row["annualized cost [currency/year]"] <= \
+        _rows(r).loc[stepped.UNIFORM, "annualized cost [currency/year]"]
+    assert row["changes of diameter or material [-]"] == len(runs) - 1
+    assert row["capital cost, with the changes of diameter [currency]"] == pytest.approx(
+        runs["capital cost [currency]"].sum()
+        + (len(runs) - 1) * case.diameter_study["transition_cost"], rel=1e-12)
+    own = run_case(_as_a_case(case, runs), samples=0)
+    low = own.pressure_checks[LOW].min()
+    assert low >= case.pressure_margin - 1e-9
+    assert row[MARGIN] == pytest.approx(low - case.pressure_margin, abs=1e-6)
+    assert row["head loss at design flow [m]"] == pytest.approx(own.headline.total_loss,
+                                                                rel=1e-5)
+    # the comparison ran each class run at its heaviest class's wall, as built here
+    assert row["maximum surge rise [m]"] == pytest.approx(own.headline.max_surge_rise,
+                                                          rel=0.005)
+    line = own.design_pressure_line
+    x = line["chainage [m]"].to_numpy()
+    h = line["design pressure head at the invert [m]"].to_numpy()
+    checked = 0
+    for _, run in runs[runs["material"] != stepped.STEEL].iterrows():
+        family = next(k for k, f in material_study.FAMILIES.items()
+                      if f["name"] == run["material"])
+        mat = MATERIALS[material_study.FAMILIES[family]["material"]]
+        labels = list(mat.pressure_class_labels)
+        for label, a, b in RUN.findall(run["classes or plates"]):
+            a, b = float(a.replace(",", "")), float(b.replace(",", ""))
+            rated = float(pipeclasses.rated_head(mat.pressure_classes[labels.index(label)],
+                                                 _density(case)))
+            inside = (x >= a - 1e-6) & (x <= b + 1e-6)
+            assert h[inside].max() <= rated * (1 + 1e-3), (label, a, b)
+            checked += 1
+    assert checked >= 1
+    assert (own.own_wall_checks["verdict"] == "passes").all()
+    mine, theirs = r.stepped_thrusts, own.fitting_thrusts
+    assert list(mine["chainage [m]"]) == pytest.approx(list(theirs["chainage [m]"]))
+    assert np.allclose(mine["thrust, steady flow with momentum [kN]"],
+                       theirs["thrust, steady flow with momentum [kN]"], rtol=1e-9)
+
+
+def test_the_mixed_search_is_the_steel_search_when_only_steel_is_allowed(high, mixed):
+    """The materials are options beside the steel sizes: allowing them can only lower the
+    search's own estimate (its options are a superset), and the steel-only default is the
+    search of steel sizes alone."""
+    steel_only = _rows(high[1]).loc[stepped.STEPPED]
+    assert set(high[1].stepped_design["material"]) == {stepped.STEEL}
+    found = [w for w in mixed[1].cautions["message"] if "search's own additive" in w]
+    before = [w for w in high[1].cautions["message"] if "search's own additive" in w]
+    estimate = [float(re.search(r"estimate was ([\d,]+)", w).group(1).replace(",", ""))
+                for w in (found[0], before[0])]
+    assert estimate[0] <= estimate[1] + 1.0
+    assert steel_only["pipe along the route"].startswith("welded steel")
+
+
+def _density(case):
+    from penstock import water
+    return water.water_properties(case.temperature, case.altitude).density

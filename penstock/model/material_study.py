@@ -196,14 +196,42 @@ def _classes(ctx, size, node_head, least):
 
 def _money(ctx, size, k, bore):
     """Capital [currency] of the reaches at classes ``k``."""
-    c = ctx.case.costs
+    return float(np.sum(reach_money(ctx.case, size, k, bore, ctx.reach)))
+
+
+def reach_money(case, size, k, bore, length):
+    """Capital [currency] of each reach of ``length`` [m] and ``bore`` [m] at the classes
+    ``k`` of ``size`` (its price per metre plus the case's installation, civil works and
+    contingency)."""
+    c = case.costs
     kk = np.minimum(k, size.heads.size - 1)
     parts = economics.pipe_cost_breakdown(
-        bore, ctx.reach, cost_per_metre=size.price[kk],
+        bore, length, cost_per_metre=size.price[kk],
         installation_factor=c["installation_factor"], civil_fixed=c["civil_fixed"],
         civil_coefficient=c["civil_per_diameter"], civil_exponent=c["civil_exponent"],
         contingency_factor=c["contingency"])
-    return float(np.sum(parts["total"]))
+    return np.asarray(parts["total"], float) * np.ones(np.shape(length))
+
+
+def screening_rise(ctx, family, size):
+    """Allievi's rise [m] from the design flow at the stiffest class's wave speed and bore
+    (the screening's rise: the stiffest wall gives the fastest wave)."""
+    bore_top, wall_top = float(size.bore[-1]), float(size.wall[-1])
+    a = _wave_speed(ctx, family, bore_top, wall_top)
+    v = gradeline.mean_velocity(ctx.case.design_flow, bore_top)
+    return float(surge.allievi_rise_capped(ctx.length, v, ctx.h0,
+                                           ctx.case.surge["closure_time"], a))
+
+
+def screening_classes(ctx, family, size, rise):
+    """Class of each pipe reach for a design pressure head of the static head at the flood
+    level (at the invert of the stiffest class's bore) plus ``rise`` [m] growing linearly
+    along the pipe, no lighter than the lightest class that stands full vacuum -> (class
+    index per reach, ``len(classes)`` beyond the highest; index of that lightest class)."""
+    least, _ = _least_for_vacuum(ctx, family, size)
+    head = ctx.hw_top - (ctx.z - 0.5 * float(size.bore[-1])) + rise * ctx.s
+    k, _ = _classes(ctx, size, head, least)
+    return k, least
 
 
 def _lost(ctx, family, bore):
@@ -236,14 +264,8 @@ def screen(ctx, family, size, steady):
     feasible, bore)."""
     from .sizing import steady_crown_margin
 
-    least, _ = _least_for_vacuum(ctx, family, size)
-    bore_top, wall_top = float(size.bore[-1]), float(size.wall[-1])
-    a = _wave_speed(ctx, family, bore_top, wall_top)
-    v = gradeline.mean_velocity(ctx.case.design_flow, bore_top)
-    rise = float(surge.allievi_rise_capped(ctx.length, v, ctx.h0,
-                                           ctx.case.surge["closure_time"], a))
-    head = ctx.hw_top - (ctx.z - 0.5 * bore_top) + rise * ctx.s
-    k, beyond = _classes(ctx, size, head, least)
+    k, least = screening_classes(ctx, family, size, screening_rise(ctx, family, size))
+    beyond = bool(np.any(k >= size.heads.size))
     top = min(int(k.max()), size.bore.size - 1)
     bore = float(size.bore[top])
     capital = _money(ctx, size, k, bore)

@@ -35,10 +35,22 @@ import numpy as np
 import pandas as pd
 
 from .. import diameter as dia
-from .. import economics, friction, gradeline, pipewall
+from .. import economics, friction, gradeline, pipeclasses, pipewall
 from ..constants import J_PER_KWH, J_PER_MWH
+from ..materials import MATERIALS
 from ..route import build_route, loss_k_and_area
 from .core import Say, Warning_
+from .material_study import (
+    FAMILIES,
+    _Context,
+    _least_for_vacuum,
+    reach_money,
+    screening_classes,
+    screening_rise,
+)
+from .material_study import _runs as _class_runs
+from .material_study import material_case as _material_case
+from .material_study import sizes as material_sizes
 
 #: Reaches of the dynamic programme at most; a longer route's profile intervals are
 #: grouped into runs of equal count (the work grows as the square of the reaches).
@@ -49,6 +61,9 @@ SIZES_BELOW = 6
 SIZES_ABOVE = 3
 #: Searches at most, each after raising the sizes upstream of a failing margin.
 MAX_SEARCHES = 30
+#: Searches in a row that may fail to lift the margin before the repair stops (a wider
+#: size of another material can be rougher, so the margin need not rise at every step).
+PATIENCE = 2
 #: Shortest piece of a split segment [m]; a shorter one joins its neighbour of the same
 #: diameter (a run that starts a few metres from a segment's end).
 SLIVER = 5.0
@@ -56,6 +71,7 @@ SLIVER = 5.0
 #: plates sets the rise, the rise sets the plates.
 WALL_PASSES = 3
 
+STEEL = "welded steel"
 STEPPED = "stepped optimum"
 UNIFORM = "best uniform diameter"
 OWN = "the case's own diameters"
@@ -67,6 +83,37 @@ def options(sizes, centre):
     sizes = np.unique(np.asarray(sizes, float))
     i = int(np.argmin(np.abs(sizes - centre)))
     return sizes[max(0, i - SIZES_BELOW):i + SIZES_ABOVE + 1]
+
+
+@dataclasses.dataclass(frozen=True)
+class Option:
+    """One choice of the search for a reach: the case's welded steel at a diameter, or a
+    size of a family sold in classes (:data:`penstock.model.material_study.FAMILIES`)."""
+
+    diameter: float            # steel: inside diameter; a class family: its widest bore [m]
+    family: str | None = None  # None: the case's welded steel
+    size: object = None        # penstock.model.material_study.Size of a class family
+
+    @property
+    def material(self):
+        return STEEL if self.family is None else FAMILIES[self.family]["name"]
+
+    @property
+    def label(self):
+        return f"D {1e3 * self.diameter:.0f} mm" if self.family is None else self.size.label
+
+
+def class_options(case, props, families, lo, hi, centre, most=SIZES_BELOW + SIZES_ABOVE + 1):
+    """Sizes of the class ``families`` whose bores meet [``lo``, ``hi``] [m], at most
+    ``most`` per family, those nearest ``centre`` [m] first -> list of :class:`Option`."""
+    out = []
+    for family in families:
+        near = [sz for sz in material_sizes(family, case, props)
+                if sz.bore[-1] >= lo and sz.bore[0] <= hi]
+        near.sort(key=lambda sz: abs(float(sz.bore[0]) - centre))
+        out += [Option(float(sz.bore[0]), family, sz)
+                for sz in sorted(near[:most], key=lambda sz: float(sz.bore[0]))]
+    return out
 
 
 def stations(route, segments, losses):
@@ -89,11 +136,17 @@ def stations(route, segments, losses):
     return np.cumsum(start) - 1, x0, x1
 
 
-def reach_table(case, props, model, sizes):
-    """Annualized cost of each reach built at each size, and whether the size may be
-    used there -> (group of each pipe reach, x0, x1, then per group and size: cost
+def reach_table(case, props, model, sizes, extra=(), ctx=None):
+    """Annualized cost of each reach built with each option, and whether the option may be
+    used there -> (group of each pipe reach, x0, x1, then per group and option: cost
     [currency/year], capital [currency], lost energy [J/year], feasible; and the
-    annualizing factor, capital recovery plus O&M [1/year])."""
+    annualizing factor, capital recovery plus O&M [1/year]).
+
+    The options are the welded-steel ``sizes`` [m], then the class-family options
+    ``extra`` (:class:`Option`; ``ctx`` their :class:`material_study._Context`): each reach
+    in the lowest class carrying the screening's design pressure head
+    (:func:`penstock.model.material_study.screening_classes`, with the larger of the
+    steel sweep's and the material's own Allievi rise) that stands full vacuum."""
     route = model.route
     keep = route.length > 0
     group, x0, x1 = stations(route, case.segments, case.losses)
@@ -112,20 +165,15 @@ def reach_table(case, props, model, sizes):
                                 corrosion_allowance=w["corrosion_allowance"])
     ok = ~beyond & ~np.asarray(vac["needs_stiffeners"], bool)
     capital = np.asarray(element_costs(case, sizes[:, None], length[None, :], plate)["total"])
-    # energy lost per metre of each segment, and by each local loss, at each size
-    rough = model.segment_roughness(model.roughness_years)
-    q = model.q_grid
-    per_metre = np.array([model.lost_to(friction.head_loss(
-        q[None, :], d, 1.0, rough[:, None], props.kinematic_viscosity)) for d in sizes])
-    lost = per_metre[:, seg] * length[None, :]
-    if case.losses:
-        where = np.clip(np.searchsorted(x0, [ls.at for ls in case.losses], side="left"), 0,
-                        x0.size - 1)
-        for j, ls in enumerate(case.losses):
-            for k, d in enumerate(sizes):
-                kj, area = loss_k_and_area(ls.kind, ls.params, d, d, ls.k)
-                lost[k, where[j]] += float(model.lost_to(kj * gradeline.velocity_head(q,
-                                                                                     area)))
+    # energy lost in each reach, by its friction and the local losses inside it
+    rough = model.segment_roughness(model.roughness_years)[seg]
+    lost = np.array([reach_energy(case, props, model, np.full(length.size, d), rough,
+                                  length, x0) for d in sizes])
+    if extra:
+        cols = [_class_column(case, props, model, ctx, o, length, x0) for o in extra]
+        capital = np.vstack([capital, [c[0] for c in cols]])
+        lost = np.vstack([lost, [c[1] for c in cols]])
+        ok = np.vstack([ok, [c[2] for c in cols]])
     e = case.economics
     annual = model.cost_model().crf + case.costs["om_fraction"]
     value = np.asarray(economics.lost_energy_value(lost, e["energy_price"] / J_PER_KWH))
@@ -140,27 +188,80 @@ def reach_table(case, props, model, sizes):
             annual)
 
 
-def stepped_case(case, bounds, diameters, sliver=None):
+def reach_energy(case, props, model, bore, rough, length, x0):
+    """Mean annual energy lost [J/year] in each pipe reach (start chainages ``x0`` [m],
+    ``length`` [m]) at its ``bore`` and ``rough`` [m]: its Darcy–Weisbach loss and the
+    case's local losses inside it, each at the reach's bore, through the record's
+    flow-grid weights (:meth:`DiameterModel.lost_to`)."""
+    q = model.q_grid
+    pairs, inv = np.unique(np.column_stack([bore, rough]), axis=0, return_inverse=True)
+    per_metre = np.array([float(model.lost_to(friction.head_loss(
+        q, b, 1.0, e, props.kinematic_viscosity))) for b, e in pairs])
+    lost = per_metre[np.ravel(inv)] * length
+    if case.losses:
+        where = np.clip(np.searchsorted(x0, [ls.at for ls in case.losses], side="left"), 0,
+                        x0.size - 1)
+        for j, ls in enumerate(case.losses):
+            b = float(bore[where[j]])
+            kj, area = loss_k_and_area(ls.kind, ls.params, b, b, ls.k)
+            lost[where[j]] += float(model.lost_to(kj * gradeline.velocity_head(q, area)))
+    return lost
+
+
+def _screened_classes(ctx, model, option):
+    """The screening's class of each pipe reach for a class-family option, and the lightest
+    class standing full vacuum (:func:`material_study.screening_classes`, with the larger
+    of the material's own and the steel sweep's Allievi rise)."""
+    rise = max(screening_rise(ctx, option.family, option.size),
+               float(model.allievi_rise(float(option.size.bore[-1]))))
+    return screening_classes(ctx, option.family, option.size, rise)
+
+
+def _class_column(case, props, model, ctx, option, length, x0):
+    """Capital [currency], lost energy [J/year] and feasibility of each pipe reach built as
+    a class-family option, each in its screening class."""
+    size = option.size
+    k, least = _screened_classes(ctx, model, option)
+    n = size.heads.size
+    kk = np.minimum(k, n - 1)
+    bore = size.bore[kk]
+    capital = reach_money(case, size, kk, bore, length)
+    lost = reach_energy(case, props, model, bore,
+                        np.full(length.size, ctx.roughness(option.family,
+                                                           model.roughness_years)), length, x0)
+    return capital, lost, (k < n) & (least < n)
+
+
+def stepped_case(case, bounds, diameters, sliver=None, materials=None):
     """A copy of ``case`` whose pipe takes ``diameters[i]`` from ``bounds[i]`` to
     ``bounds[i + 1]`` (chainages [m]); its segments are split where a run starts, each
-    part keeping its material, roughness, roughness growth and wall. A part shorter than
-    ``sliver`` [m] (default :data:`SLIVER`; a run that starts just beside a segment's end)
-    joins the part of the same diameter beside it: a sliver would set a tiny time step
-    for the water hammer."""
+    part keeping its material, roughness, roughness growth and wall, unless
+    ``materials[i]`` is a ``(family, wall [m])`` of a class family
+    (:func:`penstock.model.material_study.material_case`: its material, roughness and
+    growth, and that wall; the case's own wave speed or pipe modulus then no longer
+    applies). A part shorter than ``sliver`` [m] (default :data:`SLIVER`; a run that starts
+    just beside a segment's end) joins the part of the same diameter and material beside
+    it: a sliver would set a tiny time step for the water hammer."""
     sliver = SLIVER if sliver is None else float(sliver)
+    materials = [None] * len(diameters) if materials is None else list(materials)
     parts = []
     for s in case.segments:
-        for a, b, d in zip(bounds[:-1], bounds[1:], diameters, strict=True):
+        for a, b, d, m in zip(bounds[:-1], bounds[1:], diameters, materials, strict=True):
             lo, hi = max(s.start, a), min(s.end, b)
             if hi - lo > 1e-9:
-                parts.append(dataclasses.replace(s, start=float(lo), end=float(hi),
-                                                 diameter=float(d)))
+                part = dataclasses.replace(s, start=float(lo), end=float(hi),
+                                           diameter=float(d))
+                if m is not None:
+                    part = _material_case(_with_segments(case, [part]), m[0], d,
+                                          m[1]).segments[0]
+                parts.append(part)
     i = 0
     while i < len(parts) and len(parts) > 1:
         p = parts[i]
         if p.end - p.start < sliver:
             j = next((j for j in (i - 1, i + 1)
-                      if 0 <= j < len(parts) and parts[j].diameter == p.diameter), None)
+                      if 0 <= j < len(parts) and parts[j].diameter == p.diameter
+                      and parts[j].material == p.material), None)
             if j is not None:
                 q = parts[j]
                 parts[j] = dataclasses.replace(q, start=min(q.start, p.start),
@@ -169,36 +270,72 @@ def stepped_case(case, bounds, diameters, sliver=None):
                 i = 0
                 continue
         i += 1
+    c = _with_segments(case, parts)
+    if any(m is not None for m in materials):
+        c.surge = dict(case.surge, wave_speed=None, pipe_modulus=None)
+    return c
+
+
+def _with_segments(case, segments):
     c = copy.copy(case)
-    c.segments = parts
+    c.segments = segments
     return c
 
 
 def with_plates(variant, runs):
-    """The design with each segment's wall set to the thickest plate of its run, so that
-    its wave speed is that of the wall it is priced with."""
+    """The design with each welded-steel segment's wall set to the thickest plate of its
+    run, so that its wave speed is that of the wall it is priced with (a run of a class
+    family keeps the wall of its class)."""
     starts = runs["from chainage [m]"].to_numpy(float)
     out = []
     for s in variant.segments:
         k = int(np.clip(np.searchsorted(starts, 0.5 * (s.start + s.end), side="right") - 1,
                         0, len(runs) - 1))
+        steel = "material" not in runs or runs["material"].iloc[k] == STEEL
         out.append(dataclasses.replace(
-            s, wall_thickness=float(runs["thickest plate [mm]"].iloc[k]) / 1e3))
-    c = copy.copy(variant)
-    c.segments = out
-    return c
+            s, wall_thickness=float(runs["thickest wall [mm]"].iloc[k]) / 1e3) if steel else s)
+    return _with_segments(variant, out)
+
+
+@dataclasses.dataclass
+class Run:
+    """One run of a design to evaluate: its chainages [m], its option, and for a class
+    family the class whose wall and bore it is built and run with (its heaviest)."""
+
+    start: float
+    end: float
+    option: Option
+    j: int = 0
+
+
+def plan_case(case, plan):
+    """The case with the pipe of ``plan`` (a list of :class:`Run`): each steel run at its
+    diameter with the case's own segment walls, each class run at its class's bore and
+    wall."""
+    bounds = [r.start for r in plan] + [plan[-1].end]
+    diameters = [r.option.diameter if r.option.family is None else
+                 float(r.option.size.bore[r.j]) for r in plan]
+    materials = [None if r.option.family is None else
+                 (r.option.family, float(r.option.size.wall[r.j])) for r in plan]
+    return stepped_case(case, bounds, diameters, materials=materials)
 
 
 def design_row(case, props, steady, prod, model, variant, name, reaches, own_wall=False,
-               thrusts=False):
+               thrusts=False, plan=None, ctx=None):
     """One design evaluated whole: its own route and load rejections on a grid of
-    ``reaches`` over the pipe, real plates, exact energy lost, the checks of a uniform
-    candidate -> (row dict, run table, thrust table or None). Unless ``own_wall`` (the
-    case's own pipe, whose walls are given), the water hammer is run again with each run's
-    thickest plate as its wall until the plates stop changing, so that the wave speed is
-    that of the wall priced. The capital includes the case's transition cost per change of
-    diameter. With ``thrusts``, the thrust at each bend, change of diameter and closed end
-    of the design, from its own design pressure line and steady grade line
+    ``reaches`` over the pipe, real plates and classes, exact energy lost, the checks of a
+    uniform candidate -> (row dict, run table, thrust table or None).
+
+    ``variant`` is the design as a case; ``plan`` (a list of :class:`Run`, with ``ctx`` the
+    :class:`material_study._Context`) gives its runs when some are of a class family, and
+    ``variant`` is then rebuilt from it. Unless ``own_wall`` (the case's own pipe, whose
+    walls are given), the water hammer is run again with each steel run's thickest plate
+    as its wall until the plates stop changing, and with each class run's heaviest class
+    until no run needs a heavier one (a heavier class's stiffer wall, and a PE class's
+    narrower bore, raise the rise: a run with a class above what it needs is on the safe
+    side), so that the wave speed is that of the wall priced. The capital includes the
+    case's transition cost per change of diameter or material. With ``thrusts``, the
+    thrust at each bend, change of diameter and closed end of the design
     (:func:`design_thrusts`)."""
     from .sizing import (
         element_costs,
@@ -209,6 +346,9 @@ def design_row(case, props, steady, prod, model, variant, name, reaches, own_wal
         wall_on_route,
     )
 
+    plan = [dataclasses.replace(r) for r in plan] if plan else None
+    if plan is not None:
+        variant = plan_case(case, plan)
     previous, settled = None, own_wall
     for _ in range(WALL_PASSES):
         head, rise, pmin, route = moc_design_head(variant, props, reaches)
@@ -216,16 +356,53 @@ def design_row(case, props, steady, prod, model, variant, name, reaches, own_wal
         keep = route.length > 0
         plate = prof.reach_plate[keep]
         d_reach = route.diameter[keep]
-        items = element_costs(variant, d_reach, route.length[keep], plate)
-        runs = run_table(variant, route, plate, items)
-        if own_wall or (previous is not None and np.array_equal(plate, previous)):
+        length = route.length[keep]
+        x0, x1 = route.chainage[:-1][keep], route.chainage[1:][keep]
+        which = (np.zeros(x0.size, int) if plan is None else np.clip(np.searchsorted(
+            [r.start for r in plan], 0.5 * (x0 + x1), side="right") - 1, 0, len(plan) - 1))
+        opts = [Option(float("nan"))] if plan is None else [r.option for r in plan]
+        steel = np.array([opts[r].family is None for r in which])
+        label = np.array([f"D {1e3 * d:.0f} mm" if st else opts[r].label
+                          for r, st, d in zip(which, steel, d_reach, strict=True)], dtype=object)
+        cls, least, raised = np.full(x0.size, -1), {}, False
+        for r, run in enumerate(plan or []):
+            o = run.option
+            if o.family is None:
+                continue
+            idx = which == r
+            least[r] = _least_for_vacuum(ctx, o.family, o.size)[0]
+            kr = pipeclasses.reach_classes(head, o.size.heads, least[r])[keep][idx]
+            cls[idx] = kr
+            top = min(int(kr.max()), o.size.heads.size - 1)
+            if top > run.j:
+                run.j, raised = top, True
+        items = element_costs(variant, d_reach, length, plate)
+        total = np.asarray(items["total"], float) * np.ones(x0.size)
+        mass = np.asarray(items["mass"], float) * np.ones(x0.size)
+        wall = plate.copy()
+        text = np.full(x0.size, "", dtype=object)
+        for r, run in enumerate(plan or []):
+            o = run.option
+            if o.family is None:
+                continue
+            idx = which == r
+            kk = np.minimum(cls[idx], o.size.heads.size - 1)
+            wall[idx] = o.size.wall[kk]
+            total[idx] = reach_money(case, o.size, kk, d_reach[idx], length[idx])
+            mass[idx] = np.asarray(pipeclasses.tube_mass_per_metre(
+                d_reach[idx], wall[idx], MATERIALS[FAMILIES[o.family]["material"]].density)) \
+                * length[idx]
+            text[idx] = _class_runs(x0[idx], x1[idx], kk, o.size.labels)
+        runs = run_table(route, keep, wall, total, mass, [opts[r].material for r in which],
+                         label, text, steel)
+        if own_wall or (not raised and previous is not None
+                        and np.array_equal(plate[steel], previous)):
             settled = True
             break
-        previous = plate
-        variant = with_plates(variant, runs)
+        previous = plate[steel]
+        variant = with_plates(plan_case(case, plan) if plan is not None else variant, runs)
     changes = len(runs) - 1
-    cap = float(np.sum(items["total"])) + changes * float(
-        case.diameter_study["transition_cost"])
+    cap = float(np.sum(total)) + changes * float(case.diameter_study["transition_cost"])
     years = model.roughness_years
     rough = route.roughness if years is None else route.aged_roughness(variant.segments,
                                                                         years)
@@ -238,27 +415,40 @@ def design_row(case, props, steady, prod, model, variant, name, reaches, own_wal
     h_d = float(route.total_head_loss(np.array([case.design_flow]),
                                       props.kinematic_viscosity, rough)[0])
     margin, at, flow_case = steady_crown_margin(variant, props, steady, route, None)
-    steel = wall_material(variant)
+    steel_grade = wall_material(variant)
     w = variant.wall
-    vac = pipewall.vacuum_check(plate, d_reach, steel.elastic_modulus, steel.poisson_ratio,
+    vac = pipewall.vacuum_check(plate[steel], d_reach[steel], steel_grade.elastic_modulus,
+                                steel_grade.poisson_ratio,
                                 external_pressure=props.atmospheric_pressure,
                                 safety_factor=w["buckling_safety"],
                                 corrosion_allowance=w["corrosion_allowance"])
+    beyond = prof.beyond_plates if plan is None else \
+        (prof.beyond_plates[:-1] | prof.beyond_plates[1:])[keep][steel]
     failures = []
     if margin < 0:
         failures.append(f"the steady pressure margin at the crown ({flow_case}, minimum "
                         "headwater)")
-    if np.any(prof.beyond_plates):
+    if np.any(beyond):
         failures.append("the wall (more than the thickest plate)")
     if np.any(np.asarray(vac["needs_stiffeners"])):
         failures.append("vacuum buckling of the unstiffened wall")
+    if any(int(cls[which == r].max()) >= run.option.size.heads.size
+           for r, run in enumerate(plan or []) if run.option.family is not None):
+        failures.append("the pressure classes (a reach above the highest class)")
+    if any(least[r] >= run.option.size.heads.size
+           for r, run in enumerate(plan or []) if run.option.family is not None):
+        failures.append("vacuum buckling of the unstiffened wall, at every class")
     if not settled:
         failures.append("the plates and the water hammer (still changing each other)")
     row = {
         "design": name,
+        "pipe along the route": "; ".join(
+            f"{m} {lab} {a:,.0f}–{b:,.0f} m" for m, lab, a, b in zip(
+                runs["material"], runs["size"], runs["from chainage [m]"],
+                runs["to chainage [m]"], strict=True)),
         "first diameter [m]": float(runs["diameter [m]"].iloc[0]),
         "last diameter [m]": float(runs["diameter [m]"].iloc[-1]),
-        "changes of diameter [-]": changes,
+        "changes of diameter or material [-]": changes,
         "capital cost, with the changes of diameter [currency]": cap,
         "annualized capital [currency/year]": crf * cap,
         "operation and maintenance [currency/year]": om,
@@ -267,7 +457,7 @@ def design_row(case, props, steady, prod, model, variant, name, reaches, own_wal
         "annualized cost [currency/year]": float(economics.annualized_cost(
             cap, crf, case.costs["om_fraction"], value)),
         "head loss at design flow [m]": h_d,
-        "steel mass [t]": float(np.sum(items["mass"])) / 1e3,
+        "pipe mass [t]": float(np.sum(mass)) / 1e3,
         "maximum surge rise [m]": rise,
         "minimum steady pressure margin at the crown, minimum headwater [m]": margin,
         "at chainage [m]": at,
@@ -295,26 +485,35 @@ def design_thrusts(variant, props, steady, route, head):
     return table
 
 
-def run_table(variant, route, plate, items):
-    """Runs of one diameter along the route, with their plates, steel and capital."""
-    keep = route.length > 0
+def run_table(route, keep, wall, total, mass, material, label, text, steel):
+    """Runs of one diameter and material along the route (pipe reaches ``keep``), with
+    their walls (steel plates, or the walls of the classes), mass and capital."""
     d = route.diameter[keep]
     x0, x1 = route.chainage[:-1][keep], route.chainage[1:][keep]
-    new = np.concatenate([[True], np.abs(np.diff(d)) > 1e-9 * d[1:]])
+    material = np.asarray(material, dtype=object)
+    new = np.concatenate([[True], (np.abs(np.diff(d)) > 1e-9 * d[1:])
+                          | (material[1:] != material[:-1])])
     run = np.cumsum(new) - 1
     n = int(run.max()) + 1
-    total = np.asarray(items["total"], float) * np.ones_like(d)
-    mass = np.asarray(items["mass"], float) * np.ones_like(d)
     thin = np.full(n, np.inf)
     thick = np.zeros(n)
-    np.minimum.at(thin, run, plate)
-    np.maximum.at(thick, run, plate)
+    np.minimum.at(thin, run, wall)
+    np.maximum.at(thick, run, wall)
+    first = np.flatnonzero(new)
+    # a steel run names its own plates
+    text = np.asarray(text, dtype=object).copy()
+    for r, i in enumerate(first):
+        if steel[i]:
+            text[i] = (f"plates {1e3 * thin[r]:.0f}–{1e3 * thick[r]:.0f} mm"
+                       if thick[r] > thin[r] else f"plate {1e3 * thin[r]:.0f} mm")
     return pd.DataFrame({
         "from chainage [m]": x0[new], "to chainage [m]": np.append(x0[new][1:], x1[-1]),
         "length along the pipe [m]": np.bincount(run, route.length[keep], n),
-        "diameter [m]": d[new], "thinnest plate [mm]": 1e3 * thin,
-        "thickest plate [mm]": 1e3 * thick,
-        "steel mass [t]": np.bincount(run, mass, n) / 1e3,
+        "diameter [m]": d[new], "material": material[new],
+        "size": np.asarray(label, dtype=object)[new],
+        "classes or plates": text[first],
+        "thinnest wall [mm]": 1e3 * thin, "thickest wall [mm]": 1e3 * thick,
+        "pipe mass [t]": np.bincount(run, mass, n) / 1e3,
         "capital cost [currency]": np.bincount(run, total, n),
     })
 
@@ -347,37 +546,64 @@ def _run(case, props, steady, prod, model, opts, uniform_d, reaches, warns, meth
     from .sizing import steady_crown_margin, uniform_case
 
     st = case.diameter_study
+    families = [f for f in st["stepped_materials"] if f in FAMILIES]
+    ctx = _Context(case, props, prod, model) if families else None
+    extra = class_options(case, props, families, opts[0] / 1.05, opts[-1] * 1.05, uniform_d)
+    choices = [Option(float(d)) for d in opts] + extra
     group, x0, x1, cost, capital, lost, feasible, annual = reach_table(
-        case, props, model, opts)
+        case, props, model, opts, extra=extra, ctx=ctx)
+    if "welded_steel" not in st["stepped_materials"]:
+        feasible[:, :opts.size] = False
     n = cost.shape[0]
     starts = np.array([x0[group == g][0] for g in range(n)])
     ends = np.array([x1[group == g][-1] for g in range(n)])
     lengths = np.bincount(group, model.route.length[model.route.length > 0], n)
     min_len = min(float(st["minimum_reach"]), float(lengths.sum()))
     trans = annual * float(st["transition_cost"])
+    bore = np.array([o.diameter for o in choices])
+    screened = {}
+
+    def plan_of(found):
+        """The runs found, each class run in the heaviest class its screening needs."""
+        bounds = [float(starts[i]) for i, _, _ in found.runs] + [float(ends[-1])]
+        plan = []
+        for (_, _, k), a, b in zip(found.runs, bounds[:-1], bounds[1:], strict=True):
+            o, j = choices[k], 0
+            if o.family is not None:
+                if k not in screened:
+                    screened[k] = _screened_classes(ctx, model, o)[0]
+                inside = (x0 >= a - 1e-9) & (x0 < b - 1e-9)
+                j = min(int(screened[k][inside].max()), o.size.heads.size - 1)
+            plan.append(Run(a, b, o, j))
+        return plan
+
     allowed = feasible.copy()
     first = best = None
-    best_margin = -np.inf
+    best_margin, stalled = -np.inf, 0
     for _ in range(MAX_SEARCHES):
         try:
             found = dia.stepped_design(lengths, cost, transition_cost=trans,
                                        minimum_length=min_len, feasible=allowed)
         except ValueError:
             break   # no design left that the rules allow
-        bounds = [float(starts[i]) for i, _, _ in found.runs] + [float(ends[-1])]
-        variant = stepped_case(case, bounds, [float(opts[k]) for _, _, k in found.runs])
+        plan = plan_of(found)
+        variant = plan_case(case, plan)
         # the steady margin first (cheap); the whole evaluation once it passes
         margin, x_fail, _ = steady_crown_margin(variant, props, steady, build_route(variant),
                                                 None)
-        first = first or (variant, found)
+        first = first or (variant, found, plan)
         if margin <= best_margin + 1e-3:
-            break   # larger sizes upstream no longer help (an intake too shallow, say)
-        best, best_margin = (variant, found), margin
-        if margin >= 0:
-            break
-        # every size at and upstream of the failing point goes above the smallest there
+            stalled += 1
+            if stalled > PATIENCE:
+                break   # larger sizes upstream no longer help (an intake too shallow, say)
+        else:
+            stalled = 0
+            best, best_margin = (variant, found, plan), margin
+            if margin >= 0:
+                break
+        # every option at and upstream of the failing point goes above the narrowest there
         up = starts <= x_fail + 1e-9
-        allowed[up, :int(found.option[up].min()) + 1] = False
+        allowed[up] &= bore[None, :] > bore[found.option[up]].min()
     if best is None:
         warns.append(Warning_("diameter study", "no stepped design meets the minimum reach "
                               f"length and the wall rules with the sizes {say.m(opts[0], 3)} "
@@ -386,10 +612,12 @@ def _run(case, props, steady, prod, model, opts, uniform_d, reaches, warns, meth
         return None, None, None
     if best_margin < 0:
         best = first   # no repair passes: the cheapest design, shown failing
-    variant, found = best
+    variant, found, plan = best
+    mixed = any(r.option.family is not None for r in plan)
     row, runs, forces = design_row(case, props, steady, prod, model, variant, STEPPED,
-                                   reaches, thrusts=True)
-    if len(found.runs) == 1 and float(opts[found.runs[0][2]]) == float(uniform_d):
+                                   reaches, thrusts=True, plan=plan if mixed else None,
+                                   ctx=ctx)
+    if len(plan) == 1 and not mixed and plan[0].option.diameter == float(uniform_d):
         uni = {**row, "design": UNIFORM}   # the same pipe: evaluated once
     else:
         uni, _, _ = design_row(case, props, steady, prod, model,
@@ -402,7 +630,9 @@ def _run(case, props, steady, prod, model, opts, uniform_d, reaches, warns, meth
                               f"{row['governing check']}; it is shown for comparison, not "
                               "recommended"))
     elif row[cost_key] < uni[cost_key]:
-        sizes_text = " / ".join(say.m(d, 3) for d in runs["diameter [m]"])
+        sizes_text = " / ".join(
+            (f"{m} " if mixed else "") + say.m(d, 3)
+            for m, d in zip(runs["material"], runs["diameter [m]"], strict=True))
         versus = ("the best uniform diameter" if uni["passes the checks"] else
                   "the economic uniform diameter, which fails the checks")
         warns.append(Warning_("diameter study", f"a stepped pipe ({len(runs)} runs, "
@@ -425,4 +655,16 @@ def _run(case, props, steady, prod, model, opts, uniform_d, reaches, warns, meth
                 "costs, the checks of a uniform candidate), its sizes raised upstream of a "
                 "failing steady margin and the search run again while that helps",
                 "R. Bellman (1957), Dynamic Programming, Princeton University Press")
+    if families:
+        methods.add("Stepped diameters, materials", "the materials of "
+                    "diameter_study.stepped_materials offered reach by reach beside the steel "
+                    "sizes: each reach of a PE100 or ductile-iron size in the lowest class that "
+                    "carries the screening's design pressure head (static at the flood level "
+                    "plus the larger of the steel sweep's and the material's own Allievi rise) "
+                    "and stands full vacuum, at its price per metre; a change of material "
+                    "charged as a change of diameter. The design found is run whole with each "
+                    "class run at the wall and bore of its heaviest class (PE: the narrowest "
+                    "bore, on the safe side for the losses and the margin), repeated where a "
+                    "reach needs a heavier class; each reach then priced at its own class",
+                    "ISO 4427-2:2019; EN 545:2010")
     return runs, pd.DataFrame([row, uni, own]), forces

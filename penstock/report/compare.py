@@ -60,9 +60,13 @@ def design_comparison(results, system: str) -> pd.DataFrame:
         dc = results.design_comparison.rename(columns={
             "capital cost, with the changes of diameter [currency]": "capital cost [currency]"})
         for _, row in dc.iterrows():
-            cols[f"steel: {row['design']}"] = dict(
-                row, pipe=f"welded steel, {row['first diameter [m]']:.3f} m to "
-                f"{row['last diameter [m]']:.3f} m, {_changes(row['changes of diameter [-]'])}")
+            only_steel = all(part.startswith("welded steel")
+                             for part in row["pipe along the route"].split("; "))
+            cols[f"{'steel' if only_steel else 'materials'}: {row['design']}"] = dict(
+                row, pipe=(f"welded steel, {row['first diameter [m]']:.3f} m to "
+                           f"{row['last diameter [m]']:.3f} m, "
+                           f"{_changes(row['changes of diameter or material [-]'])}"
+                           if only_steel else row["pipe along the route"]))
     if results.material_comparison is not None:
         for _, row in results.material_comparison.iterrows():
             cols[f"{row['material']}: best uniform size"] = dict(

@@ -201,8 +201,8 @@ def uncertainty_figure(results, system: str):
 
 
 def stepped_figure(results, system: str):
-    """The stepped design over the profile: the pipe, and the diameter and thickest plate
-    of each run beside the best uniform diameter."""
+    """The stepped design over the profile: the pipe, and the diameter and thickest wall
+    of each run (its material named where it changes) beside the best uniform diameter."""
     lu = _units.label(report_unit("m", system))
     tu = _units.label(report_unit("mm", system))
     cv = lambda v, u="m": np.asarray(convert_value(np.asarray(v, float), u, system))  # noqa: E731
@@ -224,7 +224,7 @@ def stepped_figure(results, system: str):
     verdict = ("" if comp.loc["stepped optimum", "passes the checks"] else
                "; it fails the checks, see the design comparison")
     a1.set_title(f"{results.case.name}: stepped design along the route "
-                 f"(dotted: changes of diameter{verdict})")
+                 f"(dotted: changes of diameter or material{verdict})")
     a1.grid(True, alpha=0.3)
     a1.legend(fontsize=8, loc="upper right")
     x = np.column_stack([runs["from chainage [m]"], runs["to chainage [m]"]]).ravel()
@@ -238,9 +238,15 @@ def stepped_figure(results, system: str):
     a2.set_ylabel(f"inside diameter [{lu}]")
     a2.grid(True, alpha=0.3)
     a3 = a2.twinx()
-    a3.plot(cv(x), cv(np.repeat(runs["thickest plate [mm]"].to_numpy(float), 2), "mm"),
-            color="C2", lw=1.2, ls="-.", label="thickest plate of the run (right axis)")
-    a3.set_ylabel(f"plate [{tu}]")
+    a3.plot(cv(x), cv(np.repeat(runs["thickest wall [mm]"].to_numpy(float), 2), "mm"),
+            color="C2", lw=1.2, ls="-.", label="thickest wall of the run (right axis)")
+    a3.set_ylabel(f"wall [{tu}]")
+    if runs["material"].nunique() > 1:   # name each run's material above its diameter
+        for _, run in runs.iterrows():
+            a2.annotate(run["material"], (float(cv(0.5 * (run["from chainage [m]"]
+                                                          + run["to chainage [m]"]))),
+                                          float(cv(run["diameter [m]"]))),
+                        textcoords="offset points", xytext=(0, 4), ha="center", fontsize=7)
     lines = a2.get_lines() + a3.get_lines()
     a2.legend(lines, [ln.get_label() for ln in lines], fontsize=8, loc="lower left")
     _fixed_layout(fig, 0.075, 0.93, 0.08, 0.94)
