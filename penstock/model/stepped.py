@@ -421,7 +421,8 @@ def design_row(case, props, steady, prod, model, variant, name, reaches, own_wal
                                 steel_grade.poisson_ratio,
                                 external_pressure=props.atmospheric_pressure,
                                 safety_factor=w["buckling_safety"],
-                                corrosion_allowance=w["corrosion_allowance"])
+                                corrosion_allowance=w["corrosion_allowance"]) \
+        if steel.any() else {"needs_stiffeners": False}
     beyond = prof.beyond_plates if plan is None else \
         (prof.beyond_plates[:-1] | prof.beyond_plates[1:])[keep][steel]
     failures = []
