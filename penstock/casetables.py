@@ -274,6 +274,12 @@ def _price_table(rd: _Reader, path: Path, family: str) -> pd.DataFrame:
             raise CaseError(name, f"{row}, column 'class'", f"{cls[i] / 1e5:g} bar is not a "
                             f"class of {mat.description}; expected one of " + ", ".join(
                                 f"{c / 1e5:g}" for c in classes) + " bar")
+        if family != "hdpe":
+            top = float(pipeclasses.ductile_iron_highest_class(1e3 * series[j]))
+            if classes[k] > top * (1 + 1e-9):
+                raise CaseError(name, f"{row}, column 'class'", f"{classes[k] / 1e5:g} bar is "
+                                f"above the highest class of DN {1e3 * series[j]:.0f} "
+                                f"(C{top / 1e5:g}); expected at most {top / 1e5:g} bar")
         if not price[i] > 0:
             raise CaseError(name, f"{row}, column 'price'", f"{price[i]:g} is not above zero; "
                             "expected the delivered price per metre")

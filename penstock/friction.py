@@ -722,6 +722,15 @@ ROUGHNESS: dict[str, PipeRoughness] = {
             "channels, 8th ed. (2006), cement-mortar lined iron: from memory"
         ),
     ),
+    "ductile_iron_en545": PipeRoughness(
+        new=0.03e-3,
+        aged=0.15e-3,
+        source=(
+            "cement-mortar lined ductile iron to EN 545, as ductile_iron_cement_lined: "
+            "HR Wallingford & Barr, Tables for the hydraulic design of pipes, sewers and "
+            "channels, 8th ed. (2006), cement-mortar lined iron: from memory"
+        ),
+    ),
     "concrete_smooth": PipeRoughness(
         new=0.3e-3,
         aged=0.6e-3,

@@ -626,14 +626,17 @@ def _registry():
             poisson_ratio=0.45,
             density=960.0,
             roughness=0.007 * _MM,
-            # ISO 4427-2 nominal PN for PE100, C = 1.25 (formula value rounded down to R10).
+            # ISO 4427-2 nominal PN for PE100, C = 1.25 (formula value rounded down to R10),
+            # up to PN25: the standard's pipes are for an allowable operating pressure of at
+            # most 25 bar (EN 12201-2:2024, its European counterpart, scope as published by
+            # BSI), so SDR 6 (PN32 by the formula) is not offered.
             pressure_classes=tuple(
-                p * _BAR for p in (4.0, 5.0, 6.3, 8.0, 10.0, 12.5, 16.0, 20.0, 25.0, 32.0)
+                p * _BAR for p in (4.0, 5.0, 6.3, 8.0, 10.0, 12.5, 16.0, 20.0, 25.0)
             ),
             pressure_class_labels=(
-                "PN4", "PN5", "PN6.3", "PN8", "PN10", "PN12.5", "PN16", "PN20", "PN25", "PN32",
+                "PN4", "PN5", "PN6.3", "PN8", "PN10", "PN12.5", "PN16", "PN20", "PN25",
             ),
-            sdr_series=(41.0, 33.0, 26.0, 21.0, 17.0, 13.6, 11.0, 9.0, 7.4, 6.0),
+            sdr_series=(41.0, 33.0, 26.0, 21.0, 17.0, 13.6, 11.0, 9.0, 7.4),
             sources={
                 "allowable_stress": "ISO 12162:2009 (PE100: MRS = 10 MPa) and ISO 4427-1:2019 "
                 "(C >= 1.25 for water)",
@@ -642,8 +645,9 @@ def _registry():
                 "poisson_ratio": "common practice 0.45 for PE (from memory)",
                 "density": "PE100 black compound 950-960 kg/m^3 (from memory)",
                 "roughness": "common practice 0.0015-0.007 mm for new PE",
-                "pressure_classes": "ISO 4427-2:2019 SDR series and PN for PE100, C = 1.25",
-                "sdr_series": "ISO 4427-2:2019 SDR 41 to SDR 6",
+                "pressure_classes": "ISO 4427-2:2019 SDR series and PN for PE100, C = 1.25, "
+                "to PN25 (PFA up to 25 bar: EN 12201-2:2024 scope, BSI)",
+                "sdr_series": "ISO 4427-2:2019 SDR 41 to SDR 7.4",
             },
         ),
     ]
@@ -707,9 +711,11 @@ STEEL_PIPE_MATERIALS = ("welded_steel", "riveted_steel")
 _MODULUS_SOURCE = {
     "welded_steel": "astm_a36",
     "riveted_steel": "astm_a36",
-    # EN 545, whose classes (to C100) the diameter study's ductile iron uses, so that a
-    # pipe the study proposes passes the case's own wall check
-    "ductile_iron_cement_lined": "ductile_iron_en545",
+    # cement-lined ductile iron as the AWWA standards make it (classes to PC350); EN 545
+    # pipes (classes to C100), which the diameter study's ductile iron uses, are a pipe
+    # material of their own
+    "ductile_iron_cement_lined": "ductile_iron_awwa",
+    "ductile_iron_en545": "ductile_iron_en545",
     "grp": "grp_awwa_c950",
     "hdpe": "hdpe_pe100",
 }
@@ -740,6 +746,37 @@ def pipe_wall_material(pipe_material):
     """
     name = _MODULUS_SOURCE.get(pipe_material)
     return MATERIALS[name] if name is not None else None
+
+
+#: Poisson ratio of a pipe wall whose material the registry does not hold (common
+#: practice for steel, from memory; PVC and concrete pipes fall back on it). [-]
+DEFAULT_POISSON_RATIO = 0.3
+
+
+def pipe_wall_poisson_ratio(pipe_material):
+    """Poisson ratio of a pipe wall, by the case's pipe material name.
+
+    Parameters
+    ----------
+    pipe_material : str
+        A material of the roughness table (``welded_steel``, ``hdpe``, ...). [-]
+
+    Returns
+    -------
+    float
+        The registry material's value (PE100 0.45, ductile iron 0.28, steel 0.3), else
+        :data:`DEFAULT_POISSON_RATIO`. [-]
+
+    Notes
+    -----
+    A higher ratio gives a higher wave speed in an anchored pipe (Wylie & Streeter's
+    restraint factors :math:`1 - \nu^2` and :math:`1 - \nu/2`), so a plastic pipe taken
+    at steel's 0.3 has its rise understated.
+    """
+    material = pipe_wall_material(pipe_material)
+    if material is not None and material.poisson_ratio is not None:
+        return float(material.poisson_ratio)
+    return DEFAULT_POISSON_RATIO
 
 
 def pipe_wall_modulus(pipe_material):

@@ -5,10 +5,11 @@ Pure functions of SI numbers and numpy arrays. Two families are covered:
 
 * **Polyethylene PE100** to ISO 4427-2: sizes by nominal outside diameter, classes by SDR
   (the nominal wall is ``d_n / SDR``), each class's PN from the registry's material
-  (:data:`penstock.materials.MATERIALS` ``"hdpe_pe100"``).
+  (:data:`penstock.materials.MATERIALS` ``"hdpe_pe100"``), re-rated for warm water.
 * **Ductile iron** to EN 545:2010: sizes by DN with the external diameter of the
-  standard, classes C20 to C100 (the class is the allowable operating pressure PFA in
-  bar), the minimum wall of each class from the standard's design rule.
+  standard, classes C20 up to each size's highest, C100 at most (the class is the
+  allowable operating pressure PFA in bar), the minimum wall of each class from the
+  standard's design rule, the cement lining and the bore.
 
 A class carries a design pressure head up to its rated pressure; this module takes no
 allowance for surge above the rating (the standards allow some), which keeps the choice
@@ -27,11 +28,18 @@ __all__ = [
     "PE_OUTSIDE_DIAMETERS",
     "DUCTILE_IRON_OUTSIDE_DIAMETERS",
     "DUCTILE_IRON_SAFETY_FACTOR",
+    "DUCTILE_IRON_LINING",
+    "DUCTILE_IRON_HIGHEST_CLASS",
+    "PE100_TEMPERATURE_RERATING",
     "ILLUSTRATIVE_PRICE_RATIO",
     "pe_wall",
     "pe_bore",
     "ductile_iron_wall",
     "ductile_iron_nominal_wall",
+    "ductile_iron_lining",
+    "ductile_iron_bore",
+    "ductile_iron_highest_class",
+    "pe100_temperature_factor",
     "rated_head",
     "lowest_class",
     "reach_classes",
@@ -64,6 +72,26 @@ DUCTILE_IRON_SAFETY_FACTOR = 3.0
 #: Least wall of a ductile-iron pipe of any class (EN 545:2010's smallest tabulated
 #: minimum wall, 3.0 mm, from the manufacturer's summary named above). [m]
 DUCTILE_IRON_LEAST_WALL = 3.0e-3
+
+#: Nominal thickness of the cement-mortar lining of ductile-iron pipes by the largest DN
+#: of each band: DN 80-300 3 mm, 350-600 5 mm, 700-1200 6 mm, 1400-2000 9 mm, 2200-2600
+#: 12 mm (as printed in a manufacturer's table of the lining, slrpipeline.com, "Cement
+#: Mortar Lining"; ISO 4179 / EN 545). [-] -> [mm]
+DUCTILE_IRON_LINING = ((300, 3.0), (600, 5.0), (1200, 6.0), (2000, 9.0), (2600, 12.0))
+
+#: Highest pressure class [bar] of ductile-iron pipes by the largest DN it applies to: C100
+#: to DN 600, C64 to DN 800, C50 to DN 1000, as printed in the manufacturer's summary of
+#: EN 545:2010 (Duktus) named above; above DN 1000, beyond that table, C40 (from memory,
+#: the safe side of what larger sizes are made in). [-] -> [bar]
+DUCTILE_IRON_HIGHEST_CLASS = ((600, 100.0), (800, 64.0), (1000, 50.0), (2000, 40.0))
+
+#: Re-rating of PE100 pressure pipes for a water temperature above 20 degC: the fraction of
+#: the rated pressure allowed at each temperature [degC], from a published table of the
+#: maximum allowable operating pressure of PE100 pipes by temperature (AS/NZS 4130 pipes,
+#: Enviropipes, "Pressure re-rating due to thermal effects": PN10 carries 100 m at 20 and
+#: 25 degC, 94 m at 30, 89 m at 35, 84 m at 40, 80 m at 45 and 76 m at 50 degC).
+PE100_TEMPERATURE_RERATING = ((20.0, 1.0), (25.0, 1.0), (30.0, 0.94), (35.0, 0.89),
+                              (40.0, 0.84), (45.0, 0.80), (50.0, 0.76))
 
 #: Illustrative delivered price of each family per kilogram of pipe, as a multiple of the
 #: case's steel plate price per kilogram. Not prices: placeholders of the right order
@@ -184,6 +212,102 @@ def ductile_iron_nominal_wall(minimum_wall, nominal_size):
     e = _array("minimum_wall", minimum_wall, positive=True, unit="m")
     dn = _array("nominal_size", nominal_size, positive=True, unit="-")
     return _finish(e + 1e-3 * (1.3 + 0.001 * dn), minimum_wall, nominal_size)
+
+
+def ductile_iron_lining(nominal_size):
+    """Nominal thickness of a ductile-iron pipe's cement-mortar lining
+    (:data:`DUCTILE_IRON_LINING`).
+
+    Parameters
+    ----------
+    nominal_size : numeric
+        Nominal size DN (a number, e.g. 600), at most 2600. [-]
+
+    Returns
+    -------
+    numeric
+        Lining thickness. [m]
+    """
+    dn = _array("nominal_size", nominal_size, positive=True, unit="-")
+    tops = np.array([t for t, _ in DUCTILE_IRON_LINING], float)
+    if np.any(dn > tops[-1]):
+        raise ValueError(f"nominal_size above DN {tops[-1]:.0f} has no lining in the table.")
+    mm = np.array([m for _, m in DUCTILE_IRON_LINING], float)
+    return _finish(1e-3 * mm[np.searchsorted(tops, dn, side="left")], nominal_size)
+
+
+def ductile_iron_bore(outside_diameter, nominal_wall, nominal_size):
+    r"""Bore of a cement-lined ductile-iron pipe: the smaller of DN and the lined bore.
+
+    Parameters
+    ----------
+    outside_diameter : numeric
+        External diameter DE. [m]
+    nominal_wall : numeric
+        Nominal wall of the iron (:func:`ductile_iron_nominal_wall`). [m]
+    nominal_size : numeric
+        Nominal size DN (a number, e.g. 600). [-]
+
+    Returns
+    -------
+    numeric
+        :math:`\min(DN, DE - 2 e - 2 e_{lining})` [m]: the narrower bore, the safe side
+        for the losses, the pressure margin and the velocity of the water hammer (a heavy
+        class's thick wall leaves less than DN, DN 600 C100 about 577 mm).
+    """
+    de = _array("outside_diameter", outside_diameter, positive=True, unit="m")
+    e = _array("nominal_wall", nominal_wall, positive=True, unit="m")
+    dn = _array("nominal_size", nominal_size, positive=True, unit="-")
+    lined = de - 2.0 * e - 2.0 * np.asarray(ductile_iron_lining(dn))
+    if np.any(lined <= 0):
+        raise ValueError("the wall and lining leave no bore; expected a wall below DE/2.")
+    return _finish(np.minimum(1e-3 * dn, lined), outside_diameter, nominal_wall, nominal_size)
+
+
+def ductile_iron_highest_class(nominal_size):
+    """Highest pressure class of a ductile-iron size (:data:`DUCTILE_IRON_HIGHEST_CLASS`).
+
+    Parameters
+    ----------
+    nominal_size : numeric
+        Nominal size DN (a number), at most 2000. [-]
+
+    Returns
+    -------
+    numeric
+        Its allowable operating pressure PFA. [Pa]
+    """
+    dn = _array("nominal_size", nominal_size, positive=True, unit="-")
+    tops = np.array([t for t, _ in DUCTILE_IRON_HIGHEST_CLASS], float)
+    if np.any(dn > tops[-1]):
+        raise ValueError(f"nominal_size above DN {tops[-1]:.0f} is outside EN 545.")
+    bar = np.array([c for _, c in DUCTILE_IRON_HIGHEST_CLASS], float)
+    return _finish(1e5 * bar[np.searchsorted(tops, dn, side="left")], nominal_size)
+
+
+def pe100_temperature_factor(temperature):
+    """Fraction of a PE100 pipe's rated pressure allowed at a water temperature
+    (:data:`PE100_TEMPERATURE_RERATING`, linear between its temperatures).
+
+    Parameters
+    ----------
+    temperature : numeric
+        Water (pipe wall) temperature, at most 50 degC. [degC]
+
+    Returns
+    -------
+    numeric
+        Re-rating factor, 1 up to 25 degC. [-]
+    """
+    t = np.asarray(temperature, dtype=float)
+    if np.any(~np.isfinite(t)):
+        raise ValueError("temperature must be finite [degC].")
+    tt = np.array([a for a, _ in PE100_TEMPERATURE_RERATING])
+    ff = np.array([f for _, f in PE100_TEMPERATURE_RERATING])
+    if np.any(t > tt[-1]):
+        raise ValueError(f"temperature above {tt[-1]:g} degC is beyond PE100's re-rating "
+                         "table [degC].")
+    return _finish(np.interp(t, tt, ff), temperature)
 
 
 def rated_head(rated_pressure, density=1000.0):

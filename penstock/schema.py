@@ -406,8 +406,9 @@ SECTIONS: tuple[Section, ...] = (
               optional=True, columns=(("time", "time"), ("opening", "fraction"))),
         Field("pipe_modulus", "stress", "Young's modulus of the pipe wall; defaults to the "
               "material's value.", optional=True, minimum=1e8, maximum=5e11),
-        Field("poisson_ratio", "dimensionless", "Poisson ratio of the pipe wall.",
-              default=0.3, minimum=0.0, maximum=0.5),
+        Field("poisson_ratio", "dimensionless", "Poisson ratio of the pipe wall, for the "
+              "wave speed; defaults to each pipe's material value (0.3 where the material "
+              "registry has none).", optional=True, minimum=0.0, maximum=0.5),
         Field("restraint", "choice", "Axial restraint of the pipe, for the wave speed "
               "(Wylie & Streeter's three cases).", default="expansion_joints",
               choices=("expansion_joints", "anchored", "upstream_anchor")),

@@ -164,7 +164,7 @@ def test_a_thin_plastic_pipe_fails_its_own_check(tmp_path):
     r = penstock.run_case(penstock.load_case(folder), samples=0)
     row = r.own_wall_checks.iloc[1]
     assert row["material"] == "hdpe" and row["verdict"] == "FAILS"
-    assert row["lowest class carrying the design head"] == "none: above PN32"
+    assert row["lowest class carrying the design head"] == "none: above PN25"
     # PE100 design stress 8 MPa on the mean diameter 1.06 m: 2 * 8 MPa * 0.06 / 1.06;
     # cold water's density within 0.1 % of 1000 kg/m^3
     rating = 2 * 8e6 * 0.06 / 1.06
@@ -215,13 +215,16 @@ def test_fitting_thrusts_of_the_demo(alder):
 
 @pytest.mark.parametrize("material, wall, verdict, why", [
     # PE100: the hoop rating of a 400 mm wall on a 1.0 m bore, 2·8 MPa·0.4/1.4 = 466 m,
-    # exceeds the 388 m, but no PN class of ISO 4427 (highest PN32, 326 m) carries it
-    ("hdpe", "400 mm", "FAILS", "at most PN32"),
+    # exceeds the 388 m, but no PN class of ISO 4427 (highest PN25, 255 m) carries it
+    ("hdpe", "400 mm", "FAILS", "at most PN25"),
     # ductile iron to EN 545 (classes to C100, 1,020 m): a 10 mm wall on DE 1.02 m is
     # rated 2·140 MPa·0.01/1.02 = 280 m by the hoop rule, below the 388 m
-    ("ductile_iron_cement_lined", "10 mm", "FAILS", "outside diameter"),
+    ("ductile_iron_en545", "10 mm", "FAILS", "outside diameter"),
     # and a 30 mm wall carries it (the hoop rule on DE 1.06 m gives about 810 m)
-    ("ductile_iron_cement_lined", "30 mm", "passes", "outside diameter"),
+    ("ductile_iron_en545", "30 mm", "passes", "outside diameter"),
+    # the same wall of an AWWA pipe (ANSI/AWWA C150, highest class PC350, 2.41 MPa, about
+    # 246 m) carries no more than its highest class
+    ("ductile_iron_cement_lined", "30 mm", "FAILS", "at most PC350"),
     # GRP: no allowable stress in the registry, so the wall is not rated (a note)
     ("grp", "30 mm", "not checked: no strength data for grp", ""),
 ])
@@ -243,3 +246,61 @@ def test_own_wall_check_of_other_materials(tmp_path, material, wall, verdict, wh
             "highest design pressure head at the invert [m]"]
         if "at most" in why:
             assert row["lowest class carrying the design head"].startswith("none: above")
+
+
+@pytest.mark.parametrize(("material", "given", "nu"), [
+    ("hdpe", None, 0.45), ("ductile_iron_cement_lined", None, 0.28), ("welded_steel", None, 0.3),
+    ("hdpe", 0.35, 0.35)])
+def test_each_pipe_takes_its_own_poisson_ratio_for_the_wave_speed(material, given, nu):
+    """An anchored PE pipe at steel's Poisson ratio had its wave speed, and so its rise,
+    understated: without surge.poisson_ratio each pipe takes its material's (PE100 0.45 as
+    the registry holds it), with it the value given. The wave speed is Korteweg's with
+    Wylie & Streeter's anchored factor 1 - nu^2, from penstock.wavespeed (its own tests
+    check it against published values)."""
+    import copy
+    import dataclasses
+
+    import penstock
+    from penstock import water, wavespeed
+    from penstock.model import hammer
+
+    case = copy.copy(penstock.load_case(CASES / "alder-gorge-high-head"))
+    case.segments = [dataclasses.replace(s, material=material, wall_thickness=0.06)
+                     for s in case.segments]
+    case.surge = dict(case.surge, restraint="anchored", poisson_ratio=given,
+                      wave_speed=None, pipe_modulus=None)
+    props = water.water_properties(case.temperature, case.altitude)
+    from penstock.materials import pipe_wall_modulus
+    from penstock.model.core import Methods
+    speeds, _ = hammer.wave_speeds(case, props, [], Methods())
+    for a, seg in zip(speeds, case.segments, strict=True):
+        assert a == pytest.approx(float(wavespeed.pipe_wave_speed(
+            props.bulk_modulus, props.density, seg.diameter, 0.06,
+            pipe_wall_modulus(material), nu, case="anchored")), rel=1e-12)
+
+
+def test_a_pe_pipe_in_warm_water_carries_less(tmp_path):
+    """The own wall check re-rates PE100 for the water's temperature, as the material
+    study does: at 38 degC the allowable head of the same wall is 0.86 of its 20 degC
+    rating (pipeclasses.pe100_temperature_factor, checked against a published table)."""
+    import copy
+
+    from conftest import copy_demo, edit_file
+
+    import penstock
+
+    folder = copy_demo("alder-gorge-high-head", tmp_path)
+    edit_file(folder / "site.toml",
+              'diameter = "1.0 m"\nmaterial = "welded_steel"\nwall_thickness = "22 mm"',
+              'diameter = "1.0 m"\nmaterial = "hdpe"\nwall_thickness = "60 mm"')
+    case = penstock.load_case(folder)
+    warm = copy.copy(case)
+    warm.temperature = 38.0
+    rows = [penstock.run_case(c, samples=0).own_wall_checks.iloc[1] for c in (case, warm)]
+    assert "re-rated" not in rows[0]["rating basis"]
+    assert "re-rated ×0.86 for 38 °C" in rows[1]["rating basis"]
+    # the hoop rating on the mean diameter, in heads of each case's own water
+    from penstock import water
+    rho = [water.water_properties(c.temperature, c.altitude).density for c in (case, warm)]
+    assert rows[1]["allowable pressure head [m]"] * rho[1] == pytest.approx(
+        0.86 * rows[0]["allowable pressure head [m]"] * rho[0], rel=1e-9)

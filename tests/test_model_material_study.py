@@ -169,3 +169,45 @@ def test_a_price_table_sets_the_sizes_classes_and_prices(tmp_path):
     notes = r.cautions["message"]
     note = notes[notes.str.contains("illustrative defaults")].iloc[0]
     assert "ductile iron" in note and "PE100" not in note
+
+
+def test_ductile_iron_stands_vacuum_on_its_minimum_wall():
+    """EN 545 guarantees only the minimum wall: the vacuum check takes e_min on its mean
+    diameter DE - e_min (a nominal wall on DN + e once passed DN 2000 C20 at 0.57 where
+    the minimum wall gives 1.12), and the lightest class allowed is the first that
+    stands it."""
+    from penstock import pipewall
+
+    from conftest import study_parts
+
+    case, props, _, prod, model, _, _ = study_parts("millrace-flats-low-head")
+    mat = MATERIALS["ductile_iron_en545"]
+    ctx = material_study._Context(case, props, prod, model)
+    for size in material_study.sizes("ductile_iron", case, props):
+        dn = float(size.label.removeprefix("DN "))
+        e_min = np.asarray(pipeclasses.ductile_iron_wall(size.pressures, size.outside,
+                                                         mat.tensile_strength))
+        chk = pipewall.vacuum_check(e_min, size.outside - 2 * e_min, mat.elastic_modulus,
+                                    mat.poisson_ratio,
+                                    external_pressure=props.atmospheric_pressure,
+                                    safety_factor=case.wall["buckling_safety"])
+        least, use = material_study._least_for_vacuum(ctx, "ductile_iron", size)
+        assert use == pytest.approx(np.asarray(chk["utilisation"]), rel=1e-12)
+        ok = ~np.asarray(chk["needs_stiffeners"], bool)
+        assert least == (int(np.argmax(ok)) if ok.any() else size.bore.size), dn
+        # its classes stop at the standard's highest for the size
+        assert size.pressures.max() <= pipeclasses.ductile_iron_highest_class(dn)
+
+
+def test_pe100_classes_are_rerated_for_warm_water(demo_run):
+    """A PE100 class carries less in warm water: at 38 degC every class's head is 0.86 of
+    its 20 degC rating (pipeclasses.pe100_temperature_factor, checked against a published
+    table), in the material study and in the case's own wall check alike."""
+    case, _ = demo_run("millrace-flats-low-head", samples=0)
+    warm = copy.copy(case)
+    warm.temperature = 38.0
+    props, props_w = _props(case), _props(warm)
+    cold = material_study.sizes("hdpe", case, props)[5]
+    hot = material_study.sizes("hdpe", warm, props_w)[5]
+    assert hot.heads * props_w.density == pytest.approx(0.86 * cold.heads * props.density,
+                                                        rel=1e-12)

@@ -103,3 +103,63 @@ def test_rated_head_and_mass():
         2.0 * 1.6 * 960 * np.pi * 0.53 * 0.03)
     with pytest.raises(ValueError, match="illustrative"):
         pc.illustrative_price_per_metre("grp", 0.5, 0.03, 1900.0, 1.6)
+
+
+# Nominal cement-mortar lining of ductile-iron pipes [mm], as printed in a manufacturer's
+# table ("Cement Mortar Lining", slrpipeline.com; ISO 4179 / EN 545): DN 80-300 3 mm,
+# 350-600 5 mm, 700-1200 6 mm, 1400-2000 9 mm.
+@pytest.mark.parametrize(("dn", "mm"), [(80, 3.0), (300, 3.0), (350, 5.0), (600, 5.0),
+                                        (700, 6.0), (1200, 6.0), (1400, 9.0), (2000, 9.0)])
+def test_ductile_iron_lining_is_the_published_table(dn, mm):
+    assert pc.ductile_iron_lining(dn) == pytest.approx(mm * _MM)
+
+
+def test_a_heavy_ductile_iron_class_has_a_bore_below_dn():
+    """DN 600 C100: minimum wall 21.9 mm by EN 545's rule (the Duktus table prints 21.9),
+    nominal 21.9 + 1.9 mm, lining 5 mm: 635 - 2·23.8 - 2·5 = 577 mm, 4 % below DN, and a
+    light class keeps DN (its lined bore is wider)."""
+    rm = MATERIALS["ductile_iron_en545"].tensile_strength
+    e = pc.ductile_iron_nominal_wall(pc.ductile_iron_wall(100 * _BAR, 0.635, rm), 600)
+    assert pc.ductile_iron_bore(0.635, e, 600) == pytest.approx(0.5774, abs=2e-4)
+    e20 = pc.ductile_iron_nominal_wall(pc.ductile_iron_wall(20 * _BAR, 1.668, rm), 1600)
+    assert pc.ductile_iron_bore(1.668, e20, 1600) == pytest.approx(1.600)
+
+
+# The highest class printed for each DN in the manufacturer's summary of EN 545:2010
+# (Duktus): class 100 to DN 600, class 64 to DN 800, class 50 to DN 1000.
+@pytest.mark.parametrize(("dn", "bar"), [(80, 100), (600, 100), (700, 64), (800, 64),
+                                         (900, 50), (1000, 50)])
+def test_ductile_iron_highest_class_is_the_published_range(dn, bar):
+    assert pc.ductile_iron_highest_class(dn) == pytest.approx(bar * _BAR)
+
+
+# Maximum allowable operating pressure of PE100 pipes [m head] by temperature, as
+# published (AS/NZS 4130 pipes, Enviropipes, "Pressure re-rating due to thermal effects").
+RERATING_TABLE = {
+    # degC: PN4, PN6.3, PN8, PN10, PN12.5, PN16, PN20, PN25
+    20: (40, 63, 80, 100, 125, 160, 200, 250), 25: (40, 63, 80, 100, 125, 160, 200, 250),
+    30: (38, 59, 75, 94, 118, 150, 188, 235), 35: (36, 56, 71, 89, 116, 143, 179, 224),
+    40: (34, 53, 68, 84, 106, 135, 169, 221), 45: (32, 50, 64, 80, 100, 127, 159, 199),
+    50: (30, 48, 60, 76, 95, 121, 151, 189),
+}
+RERATING_PN = (4.0, 6.3, 8.0, 10.0, 12.5, 16.0, 20.0, 25.0)
+
+
+@pytest.mark.parametrize("temperature", sorted(RERATING_TABLE))
+def test_pe100_rerating_follows_the_published_table(temperature):
+    """Each class's re-rated head is the table's to its rounding (1 m, and the factor's
+    two decimals: 0.005 of the rated head), or below it (the safe side) in the two cells that lie above their column's trend (35 degC PN12.5 116 m and
+    40 degC PN25 221 m, against 111 m and 211 m at the PN10 column's fraction)."""
+    f = pc.pe100_temperature_factor(temperature)
+    for pn, table in zip(RERATING_PN, RERATING_TABLE[temperature], strict=True):
+        ours = f * pn * 10.0
+        tol = 0.5 + 0.005 * pn * 10.0
+        assert ours <= table + tol, (temperature, pn)
+        if (temperature, pn) not in ((35, 12.5), (40, 25.0)):
+            assert ours == pytest.approx(table, abs=tol), (temperature, pn)
+
+
+def test_pe100_rerating_refuses_water_above_its_table():
+    assert pc.pe100_temperature_factor(10.0) == 1.0
+    with pytest.raises(ValueError, match="above 50"):
+        pc.pe100_temperature_factor(55.0)

@@ -17,7 +17,17 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from .. import friction, gradeline, materials, pipewall, surge, transients, turbines, wavespeed
+from .. import (
+    friction,
+    gradeline,
+    materials,
+    pipeclasses,
+    pipewall,
+    surge,
+    transients,
+    turbines,
+    wavespeed,
+)
 from ..errors import CaseError
 from ..schema import CASE_FILE
 from ..turbines import TURBINE_TYPES
@@ -102,9 +112,10 @@ def wave_speeds(case, props, warns, methods):
         else:
             if t is None:
                 t = float(pipewall.minimum_handling_thickness(seg.diameter))
+            nu = s["poisson_ratio"] if s["poisson_ratio"] is not None else \
+                materials.pipe_wall_poisson_ratio(seg.material)
             a = float(wavespeed.pipe_wave_speed(props.bulk_modulus, props.density,
-                                                seg.diameter, t, e, s["poisson_ratio"],
-                                                case=s["restraint"]))
+                                                seg.diameter, t, e, nu, case=s["restraint"]))
         if s["air_content"] > 0 and not rigid:
             z_mid = float(np.interp(0.5 * (seg.start + seg.end), case.profile["chainage"],
                                     case.profile["elevation"]))
@@ -642,7 +653,7 @@ def _segment_peak(x, head, start, end):
 
 #: What the wall check assumes of each family beyond its allowable stress.
 _WALL_NOTES = {
-    "hdpe": "PE100 (MRS 10 MPa, C 1.25) at 20 °C assumed",
+    "hdpe": "PE100 (MRS 10 MPa, C 1.25), rated at 20 °C",
     "ductile_iron": "wall as given, to be the net wall (less service allowance and casting "
                     "tolerance), no lining counted",
 }
@@ -678,17 +689,22 @@ def own_wall_checks(case, props, design_x, design_head, warns, methods):
                "at chainage [m]": at, "utilisation [%]": np.nan, "verdict": "",
                "lowest class carrying the design head": ""}
         top_class = None
+        # PE100 is rated at 20 degC: its classes and stress re-rated for the water's
+        factor = (float(pipeclasses.pe100_temperature_factor(case.temperature))
+                  if kind == "hdpe" else 1.0)
         if mat is not None and mat.pressure_classes:
-            label = pipewall.class_for_head(need, mat.pressure_classes,
-                                            mat.pressure_class_labels, props.density)
-            top = int(np.argmax(mat.pressure_classes))
+            classes = tuple(factor * p for p in mat.pressure_classes)
+            label = pipewall.class_for_head(need, classes, mat.pressure_class_labels,
+                                            props.density)
+            top = int(np.argmax(classes))
             top_class = (mat.pressure_class_labels[top], float(pipewall.class_head(
-                mat.pressure_classes[top], props.density)))
+                classes[top], props.density)))
             row["lowest class carrying the design head"] = (
                 label if label is not None else f"none: above {top_class[0]}")
         is_steel = kind == "steel"
         sigma = (steel.allowable_stress if is_steel else
-                 None if mat is None else mat.allowable_stress)
+                 None if mat is None or mat.allowable_stress is None
+                 else factor * mat.allowable_stress)
         if seg.wall_thickness is None or kind not in pipewall.WALL_RATING_BASIS or \
                 sigma is None:
             row["verdict"] = ("not checked: no wall thickness" if seg.wall_thickness is None
@@ -710,6 +726,8 @@ def own_wall_checks(case, props, design_x, design_head, warns, methods):
         basis_text = f"{basis} diameter" + (f", at most {top_class[0]}" if capped else "")
         if kind in _WALL_NOTES:
             basis_text += f"; {_WALL_NOTES[kind]}"
+        if factor != 1.0:
+            basis_text += f", re-rated ×{factor:.3g} for {case.temperature:g} °C water"
         row.update({"allowable stress [MPa]": float(sigma) / 1e6, "rating basis": basis_text,
                     "allowable pressure head [m]": allow_head, "utilisation [%]": use,
                     "verdict": "passes" if need <= allow_head else "FAILS"})
@@ -730,7 +748,8 @@ def own_wall_checks(case, props, design_x, design_head, warns, methods):
                 "segment: p = 2·σ_allow·E_j·(t − c)/D_b, D_b the inside diameter for steel "
                 "(the tool's own design rule, with the case's grade, joint efficiency and "
                 "corrosion allowance), the mean diameter for PE (ISO 4427-2's "
-                "p = 2σ/(SDR − 1), PE100 at 20 °C) and the outside diameter for ductile iron "
+                "p = 2σ/(SDR − 1), PE100, its stress and classes re-rated above 25 °C by a "
+                "published PE100 temperature table) and the outside diameter for ductile iron "
                 "(the wall as given, taken as net of allowances); a material sold in "
                 "pressure classes carries no more than its highest class; GRP, PVC and "
                 "concrete are not checked (no strength data)",

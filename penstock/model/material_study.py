@@ -38,7 +38,7 @@ import pandas as pd
 
 from .. import economics, friction, gradeline, pipeclasses, pipewall, surge, wavespeed
 from ..constants import J_PER_KWH, J_PER_MWH
-from ..materials import MATERIALS, pipe_wall_modulus
+from ..materials import MATERIALS, pipe_wall_modulus, pipe_wall_poisson_ratio
 from ..route import build_route
 from .core import Say, Warning_
 
@@ -48,7 +48,7 @@ FAMILIES = {
     "hdpe": {"material": "hdpe_pe100", "pipe_material": "hdpe", "name": "PE100",
              "standard": "ISO 4427-2 (PE100, C = 1.25)"},
     "ductile_iron": {"material": "ductile_iron_en545",
-                     "pipe_material": "ductile_iron_cement_lined", "name": "ductile iron",
+                     "pipe_material": "ductile_iron_en545", "name": "ductile iron",
                      "standard": "EN 545:2010 pressure classes"},
 }
 #: Sizes evaluated in full at most per material, cheapest first.
@@ -69,10 +69,13 @@ class Size:
     label: str
     outside: float
     bore: np.ndarray      # per class [m]
-    wall: np.ndarray      # per class, the wall the wave speed and vacuum check use [m]
-    heads: np.ndarray     # rated pressure heads [m]
+    wall: np.ndarray      # per class, the wall the wave speed uses (nominal) [m]
+    heads: np.ndarray     # rated pressure heads, re-rated for the water's temperature [m]
     labels: tuple
     price: np.ndarray     # per class [currency/m]
+    pressures: np.ndarray  # rated pressures of the standard (PN, PFA) [Pa]
+    vacuum_wall: np.ndarray    # per class, the least wall the standard allows [m]
+    vacuum_inside: np.ndarray  # per class, inside diameter at that wall, OD - 2 e_min [m]
     quoted: bool = False  # prices from the case's table (else illustrative)
 
     def only(self, keep, price):
@@ -80,7 +83,9 @@ class Size:
         return dataclasses.replace(
             self, bore=self.bore[keep], wall=self.wall[keep], heads=self.heads[keep],
             labels=tuple(np.asarray(self.labels, dtype=object)[keep]),
-            price=np.asarray(price, float), quoted=True)
+            pressures=self.pressures[keep], vacuum_wall=self.vacuum_wall[keep],
+            vacuum_inside=self.vacuum_inside[keep], price=np.asarray(price, float),
+            quoted=True)
 
 
 #: The case key of each family's price table.
@@ -94,46 +99,53 @@ def sizes(family, case, props):
     out = _all_sizes(family, case, props)
     if table is None:
         return [sz for sz, _ in out]
-    mat = MATERIALS[FAMILIES[family]["material"]]
-    classes = np.asarray(mat.pressure_classes, float)
     priced = []
     for sz, nominal in out:
         rows = table[np.isclose(table["size"].to_numpy(), nominal, rtol=0, atol=1e-9)]
         if rows.empty:
             continue
-        keep = np.isin(classes, rows["class"].to_numpy())
-        price = rows.set_index("class").loc[classes[keep], "price"].to_numpy()
+        keep = np.isin(sz.pressures, rows["class"].to_numpy())
+        price = rows.set_index("class").loc[sz.pressures[keep], "price"].to_numpy()
         priced.append(sz.only(keep, price))
     return priced
 
 
 def _all_sizes(family, case, props):
     """Every size of the family with all its classes and illustrative prices, each with its
-    nominal size as a price table gives it (PE: outside diameter, ductile iron: DN) [m]."""
+    nominal size as a price table gives it (PE: outside diameter, ductile iron: DN) [m].
+
+    PE100's classes are re-rated for the case's water temperature
+    (:func:`penstock.pipeclasses.pe100_temperature_factor`); a ductile-iron size offers
+    the classes up to its highest (:func:`penstock.pipeclasses.ductile_iron_highest_class`)
+    and its bore is the narrower of DN and the lined bore."""
     f = FAMILIES[family]
     mat = MATERIALS[f["material"]]
-    heads = np.asarray(pipeclasses.rated_head(np.asarray(mat.pressure_classes),
-                                              props.density))
+    pressures = np.asarray(mat.pressure_classes, float)
+    labels = np.asarray(mat.pressure_class_labels, dtype=object)
     per_kg = case.costs["steel_price"] / 1000.0
     out = []
     if family == "hdpe":
+        factor = float(pipeclasses.pe100_temperature_factor(case.temperature))
+        heads = np.asarray(pipeclasses.rated_head(pressures * factor, props.density))
         sdr = np.asarray(mat.sdr_series, float)
         for od in pipeclasses.PE_OUTSIDE_DIAMETERS:
             bore = np.asarray(pipeclasses.pe_bore(od, sdr))
-            wall = np.asarray(pipeclasses.pe_wall(od, sdr))
+            wall = np.asarray(pipeclasses.pe_wall(od, sdr))   # e_n, the least wall
             out.append((Size(family, f"OD {1e3 * od:.0f} mm", float(od), bore, wall, heads,
-                             mat.pressure_class_labels, _price(family, bore, wall, mat, per_kg)),
-                        float(od)))
+                             tuple(labels), _price(family, bore, wall, mat, per_kg),
+                             pressures, wall, bore), float(od)))
     else:
         for dn, de in pipeclasses.DUCTILE_IRON_OUTSIDE_DIAMETERS.items():
-            e_min = np.asarray(pipeclasses.ductile_iron_wall(
-                np.asarray(mat.pressure_classes), 1e-3 * de, mat.tensile_strength))
+            keep = pressures <= float(pipeclasses.ductile_iron_highest_class(dn)) * (1 + 1e-9)
+            p = pressures[keep]
+            e_min = np.asarray(pipeclasses.ductile_iron_wall(p, 1e-3 * de,
+                                                             mat.tensile_strength))
             wall = np.asarray(pipeclasses.ductile_iron_nominal_wall(e_min, dn))
-            # the cement-lined bore taken as DN (common practice)
-            bore = np.full(wall.size, 1e-3 * dn)
+            bore = np.asarray(pipeclasses.ductile_iron_bore(1e-3 * de, wall, dn))
+            heads = np.asarray(pipeclasses.rated_head(p, props.density))
             out.append((Size(family, f"DN {dn}", 1e-3 * de, bore, wall, heads,
-                             mat.pressure_class_labels, _price(family, bore, wall, mat, per_kg)),
-                        1e-3 * dn))
+                             tuple(labels[keep]), _price(family, bore, wall, mat, per_kg), p,
+                             e_min, 1e-3 * de - 2.0 * e_min), 1e-3 * dn))
     return out
 
 
@@ -177,10 +189,12 @@ def _modulus(family):
 
 
 def _least_for_vacuum(ctx, family, size):
-    """Index of the lightest class whose wall stands full vacuum unstiffened (len if none),
-    and the utilisation of every class [-]."""
+    """Index of the lightest class whose least wall (:attr:`Size.vacuum_wall` on
+    :attr:`Size.vacuum_inside`: ductile iron's minimum wall on its mean diameter DE - e_min)
+    stands full vacuum unstiffened (len if none), and the utilisation of every class [-]."""
     mat = MATERIALS[FAMILIES[family]["material"]]
-    chk = pipewall.vacuum_check(size.wall, size.bore, _modulus(family), mat.poisson_ratio,
+    chk = pipewall.vacuum_check(size.vacuum_wall, size.vacuum_inside, _modulus(family),
+                                mat.poisson_ratio,
                                 external_pressure=ctx.props.atmospheric_pressure,
                                 safety_factor=ctx.case.wall["buckling_safety"])
     ok = ~np.asarray(chk["needs_stiffeners"], bool)
@@ -280,7 +294,8 @@ def screen(ctx, family, size, steady):
 
 def material_case(case, family, bore, wall):
     """A copy of the case with every pipe segment of this family, bore and wall; the
-    case's own wave speed or pipe modulus (given for its own pipe) no longer applies."""
+    case's own wave speed, pipe modulus and Poisson ratio (given for its own pipe) no
+    longer apply: the water hammer takes the family's."""
     pm = FAMILIES[family]["pipe_material"]
     new, growth = roughness(case, family)
     c = copy.copy(case)
@@ -288,7 +303,7 @@ def material_case(case, family, bore, wall):
                                       wall_thickness=float(wall),
                                       roughness_growth=growth if growth > 0 else None)
                   for s in case.segments]
-    c.surge = dict(case.surge, wave_speed=None, pipe_modulus=None)
+    c.surge = dict(case.surge, wave_speed=None, pipe_modulus=None, poisson_ratio=None)
     return c
 
 
@@ -389,7 +404,10 @@ def steel_row(case, props, row):
     run_wall = max(s.wall_thickness if s.wall_thickness is not None else
                    float(pipewall.minimum_handling_thickness(d)) for s in case.segments)
     a = float(wavespeed.pipe_wave_speed(props.bulk_modulus, props.density, d, run_wall,
-                                        steel.elastic_modulus, case.surge["poisson_ratio"],
+                                        steel.elastic_modulus,
+                                        case.surge["poisson_ratio"]
+                                        if case.surge["poisson_ratio"] is not None
+                                        else pipe_wall_poisson_ratio("welded_steel"),
                                         case=case.surge["restraint"]))
     keys = ("capital cost [currency]", "energy lost [MWh/year]", "mean annual energy [MWh]",
             "value of energy lost [currency/year]", "annualized capital [currency/year]",
@@ -467,15 +485,19 @@ def run(case, props, steady, prod, model, steel, reaches, warns, methods):
     methods.add("Diameter study, materials", "each material at its own best uniform size: "
                 "every reach in the lowest class that carries its design pressure head (static "
                 "at the flood level plus the rise, no surge allowance above the rating) and "
-                "whose wall stands full vacuum unstiffened; sizes screened with Allievi's rise "
+                "whose least wall stands full vacuum unstiffened (ductile iron: the minimum "
+                "wall on its mean diameter DE − e_min); PE100 classes re-rated for the "
+                "water's temperature; sizes screened with Allievi's rise "
                 "at the stiffest class's wave speed, the cheapest then run whole (load "
                 "rejections by the method of characteristics with the wall of the heaviest "
                 "class the screening chose, repeated where a heavier class is needed) with "
                 "the steel candidates' checks; "
                 "PE walls d_n/SDR, ductile-iron walls e = PFA·SF·DE/(2·R_m + PFA·SF) with SF 3 "
-                "plus the casting tolerance (1.3 + 0.001·DN) mm, the lined bore taken as DN; "
-                "roughness growing linearly from new to aged over the service life",
+                "plus the casting tolerance (1.3 + 0.001·DN) mm for the wave speed, classes up "
+                "to each DN's highest; the bore the narrower of DN and DE − 2·(wall + "
+                "lining); roughness growing linearly from new to aged over the service life",
                 "ISO 4427-2:2019; EN 545:2010 (the wall rule and tolerance from memory, the "
-                "walls checked against the standard's table); Timoshenko & Gere (1961) for "
-                "the vacuum check")
+                "walls and class ranges checked against a manufacturer's summary of the "
+                "standard's table); a published PE100 re-rating table (AS/NZS 4130 pipes); "
+                "Timoshenko & Gere (1961) for the vacuum check")
     return pd.DataFrame(rows) if rows else None

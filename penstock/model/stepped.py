@@ -272,7 +272,7 @@ def stepped_case(case, bounds, diameters, sliver=None, materials=None):
         i += 1
     c = _with_segments(case, parts)
     if any(m is not None for m in materials):
-        c.surge = dict(case.surge, wave_speed=None, pipe_modulus=None)
+        c.surge = dict(case.surge, wave_speed=None, pipe_modulus=None, poisson_ratio=None)
     return c
 
 
