@@ -323,6 +323,16 @@ def _escape(d: Path):
     edit_file(d / TOML, 'profile = "profile.csv"', 'profile = "../x.csv"')
 
 
+def _di_prices(rows: str):
+    """A ductile-iron price table with these data rows, named by the case."""
+    def mutate(d: Path):
+        (d / "di.csv").write_text("size [mm],class [bar],price [/m]\n" + rows,
+                                  encoding="utf-8")
+        edit_file(d / TOML, "[economics]", '[diameter_study]\nductile_iron_prices = "di.csv"'
+                  "\n\n[economics]")
+    return mutate
+
+
 def _prices(rows: str):
     """A PE100 price table with these data rows, named by the case."""
     def mutate(d: Path):
@@ -565,6 +575,9 @@ CATALOGUE = [
         edit_file(d / TOML, "[economics]", '[diameter_study]\nmaterials = ["welded_steel", '
                   '"hdpe"]\nductile_iron_prices = "di.csv"\n\n[economics]')), TOML,
         ("diameter_study.ductile_iron_prices", "'ductile_iron' is not among")),
+    Bad("price-class-above-the-dn-range", MILLRACE, _di_prices("1200,30,900\n1200,64,1500\n"),
+        "di.csv", ("row 3", "column 'class'", "64 bar is above the highest class of DN 1200",
+                   "C40"), csv_row="1200,64,1500"),
     Bad("minimum-reach-longer-than-route", MILLRACE, _ed(TOML, "[economics]",
         '[diameter_study]\nminimum_reach = "2 km"\n\n[economics]'), TOML,
         ("diameter_study.minimum_reach", "longer than the route")),
