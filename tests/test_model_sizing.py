@@ -190,3 +190,30 @@ def test_route_total_head_loss_equals_the_grade_lines(name):
         np.testing.assert_allclose(
             route.total_head_loss(flows, props.kinematic_viscosity, rough),
             (g.friction_loss + g.local_loss).sum(axis=1), rtol=1e-12)
+
+
+def test_a_candidate_runs_its_water_hammer_with_walls_no_thinner_than_its_plates():
+    """A candidate whose plates come out thicker than the case's wall is run again with its
+    thickest plate as the wall: a stiffer wall gives a faster wave and, under a quick
+    closure, a larger rise, so a run with the case's thinner wall understated it. The
+    candidate's rise is that of the pipe with its own plates, and above the rise with the
+    case's wall."""
+    import copy
+    import dataclasses
+
+    case, props, *_ = study_parts("millrace-flats-low-head")
+    case = copy.copy(case)
+    case.surge = dict(case.surge, closure_time=0.3, wave_speed=None)   # quick: a matters
+    case.segments = [dataclasses.replace(s, wall_thickness=0.006) for s in case.segments]
+    d, reaches = 2.9, 20
+    head, rise, _, route = sizing._moc_runs(case, props, d, reaches)
+    keep = route.length > 0
+    plate = sizing.wall_on_route(case, props, route.chainage, head, d).reach_plate[keep]
+    assert plate.max() > 0.006            # the plates are thicker than the case's wall
+    thin = sizing.moc_design_head(sizing.uniform_case(case, d), props, reaches)[1]
+    stiff = copy.copy(case)
+    stiff.segments = [dataclasses.replace(s, wall_thickness=float(plate.max()))
+                      for s in case.segments]
+    own = sizing.moc_design_head(sizing.uniform_case(stiff, d), props, reaches)[1]
+    assert rise > thin * 1.01
+    assert rise == pytest.approx(own, rel=1e-9)

@@ -607,8 +607,38 @@ def _moc_design_head(case, props, model, d):
     return model.moc_runs[float(d)]
 
 
+#: Water-hammer runs of a candidate at most: a steel segment whose plates come out
+#: thicker than the wall it ran with is run again with its thickest plate.
+CANDIDATE_WALL_PASSES = 3
+
+
 def _moc_runs(case, props, d, reaches):
-    return moc_design_head(uniform_case(case, d), props, reaches)
+    """The candidate's load rejections with the case's walls (the handling minimum where a
+    segment gives none); where its design head needs thicker plates than a steel
+    segment's wall, run again with the thickest plate as that wall (a stiffer wall gives
+    a faster wave and a larger rise; the walls only grow, so the rise stays on the safe
+    side of the wall priced)."""
+    c = uniform_case(case, d)
+    for _ in range(CANDIDATE_WALL_PASSES):
+        out = moc_design_head(c, props, reaches)
+        if case.surge["wave_speed"] is not None:
+            break   # a given wave speed does not depend on the wall
+        head, _, _, route = out
+        keep = route.length > 0
+        plate = wall_on_route(c, props, route.chainage, head, d).reach_plate[keep]
+        thick = np.zeros(len(c.segments))
+        np.maximum.at(thick, route.element_segment[keep], plate)
+        walls = [s.wall_thickness if s.wall_thickness is not None else
+                 float(pipewall.minimum_handling_thickness(d)) for s in c.segments]
+        steel = [s.material in STEEL_PIPE_MATERIALS for s in c.segments]
+        if all(t <= w * (1 + 1e-9) or not st
+               for t, w, st in zip(thick, walls, steel, strict=True)):
+            break
+        c = copy.copy(c)
+        c.segments = [dataclasses.replace(s, wall_thickness=max(w, float(t)) if st else
+                                          s.wall_thickness)
+                      for s, t, w, st in zip(c.segments, thick, walls, steel, strict=True)]
+    return out
 
 
 def moc_design_head(c, props, reaches):
