@@ -451,7 +451,9 @@ def run(case, props, steady, prod, model, steel, reaches, warns, methods):
                           key=lambda r: r["annual"])
         feasible = [r for r in screened if r["feasible"]]
         if not feasible:
-            top = MATERIALS[FAMILIES[family]["material"]].pressure_class_labels[-1]
+            offered = [sz for sz in near] or sizes(family, case, props)
+            top = max((sz.labels[-1] for sz in offered),
+                      key=lambda lab: float(lab.lstrip("CPN"))) if offered else "none"
             warns.append(Warning_("diameter study", f"no {name} size near the sweep's range "
                                   f"({say.m(lo * RANGE_BELOW, 3)} to {say.m(hi * RANGE_ABOVE, 3)}) "
                                   f"carries the design pressure head with a class up to {top}, "
@@ -472,7 +474,9 @@ def run(case, props, steady, prod, model, steel, reaches, warns, methods):
                                   f" cheapest {name} sizes passes the checks (the cheapest, "
                                   f"{best['size']}, fails {best['governing check']})"))
         rows.append(best)
-    default = [f for f in others if case.diameter_study.get(PRICE_KEYS[f]) is None]
+    shown = {row["material"] for row in rows}
+    default = [f for f in others if case.diameter_study.get(PRICE_KEYS[f]) is None
+               and FAMILIES[f]["name"] in shown]
     if default:
         warns.append(Warning_("diameter study", "the prices of "
                               + " and ".join(FAMILIES[f]["name"] for f in default)
