@@ -27,6 +27,7 @@ from penstock.hydrology import (
 from penstock.turbines import TURBINE_TYPES, dispatch, efficiency_function
 
 __all__ = [
+    "LEAST_NET_HEAD_FRACTION",
     "PlantOperation",
     "EnergySummary",
     "hydraulic_power",
@@ -40,6 +41,11 @@ __all__ = [
     "net_head",
     "design_flow_study",
 ]
+
+#: Least share of the gross head a penstock must leave as net head at a design flow for the
+#: plant to be worth studying there: a pipe losing more is refused (common practice for a
+#: screening bound, not a design rule; an economic pipe loses a few per cent). [-]
+LEAST_NET_HEAD_FRACTION = 0.05
 
 
 def hydraulic_power(flow, net_head, density):

@@ -26,6 +26,7 @@ from penstock.constants import GRAVITY
 from ._numeric import same_kind as _restore_kind
 
 __all__ = [
+    "material_growth_rate",
     "FRICTION_METHODS",
     "GROWTH_RATES",
     "LAMINAR_LIMIT",
@@ -818,6 +819,40 @@ GROWTH_RATES: dict[str, float] = {
     "appreciable": 0.2e-3,
     "severe": 0.6e-3,
 }
+
+
+def material_growth_rate(material, years):
+    r"""Linear roughness growth rate that takes a pipe material from its new to its aged
+    roughness of the table (:func:`material_roughness`) in ``years``.
+
+    Parameters
+    ----------
+    material : str
+        A material of the roughness table. [-]
+    years : float
+        Years to reach the aged value (a service life), > 0. [year]
+
+    Returns
+    -------
+    float
+        Growth rate for :func:`aged_roughness`. [m/year]
+
+    Notes
+    -----
+    .. math:: \alpha = (\varepsilon_{aged} - \varepsilon_{new}) / t
+
+    the straight line of :func:`aged_roughness` through the table's two values.
+
+    References
+    ----------
+    .. [1] Colebrook, C. F. and White, C. M., "The reduction of carrying capacity of pipes
+       with age", *Journal of the Institution of Civil Engineers* 7(1), 99-118, 1937
+       (roughness growing linearly with age).
+    """
+    if not years > 0:
+        raise ValueError(f"years must be > 0, got {years!r}.")
+    return (material_roughness(material, "aged") - material_roughness(material, "new")) \
+        / float(years)
 
 
 def aged_roughness(roughness, age, growth_rate):

@@ -754,7 +754,7 @@ DEFAULT_POISSON_RATIO = 0.3
 
 
 def pipe_wall_poisson_ratio(pipe_material):
-    """Poisson ratio of a pipe wall, by the case's pipe material name.
+    r"""Poisson ratio of a pipe wall, by the case's pipe material name.
 
     Parameters
     ----------

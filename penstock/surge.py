@@ -345,6 +345,39 @@ def allievi_rise_capped(length, velocity, static_head, closure_time, wave_speed)
                       velocity, static_head, closure_time, wave_speed)
 
 
+def linear_design_head(static_head, rise, fraction_along):
+    r"""Design pressure head for screening: the static head plus the valve's rise, falling
+    linearly to nothing at the reservoir.
+
+    Parameters
+    ----------
+    static_head : array_like
+        Static pressure head at each station. [m]
+    rise : numeric or array_like
+        Largest rise at the valve (e.g. :func:`allievi_rise_capped`); an array of rises
+        gives one line per rise (leading axes). [m]
+    fraction_along : array_like
+        Distance along the pipe from the reservoir as a fraction of its length, 0 to 1,
+        one per station. [-]
+
+    Returns
+    -------
+    numpy.ndarray
+        :math:`h_s + \Delta H \, s / L` at each station (and each rise). [m]
+
+    Notes
+    -----
+    For a closure slower than the pipe period the rise of Allievi's theory falls about
+    linearly from the valve to the reservoir, where the level holds it at zero; the
+    straight line is the usual screening envelope (common practice). The tool's
+    method-of-characteristics envelopes replace it for every design it reports.
+    """
+    s = np.asarray(fraction_along, dtype=float)
+    if np.any((s < -1e-12) | (s > 1 + 1e-12)):
+        raise ValueError("fraction_along must lie in [0, 1].")
+    return np.asarray(static_head, float) + np.asarray(rise, float)[..., None] * s
+
+
 def allievi_min_head(length, velocity, static_head, opening_time):
     """Minimum valve head for a slow uniform gate opening, rigid-column closed form.
 

@@ -476,3 +476,16 @@ def test_docstring_examples_run():
     result = doctest.testmod(friction, optionflags=doctest.ELLIPSIS)
     assert result.attempted >= 5
     assert result.failed == 0
+
+
+def test_material_growth_rate_reaches_the_aged_roughness():
+    """The linear rate takes the table's new roughness to its aged value in the years
+    given (the roughness table's two columns)."""
+    from penstock.friction import aged_roughness, material_growth_rate, material_roughness
+
+    for m in ("welded_steel", "ductile_iron_en545", "hdpe"):
+        rate = material_growth_rate(m, 40.0)
+        assert float(aged_roughness(material_roughness(m, "new"), 40.0, rate)) == \
+            pytest.approx(material_roughness(m, "aged"), rel=1e-12)
+    with pytest.raises(ValueError, match="years"):
+        material_growth_rate("hdpe", 0.0)

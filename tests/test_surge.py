@@ -186,3 +186,16 @@ def test_allievi_rise_capped_by_joukowsky():
     assert slow == pytest.approx(surge.allievi_max_head(1000.0, 3.0, 200.0, 60.0) - 200.0)
     fast = surge.allievi_rise_capped(1000.0, 3.0, 200.0, 0.01, 1000.0)
     assert fast == pytest.approx(1000.0 * 3.0 / GRAVITY, rel=1e-12)
+
+
+def test_linear_design_head_is_static_at_the_reservoir_and_full_rise_at_the_valve():
+    from penstock.surge import linear_design_head
+
+    static = np.array([5.0, 50.0, 120.0])
+    s = np.array([0.0, 0.4, 1.0])
+    h = linear_design_head(static, 30.0, s)
+    assert h == pytest.approx([5.0, 62.0, 150.0])
+    both = linear_design_head(static[None, :], np.array([30.0, 10.0]), s)
+    assert both.shape == (2, 3) and both[1] == pytest.approx([5.0, 54.0, 130.0])
+    with pytest.raises(ValueError, match="fraction_along"):
+        linear_design_head(static, 1.0, np.array([0.0, 0.5, 1.2]))

@@ -27,15 +27,13 @@ import numpy as np
 import pandas as pd
 
 from .. import diameter as dia
+from .. import energy
 from ..constants import J_PER_KWH, J_PER_MWH
 from ..route import build_route
 from .core import Say, Warning_
 
 #: Diameters of the grid (geometric, over the diameter study's sweep range).
 N_DIAMETERS = 30
-#: Least share of the gross head a pipe must leave at the maximum plant flow to carry a
-#: design flow (the design-flow study's rule). [-]
-CARRY_FRACTION = 0.05
 
 
 def run(case, props, prod, model, warns, methods, selected=None, diameters=None):
@@ -78,7 +76,7 @@ def run(case, props, prod, model, warns, methods, selected=None, diameters=None)
     # design flow (the design-flow study's own rule)
     gross = prod.headline.gross_head
     carries = np.array([model.loss_on_grid(di, qd * ratio) for di in d]).T < \
-        (1.0 - CARRY_FRACTION) * gross
+        (1.0 - energy.LEAST_NET_HEAD_FRACTION) * gross
     e = np.where(carries, e, np.nan)
     value = np.where(carries, value, np.nan)
     ok = carries & (margin >= 0)

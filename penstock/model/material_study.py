@@ -180,8 +180,8 @@ def roughness(case, family):
     """The family's new roughness [m] and the linear growth rate [m/year] that takes it to
     the roughness table's aged value at the end of the case's service life."""
     pm = FAMILIES[family]["pipe_material"]
-    new = friction.material_roughness(pm, "new")
-    return new, (friction.material_roughness(pm, "aged") - new) / case.service_life
+    return (friction.material_roughness(pm, "new"),
+            friction.material_growth_rate(pm, case.service_life))
 
 
 def _modulus(family):
@@ -243,7 +243,8 @@ def screening_classes(ctx, family, size, rise):
     along the pipe, no lighter than the lightest class that stands full vacuum -> (class
     index per reach, ``len(classes)`` beyond the highest; index of that lightest class)."""
     least, _ = _least_for_vacuum(ctx, family, size)
-    head = ctx.hw_top - (ctx.z - 0.5 * float(size.bore[-1])) + rise * ctx.s
+    head = surge.linear_design_head(ctx.hw_top - (ctx.z - 0.5 * float(size.bore[-1])), rise,
+                                    ctx.s)
     k, _ = _classes(ctx, size, head, least)
     return k, least
 

@@ -62,8 +62,9 @@ def design_heads(case, steady):
 
 
 def check_design_head(case, gross, net, loss):
-    """Refuse a design flow whose penstock loss leaves 5 % of the gross head or less."""
-    if net <= 0.05 * gross:
+    """Refuse a design flow whose penstock loss leaves 5 % of the gross head or less
+    (:data:`penstock.energy.LEAST_NET_HEAD_FRACTION`)."""
+    if net <= energy.LEAST_NET_HEAD_FRACTION * gross:
         raise CaseError(CASE_FILE, "flows.design", f"the penstock loses {loss:.1f} m of "
                         f"the {gross:.1f} m gross head at the design flow "
                         f"{case.design_flow:.4g} m^3/s; expected a smaller design flow or a "
@@ -193,7 +194,8 @@ def run(case, props, steady, warns, methods, tick) -> dict:
     usable = np.maximum(river - residual.to_numpy(), 0.0)
     q_study = np.atleast_1d(hydrology.flow_at_exceedance(usable, p_study))
     # keep the design flows the pipe can carry with head to spare (5 % of the gross head)
-    feasible = (q_study > 0) & (h_design - total_loss(q_study) > 0.05 * h_design)
+    feasible = (q_study > 0) & (h_design - total_loss(q_study)
+                                > energy.LEAST_NET_HEAD_FRACTION * h_design)
     if not feasible.all():
         warns.append(Warning_("design-flow study", f"{int((~feasible).sum())} of the design "
                               "flows from Q10 to Q60 are left out: zero (the river is below the "

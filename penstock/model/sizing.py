@@ -259,8 +259,8 @@ class DiameterModel:
         static = self.case.headwater - z
         if rise is None:
             rise = self.allievi_rise(d, flow)
-        s = self._s_nodes / self._s_nodes[-1]
-        return static[None, :] + np.asarray(rise, float)[..., None] * s
+        return surge.linear_design_head(static[None, :], rise,
+                                        self._s_nodes / self._s_nodes[-1])
 
     def allievi_rise(self, d, flow=None):
         """Allievi's slow-closure rise, at most Joukowsky's (rapid closure governs), from
