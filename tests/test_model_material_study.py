@@ -13,6 +13,8 @@ import re
 import numpy as np
 import pytest
 from conftest import copy_demo, edit_file
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 import penstock
 from penstock import pipeclasses
@@ -88,11 +90,26 @@ def test_material_design_passes_the_tools_checks_as_its_own_case(demo_run, demo,
     assert (own.own_wall_checks["verdict"] == "passes").all()
 
 
-def test_a_higher_head_never_takes_a_lighter_class():
-    heads = np.array([40.0, 64.0, 100.0, 160.0])
-    low = pipeclasses.reach_classes([10, 50, 90], heads)
-    high = pipeclasses.reach_classes([20, 70, 150], heads)
-    assert np.all(high >= low)
+@settings(max_examples=200, deadline=None)
+@given(st.lists(st.floats(-50.0, 400.0), min_size=2, max_size=30),
+       st.lists(st.floats(0.0, 100.0), min_size=2, max_size=30), st.integers(0, 9))
+def test_a_higher_head_never_takes_a_lighter_class(head, extra, least):
+    """Each reach's class carries both its ends' heads, is the lowest that does (or the
+    least allowed), and a higher head anywhere never lowers a class."""
+    mat = MATERIALS["hdpe_pe100"]
+    classes = np.asarray(pipeclasses.rated_head(np.asarray(mat.pressure_classes), 998.0))
+    h = np.asarray(head)
+    more = h + np.resize(np.asarray(extra), h.size)
+    k = pipeclasses.reach_classes(h, classes, least)
+    assert np.all(pipeclasses.reach_classes(more, classes, least) >= k)
+    need = np.maximum(h[:-1], h[1:])
+    top = classes.size
+    inside = k < top
+    assert np.all(classes[k[inside]] >= need[inside] - 1e-9)
+    below = inside & (k > least)
+    assert np.all(classes[k[below] - 1] < need[below])     # the lowest that carries it
+    # beyond: above the highest class, or no class allowed at all (none stands vacuum)
+    assert np.all((need[~inside] > classes[-1] - 1e-9) | (least >= top))
 
 
 def test_the_case_restricts_the_materials(demo_run):
