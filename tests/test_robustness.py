@@ -657,7 +657,20 @@ def check_invariants(case, r):
         for name in ("diameter_sweep", "diameter_candidates"):
             df = tables[name]
             bound = joukowsky_wall_bound(case, r, df["diameter [m]"].to_numpy())
-            assert np.all(df["thickest plate [mm]"].to_numpy() <= 1e3 * bound + 1e-9), name
+            within = df["thickest plate [mm]"].to_numpy() <= 1e3 * bound + 1e-9
+            if name == "diameter_candidates":
+                # a candidate whose water hammer reaches vapour pressure has its envelope
+                # marked not physical there (no column-separation model yet): the rejoin
+                # of its floored heads can lift the rise past Joukowsky's, so its wall,
+                # designed on the safe side of that, is outside the bound's premise
+                from penstock import water
+
+                props = water.water_properties(case.temperature, case.altitude)
+                floor = props.vapour_head - props.atmospheric_head
+                vapour = df["minimum transient pressure head at the crown, minimum "
+                            "headwater [m]"].to_numpy() <= floor + 1e-6
+                within |= vapour
+            assert np.all(within), name
 
 
 def joukowsky_wall_bound(case, r, diameters):
